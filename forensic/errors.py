@@ -1,0 +1,105 @@
+"""The one exception hierarchy of ``forensic``.
+
+Every error the library raises on purpose is a :class:`ForensicError`, and
+each also subclasses the nearest builtin, so callers may catch either. The
+command line turns any of them into ``Error: ...`` and exit status 1.
+
+Errors about input carry *where* (file, line or manifest key) and *what*
+(the offending value) as structured data, and a message that says what was
+expected.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+__all__ = [
+    "CasefileError",
+    "ForensicError",
+    "InputProblem",
+    "LimitExceeded",
+    "LogicLoopError",
+    "NotFoundError",
+    "OutputError",
+    "ScheduleError",
+]
+
+
+class ForensicError(Exception):
+    """Base class of every error raised on purpose by ``forensic``."""
+
+
+@dataclass(frozen=True, slots=True)
+class InputProblem:
+    """One problem found in a casefile: where it is, the value, what was expected.
+
+    ``file`` is the path relative to the casefile folder (or the manifest's
+    name); ``line`` is the 1-based line number in that file, or ``None`` when
+    the problem is tied to a manifest key (given in ``key``) or to the file as
+    a whole.
+    """
+
+    file: str
+    line: int | None
+    key: str | None
+    value: str | None
+    message: str
+
+    def __str__(self) -> str:
+        where = self.file
+        if self.line is not None:
+            where += f", line {self.line}"
+        if self.key:
+            where += f", {self.key}"
+        shown = "" if self.value is None else f" (value: {self.value!r})"
+        return f"{where}: {self.message}{shown}"
+
+
+class CasefileError(ForensicError, ValueError):
+    """Raised when a casefile is invalid; it is refused whole.
+
+    ``problems`` lists every problem found, each with file, line or key, and
+    value, so the user can fix them all in one pass.
+    """
+
+    def __init__(self, problems: Sequence[InputProblem]):
+        self.problems = tuple(problems)
+        if len(self.problems) == 1:
+            msg = str(self.problems[0])
+        else:
+            msg = f"{len(self.problems)} problems in the casefile:\n" + "\n".join(
+                f"  {p}" for p in self.problems
+            )
+        super().__init__(msg)
+
+
+class LimitExceeded(CasefileError):
+    """Raised when an input exceeds a configured ceiling (file size, activities, links)."""
+
+
+class ScheduleError(ForensicError, ValueError):
+    """Raised when a network cannot be scheduled (for example dates beyond the supported range)."""
+
+
+class LogicLoopError(ScheduleError):
+    """Raised when the links form a loop; ``activities`` lists the loop in order.
+
+    A loop has no critical path method solution (Kelley and Walker 1959
+    assume an acyclic network), so it is an error, never a warning.
+    """
+
+    def __init__(self, activities: Sequence[str], where: str = ""):
+        self.activities = tuple(activities)
+        loop = " -> ".join([*self.activities, self.activities[0]]) if self.activities else ""
+        prefix = f"{where}: " if where else ""
+        msg = f"{prefix}logic loop: {loop}; a loop has no schedule, break one of its links"
+        super().__init__(msg)
+
+
+class NotFoundError(ForensicError, LookupError):
+    """Raised when a snapshot, event, party or activity named by the user does not exist."""
+
+
+class OutputError(ForensicError, OSError):
+    """Raised when an output cannot be written, or would overwrite a casefile input."""
