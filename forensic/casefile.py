@@ -350,9 +350,9 @@ class _Manifest:
 
     # -- tables -------------------------------------------------------------
     def _calendar(self, t: dict, where: str) -> None:
-        self._keys(t, _CALENDAR_KEYS, where)
         cid = self._str(t, "id", where)
         where = f"calendar {cid}" if cid else where
+        self._keys(t, _CALENDAR_KEYS, where)
         days = t.get("workdays")
         names: list[str] = []
         if not isinstance(days, list) or not all(isinstance(d, str) for d in days):
@@ -415,9 +415,9 @@ class _Manifest:
             self.project = Project(name, cal, completion, contract, unit, logic, crit)
 
     def _snapshot(self, t: dict, where: str) -> None:
-        self._keys(t, _SNAPSHOT_KEYS, where)
         sid = self._str(t, "id", where)
         where = f"snapshot {sid}" if sid else where
+        self._keys(t, _SNAPSHOT_KEYS, where)
         if sid is not None and any(s[0] == sid for s in self.snapshot_specs):
             self._bad(f"{where}.id", sid, "duplicate snapshot id")
         role = self._str(t, "role", where, required=False, choices=("baseline", "update"))
