@@ -207,7 +207,11 @@ def read_table(
 def _check_header(header: list[str], line: int, rel: str, required, allowed, problems: Problems) -> bool:
     ok = True
     seen: set[str] = set()
-    for name in header:
+    for number, name in enumerate(header, 1):
+        if not name:
+            problems.add(rel, line, f"column {number}", "", "a column of the header has no name")
+            ok = False
+            continue
         if name in seen:
             problems.add(rel, line, name, name, "column appears twice in the header")
             ok = False

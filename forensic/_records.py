@@ -8,6 +8,7 @@ set off a cascade of "unknown activity" problems elsewhere.
 
 from __future__ import annotations
 
+import re
 from collections.abc import Collection, Mapping
 from dataclasses import dataclass, field
 from datetime import date
@@ -59,6 +60,7 @@ ACTIVITY_COLUMNS = (
     ),
 )
 LINK_COLUMNS = (("pred", "succ"), ("type", "lag"))
+_BLANK = re.compile(r"\s")
 EVENT_COLUMNS = (
     ("id", "title", "party", "start", "finish"),
     ("category", "activities", "fragnet", "reference"),
@@ -118,7 +120,7 @@ def read_activities(
 def _read_activity(row, rel, calendars, parties, data_date, problems, warnings) -> Activity | None:
     line = row.line
     aid = _required(row, "id", rel, problems)
-    if aid is not None and any(ch.isspace() for ch in aid):
+    if aid is not None and _BLANK.search(aid):
         problems.add(rel, line, "id", aid, "an activity id may not contain blanks (events list ids separated by blanks)")
     name = _required(row, "name", rel, problems)
     kind = _choice(row.get("kind") or "task", ACTIVITY_KINDS, rel, line, "kind", problems)

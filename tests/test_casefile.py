@@ -232,6 +232,7 @@ TABLE_CASES = [
     (BL_ACT, "kind,duration,", "kind,", 1, "duration", None, "required column"),
     (BL_ACT, "crash_cost\n", "crash_cost,colour\n", 1, "colour", "colour", "unknown column"),
     (BL_ACT, "area,", "area,area,", 1, "area", "area", "twice"),
+    (BL_ACT, "party,area,", "party,,", 1, "column 12", "", "no name"),
     (BL_ACT, "CON,CIV,0,2,1500\n", "CON,CIV,0,2,1500,extra\n", 3, None, "16", "cells"),
     (BL_LINKS, "A110,A120,SS,3\n", "A110,A120,SS\n", 3, None, "3", "cells"),
     (BL_LINKS, None, 'pred,succ\n"M100,A110\n', 2, None, None, "not valid CSV"),
@@ -393,6 +394,13 @@ def test_fragnet_link_to_an_id_found_nowhere_is_refused(root):
     find_problem(refused(root), FRAG_LINKS, line=2, key="pred", value="A111", says="fragnet or in any snapshot")
 
 
+def test_loop_inside_a_fragnet_is_refused(root):
+    """A fragnet's own links are checked for loops like a snapshot's (Kelley and Walker 1959)."""
+    (root / FRAG_ACT).write_text("id,name,duration\nF10,Pump out,2\nF11,Clean,1\n")
+    (root / FRAG_LINKS).write_text("pred,succ\nF10,F11\nF11,F10\n")
+    find_problem(refused(root), FRAG_LINKS, line=2, value="F10 -> F11 -> F10", says="logic loop")
+
+
 def test_fragnet_folder_without_links_is_refused(root):
     """A fragnet folder holds activities.csv and links.csv (the format)."""
     (root / FRAG_LINKS).unlink()
@@ -440,3 +448,27 @@ def test_casefile_error_is_a_value_error(root):
     with pytest.raises(ValueError):
         load_casefile(root)
     assert issubclass(CasefileError, ValueError)
+
+
+def test_readme_example_casefile_loads(tmp_path):
+    """The small example in casefiles/README.md is a valid casefile (the user documentation holds)."""
+    import re
+    from pathlib import Path
+
+    readme = (Path(__file__).parent.parent / "casefiles" / "README.md").read_text(encoding="utf-8")
+    example = readme.split("## A small example", 1)[1]
+    blocks = dict(re.findall(r"^`([^`]+)`[^\n]*:\n\n```[a-z]*\n(.*?)```", example, flags=re.S | re.M))
+    assert set(blocks) == {TOML, U01_ACT, U01_LINKS, "events.csv"}
+    files = dict(blocks)
+    # The baseline: the same activities before any progress.
+    header, *rows = blocks[U01_ACT].splitlines()
+    files[BL_ACT] = "\n".join([header] + [",".join(r.split(",")[:4] + ["", "", ""] + r.split(",")[7:])
+                                         for r in rows]) + "\n"
+    files[BL_LINKS] = blocks[U01_LINKS]
+    for rel, text in files.items():
+        (tmp_path / rel).parent.mkdir(parents=True, exist_ok=True)
+        (tmp_path / rel).write_text(text, encoding="utf-8")
+    cf = load_casefile(tmp_path)
+    assert [s.id for s in cf.snapshots] == ["BL", "U01"]
+    assert cf.snapshot("U01").activities["A120"].remaining == 2  # as written in the example
+    assert cf.events[0].category == "excusable-compensable"  # owner's role (the format)
