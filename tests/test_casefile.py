@@ -119,6 +119,14 @@ def test_in_progress_activity_without_remaining_is_refused(root):
     find_problem(refused(root), U01_ACT, line=4, key="remaining", value="", says="in progress")
 
 
+def test_in_progress_with_nothing_remaining_is_a_warning(root):
+    """Remaining 0 without an actual finish loads, with a warning (common practice: a likely missing finish)."""
+    edit(root, U01_ACT, "A120,Pour base slab,,5,2,", "A120,Pour base slab,,5,0,")
+    cf = load_casefile(root)
+    assert cf.snapshot("U01").activities["A120"].remaining == 0
+    assert f"{U01_ACT}, line 4: activity A120 is in progress with remaining 0 and no actual_finish" in cf.warnings
+
+
 # -- manifest problems -----------------------------------------------------------
 
 MANIFEST_CASES = [
