@@ -1,0 +1,46 @@
+"""``forensic demo``: copy the demo casefile and run the main job on it."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from ..demo import copy_demo
+from ..engine import schedule_snapshot
+from ..validation import validate_casefile
+from ._base import main
+from ._common import load
+
+
+@main.command()
+@click.option(
+    "--out",
+    type=click.Path(file_okay=False, path_type=Path),
+    default=Path("forensic-demo"),
+    show_default=True,
+    help="Folder to copy the demo casefile into.",
+)
+def demo(out: Path) -> None:
+    """Copy the demo casefile to a folder and run the main job on it.
+
+    Nothing is written inside the installed package; the copy is yours to
+    read, change and re-run.
+
+    Example: forensic demo --out /tmp/forensic-demo
+
+    """
+    folder = copy_demo(out)
+    click.echo(f"Demo casefile copied to {folder}")
+    cf = load(folder)
+    result = validate_casefile(cf)
+    click.echo(f"{cf.project.name}: valid, {len(cf.snapshots)} snapshots, {len(result.warnings)} warning(s).")
+    base = result.schedules[0]
+    last = schedule_snapshot(cf, cf.snapshots[-1].id)
+    click.echo(f"Baseline {cf.baseline.id} forecasts completion on {base.completion.isoformat()}.")
+    click.echo(
+        f"Latest update {last.snapshot_id} (data date {last.data_date.isoformat()}) forecasts "
+        f"{last.completion.isoformat()}, {(last.completion - base.completion).days} calendar days later."
+    )
+    click.echo("Longest path now: " + " -> ".join(last.longest_path))
+    click.echo(f"Next: forensic schedule {folder} --snapshot {last.snapshot_id}")

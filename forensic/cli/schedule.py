@@ -1,0 +1,52 @@
+"""``forensic schedule``: the critical path of one snapshot."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from ..engine import schedule_snapshot
+from ..tables import dumps_json, schedule_json, schedule_table, to_csv, to_text
+from ._base import main
+from ._common import casefile_argument, emit, format_options, load, pick_format
+
+
+@main.command("schedule")
+@casefile_argument
+@click.option("--snapshot", "snapshot_id", metavar="ID", help="Snapshot to schedule (default: the latest).")
+@format_options
+def schedule_command(casefile: Path, snapshot_id: str | None, as_json: bool, as_csv: bool) -> None:
+    """Schedule one snapshot of CASEFILE by the critical path method.
+
+    Prints early and late dates, total and free float (working days of each
+    activity's calendar), the critical flag, the driving predecessors and the
+    longest path traced back from the completion (AACE RP 49R-06).
+
+    Example: forensic schedule casefiles/riverside --snapshot U03 --json
+
+    """
+    cf = load(casefile)
+    snap = cf.snapshot(snapshot_id) if snapshot_id else cf.snapshots[-1]
+    result = schedule_snapshot(cf, snap.id)
+    fmt = pick_format(as_json, as_csv)
+    if fmt == "json":
+        emit(dumps_json(schedule_json(result)))
+        return
+    table = schedule_table(result, snap)
+    if fmt == "csv":
+        emit(to_csv(table))
+        return
+    p = cf.project
+    click.echo(f"{p.name}: snapshot {snap.id}, data date {snap.data_date.isoformat()}")
+    line = f"Forecast completion ({result.completion_id}): {result.completion.isoformat()}"
+    if result.completion_float is not None:
+        line += f", total float {result.completion_float} working days"
+    click.echo(line)
+    if p.contract_completion is not None:
+        late = (result.completion - p.contract_completion).days
+        where = f"{abs(late)} calendar days {'after' if late > 0 else 'before'} it" if late else "on it"
+        click.echo(f"Contract completion: {p.contract_completion.isoformat()} (forecast {where})")
+    click.echo("Dates are inclusive working days; floats in working days of each activity's calendar.\n")
+    emit(to_text(table))
+    click.echo(f"\nLongest path ({len(result.longest_path)} activities): " + " -> ".join(result.longest_path))

@@ -1,0 +1,61 @@
+"""The demo casefile shipped with the project, and copying it for a user.
+
+The demo lives in the repository's ``casefiles/`` folder (an invented
+project; its README tells the story). ``forensic demo`` copies it to a
+folder of the user's choice and runs the main job there, so nothing is ever
+written inside the installed package.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import shutil
+from pathlib import Path
+
+from .errors import NotFoundError, OutputError
+
+__all__ = ["DEMO_NAME", "copy_demo", "demo_source"]
+
+DEMO_NAME = "riverside"
+
+
+def demo_source() -> Path:
+    """The folder of the demo casefile in the project's ``casefiles/``."""
+    here = Path(__file__).resolve().parent.parent / "casefiles" / DEMO_NAME
+    if not (here / "casefile.toml").is_file():
+        msg = (
+            f"the demo casefile was not found at {here}; install the project from its "
+            "source folder (pip install -e .) so that casefiles/ is beside the package"
+        )
+        raise NotFoundError(msg)
+    return here
+
+
+def _digest(folder: Path) -> dict[str, str]:
+    return {
+        str(p.relative_to(folder)): hashlib.sha256(p.read_bytes()).hexdigest()
+        for p in sorted(folder.rglob("*"))
+        if p.is_file() and "__pycache__" not in p.parts
+    }
+
+
+def copy_demo(out: Path) -> Path:
+    """Copy the demo casefile to ``out/<name>`` and return that folder.
+
+    A folder that already holds an unchanged copy is reused; one that holds
+    anything else is never overwritten (an :class:`OutputError` says so).
+    """
+    src = demo_source()
+    dest = out / DEMO_NAME
+    if dest.exists():
+        if _digest(dest) == _digest(src):
+            return dest
+        msg = f"{dest} already exists and is not an unchanged copy of the demo; choose another --out"
+        raise OutputError(msg)
+    out.mkdir(parents=True, exist_ok=True)
+    tmp = out / f".{DEMO_NAME}.part"
+    if tmp.exists():
+        shutil.rmtree(tmp)
+    shutil.copytree(src, tmp, ignore=shutil.ignore_patterns("__pycache__", "*.pyc"))
+    tmp.rename(dest)
+    return dest
