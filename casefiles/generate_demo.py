@@ -1,4 +1,4 @@
-"""Generate the demo casefile ``casefiles/merrowby-library/``.
+"""Generate the demo casefile ``casefiles/riverside/``.
 
 The project, the town, the river and every party are invented for this
 tool: the Merrowby Riverside Library and Civic Hall, built for Merrowby
@@ -21,7 +21,7 @@ How the record is made
 Everything is deterministic (no randomness), so running the script again
 reproduces the committed files byte for byte::
 
-    python casefiles/generate_demo.py            # rewrites casefiles/merrowby-library
+    python casefiles/generate_demo.py            # rewrites casefiles/riverside
     python casefiles/generate_demo.py --out DIR  # writes the casefile into DIR
 
 The story (what happened each month and what the analyses should find) is
@@ -48,7 +48,7 @@ from forensic.model import Activity, Calendar, Link, Project, Snapshot, frozen_m
 
 __all__ = ["NAME", "generate", "main"]
 
-NAME = "merrowby-library"
+NAME = "riverside"
 PROJECT_NAME = "Merrowby Riverside Library and Civic Hall"
 COMPLETION = "M900"
 CONTRACT_COMPLETION = date(2027, 6, 10)
