@@ -552,7 +552,7 @@ EVENTS = (
      date(2026, 4, 14), date(2026, 4, 24), ("HALL-SUB-PILE", "LIB-SUB-PILE"), None,
      "River gauge record; site diary 14-24 April"),
     ("EV03", "Change order CO-01: climate-controlled local-history archive on library level 3",
-     "OWN", CO1_DATE, date(2026, 8, 8), ("CO1-DES", "CO1-STR", "LIB-L3-COL"), "fragnets/EV03",
+     "OWN", CO1_DATE, date(2026, 8, 8), ("CO1-DES", "CO1-STR", "LIB-L3-COL"), "EV03",
      "Instruction CO-01, 8 July 2026"),
     ("EV04", "Tower crane slewing-ring failure: hall roof deck lifting stopped", "CON",
      date(2026, 7, 16), date(2026, 8, 7), ("HALL-FRM-DECK",), None, "Crane hire report CR-3"),
@@ -566,7 +566,7 @@ EVENTS = (
      date(2026, 6, 8), date(2026, 7, 17), ("LIB-L1-COL", "LIB-L1-SLB"),
      None, "Progress meeting minutes 5-6"),
     ("EV07", "Utility's incoming cable route blocked; cable redesigned and relaid", "UTL",
-     UTL_DATE, date(2027, 1, 29), ("UTL-RTE", "UTL-CBL", "SYS-ENG"), "fragnets/EV07",
+     UTL_DATE, date(2027, 1, 29), ("UTL-RTE", "UTL-CBL", "SYS-ENG"), "EV07",
      "Utility notice SVPN-2231"),
     ("EV08", "Prolonged frost: external paving and concrete stopped", "WX",
      date(2026, 11, 23), date(2026, 12, 4), ("RIV-PAV",), None, "Weather station record"),
@@ -837,8 +837,24 @@ def _events_csv() -> str:
     return _csv(rows, EVENT_COLUMNS)
 
 
-def _fragnet_files(eid: str) -> dict[str, str]:
+def fragnet_as_filed(eid: str) -> _Net:
+    """The fragnet as written to ``fragnets/<eid>/``: its activities renamed ``<eid>-...``.
+
+    A fragnet models the event prospectively, so its activities carry ids of
+    their own; the work the programme later takes in (``CO1-...``, ``UTL-...``)
+    keeps the contractor's ids.
+    """
     frag = FRAGNETS[eid]["build"]()
+    rename = {aid: f"{eid}-{aid.split('-', 1)[1]}" for aid in frag.acts}
+    out = _Net()
+    for aid, spec in frag.acts.items():
+        out.acts[rename[aid]] = {**spec, "id": rename[aid]}
+    out.links = [(rename.get(p, p), rename.get(q, q), t, lag) for p, q, t, lag in frag.links]
+    return out
+
+
+def _fragnet_files(eid: str) -> dict[str, str]:
+    frag = fragnet_as_filed(eid)
     acts = [_activity(spec, remaining=spec["duration"], percent_complete=0.0)
             for spec in frag.acts.values()]
     links = [Link(p, s, t, lag) for p, s, t, lag in frag.links]
@@ -867,7 +883,7 @@ def tia_delay(snaps: dict[str, Snapshot], eid: str) -> int:
     """Calendar days the fragnet of ``eid`` adds to its update's completion (a plain insertion)."""
     spec = FRAGNETS[eid]
     snap = snaps[spec["tia_update"]]
-    frag = spec["build"]()
+    frag = fragnet_as_filed(eid)
     acts = dict(snap.activities)
     acts.update({k: _activity(v, remaining=v["duration"]) for k, v in frag.acts.items()})
     links = snap.links + tuple(Link(p, s, t, lag) for p, s, t, lag in frag.links)

@@ -159,7 +159,7 @@ def test_fragnet_ties_into_activities_of_its_update(eid):
         ties += bool({link["pred"], link["succ"]} & update)
     assert ties >= 2
     events = {r["id"]: r for r in _rows("events.csv")}
-    assert events[eid]["fragnet"] == spec["folder"]
+    assert spec["folder"] == f"fragnets/{events[eid]['fragnet']}"
 
 
 def test_owner_change_fragnet_delays_and_utility_fragnet_is_absorbed(snaps):
