@@ -509,38 +509,37 @@ FRAGNETS = {
 MONTHS = (
     ("BL", BL_DATE, "Baseline accepted with the contract. The critical path runs through the "
      "civic hall (piling, steel frame, cladding, interior) into commissioning; the library "
-     "wing has a little float and the river terrace a good deal."),
+     "wing has 10 days of float, the river terrace 36 against its key date."),
     ("U01", date(2026, 4, 7), "Site set up; the old boat store came down faster than planned "
-     "(7 days instead of 10), so piling started early. No delay."),
+     "(7 days instead of 10) and the hall steelwork design was early. No delay."),
     ("U02", date(2026, 5, 5), "The Sallow flooded the site from 14 to 24 April (EV02, "
-     "exceptional weather): hall piling stopped; the library piling on higher ground went on. The "
+     "exceptional weather): all piling stopped, the hall path slips two weeks. The "
      "employer's review of the facade design ran long (EV01), absorbed by float."),
-    ("U03", date(2026, 6, 1), "Library piling finished early; the contractor poured the "
-     "library ground slab while the lift pits were still being built (out-of-sequence "
-     "progress). River wall piling started slowly (EV06)."),
-    ("U04", date(2026, 7, 6), "Hall frame under way on the critical path. The library frame "
-     "climbs level by level. On 8 July (after this data date) the council orders the "
+    ("U03", date(2026, 6, 1), "The contractor poured the library ground slab while the lift "
+     "pits were still being built (out-of-sequence progress). River wall piling started "
+     "slowly (EV06) and the river terrace starts to lose float."),
+    ("U04", date(2026, 7, 6), "The library frame gang is short of formwork (EV09) and the "
+     "library float is nearly gone. On 8 July (after this data date) the council orders the "
      "archive room, change order CO-01: fragnet fragnets/EV03 is inserted here for the "
      "time impact analysis."),
     ("U05", date(2026, 8, 3), "Concurrency: the council's archive redesign (EV03) holds the "
      "library level 3 frame while the contractor's tower crane failure (EV04) stops the hall "
-     "roof deck. Two parallel paths, one owner delay and one contractor delay, at the same "
-     "time. The level 2 slab finish is reported two days early (corrected in U06). CO-01 "
-     "now in the programme."),
-    ("U06", date(2026, 9, 7), "Library frame and change work complete late; the critical path "
-     "now runs through the library wing. Logic revision: a second drylining gang lets level 3 "
-     "follow level 1 instead of level 2. The level 2 slab's actual finish is corrected."),
+     "roof deck, both from 16 July to 7 August. CO-01 is now in the programme. The roof "
+     "trusses' actual finish is reported two days early."),
+    ("U06", date(2026, 9, 7), "Hall and library paths both critical. Logic revision: a second "
+     "drylining gang lets library level 3 follow level 1 instead of level 2. The trusses' "
+     "actual finish is corrected."),
     ("U07", date(2026, 10, 5), "Duration revision: the contractor re-plans the library "
      "curtain wall (15 to 20 days an elevation) and HVAC commissioning (15 to 20). The "
-     "drylining subcontractor is under-resourced (EV05). River wall float keeps falling."),
+     "critical path now runs through the library wing alone."),
     ("U08", date(2026, 11, 2), "The utility gives notice (26 October) that the incoming cable "
      "route is blocked (EV07, neutral): fragnet fragnets/EV07 is inserted here for the time "
-     "impact analysis. Library fit-out slow; river terrace still slipping."),
+     "impact analysis. The curtain wall installer is short of labour (EV05)."),
     ("U09", date(2026, 12, 7), "Cable re-routing in the programme. Frost stops the terrace "
-     "paving (EV08, exceptional weather). The river terrace path has lost its float."),
-    ("U10", date(2027, 1, 4), "After the Christmas shutdown: library fit-out and the river "
-     "terrace both drive completion; practical completion is forecast late against the "
-     "contract date."),
+     "drainage (EV08, exceptional weather). The river terrace path has lost its float."),
+    ("U10", date(2027, 1, 4), "After the Christmas shutdown: the library curtain wall still "
+     "late; practical completion is forecast 43 days after the contract date, and the river "
+     "terrace is behind its key date."),
 )
 UPDATES = tuple(m[0] for m in MONTHS[1:])
 
@@ -552,15 +551,16 @@ EVENTS = (
      date(2026, 4, 14), date(2026, 4, 24), ("HALL-SUB-PILE", "LIB-SUB-PILE"), None,
      "River gauge record; site diary 14-24 April"),
     ("EV03", "Change order CO-01: climate-controlled local-history archive on library level 3",
-     "OWN", CO1_DATE, date(2026, 8, 8), ("CO1-DES", "CO1-STR", "LIB-L3-COL"), "EV03",
+     "OWN", CO1_DATE, date(2026, 8, 24), ("CO1-DES", "CO1-STR", "LIB-L3-COL"), "EV03",
      "Instruction CO-01, 8 July 2026"),
     ("EV04", "Tower crane slewing-ring failure: hall roof deck lifting stopped", "CON",
      date(2026, 7, 16), date(2026, 8, 7), ("HALL-FRM-DECK",), None, "Crane hire report CR-3"),
-    ("EV05", "Drylining subcontractor under-resourced in the library", "CON",
-     date(2026, 9, 14), date(2026, 12, 18), ("LIB-L0-DRY", "LIB-L1-DRY", "LIB-L2-DRY"), None,
+    ("EV05", "Curtain wall installer short of labour on the library", "CON",
+     date(2026, 10, 22), date(2027, 1, 7),
+     ("LIB-ENV-CW-N", "LIB-ENV-CW-E", "LIB-ENV-CW-S", "LIB-ENV-CW-W"), None,
      "Progress meeting minutes 7-10"),
     ("EV06", "River wall piling subcontractor: low output and rig breakdowns", "CON",
-     date(2026, 6, 1), date(2026, 10, 30), ("RIV-SHP-1", "RIV-SHP-2", "RIV-SHP-3", "RIV-ANC"),
+     date(2026, 6, 1), date(2026, 9, 21), ("RIV-SHP-1", "RIV-SHP-2", "RIV-SHP-3", "RIV-ANC"),
      None, "Progress meeting minutes 4-8"),
     ("EV09", "Library frame gang short of formwork: levels 1 and 2 slow", "CON",
      date(2026, 6, 8), date(2026, 7, 17), ("LIB-L1-COL", "LIB-L1-SLB"),
@@ -568,9 +568,11 @@ EVENTS = (
     ("EV07", "Utility's incoming cable route blocked; cable redesigned and relaid", "UTL",
      UTL_DATE, date(2027, 1, 29), ("UTL-RTE", "UTL-CBL", "SYS-ENG"), "EV07",
      "Utility notice SVPN-2231"),
-    ("EV08", "Prolonged frost: external paving and concrete stopped", "WX",
-     date(2026, 11, 23), date(2026, 12, 4), ("RIV-PAV",), None, "Weather station record"),
+    ("EV08", "Prolonged frost: external drainage and concrete stopped", "WX",
+     date(2026, 11, 23), date(2026, 12, 4), ("RIV-DRN",), None, "Weather station record"),
 )
+
+EVENTS = tuple(sorted(EVENTS))
 
 # Programme revisions (the contractor's own changes to the plan), by update.
 LOGIC_REVISIONS = {
@@ -593,14 +595,14 @@ AS_BUILT_DURATIONS = {
     "HALL-SUB-PILE": 40,  # EV02: 10 working days lost to the flood
     "RIV-SHP-1": 20,  # EV06
     "RIV-SHP-2": 18, "RIV-SHP-3": 19, "RIV-ANC": 18,  # EV06
-    "RIV-CAP-1": 10, "RIV-CAP-2": 10, "RIV-CAP-3": 11, "RIV-BKF": 13, "RIV-DRN": 19,
-    "RIV-SUBB": 10, "RIV-PAV": 30,  # EV08 frost
+    "RIV-CAP-1": 10, "RIV-CAP-2": 10, "RIV-CAP-3": 11, "RIV-BKF": 13, "RIV-DRN": 19,  # EV08 frost
+    "RIV-SUBB": 10,
     "RIV-SCR": 15, "RIV-CRP": 18,
     "LIB-SUB-PIT": 20, "LIB-SUB-SLAB": 10,  # out-of-sequence pour
     "LIB-L1-COL": 12, "LIB-L1-SLB": 18,  # EV09
     "CO1-DES": 34, "CO1-STR": 9,
     "HALL-FRM-DECK": 27,  # EV04: 12 working days without the crane
-    "LIB-L0-DRY": 22, "LIB-L1-DRY": 22, "LIB-L2-DRY": 20, "LIB-L3-DRY": 16,  # EV05
+    "LIB-ENV-CW-N": 26, "LIB-ENV-CW-E": 24, "LIB-ENV-CW-S": 24, "LIB-ENV-CW-W": 22,  # EV05
     "UTL-RTE": 24,
 }
 # The as-built network's own logic changes: the library slab was poured
@@ -615,7 +617,7 @@ OUT_OF_SEQUENCE = ("U03", "LIB-SUB-SLAB", "LIB-SUB-PIT")  # update, activity, un
 ACTUAL_CORRECTION = ("HALL-FRM-TRS", "U05", "U06", 2)
 SECONDARY_PATH = "RIV-LND"  # the river terrace path whose float erodes
 # The story's key facts (checked against the schedules before anything is written).
-FINAL_SLIP_DAYS = 41  # U10 forecasts practical completion 41 calendar days late
+FINAL_SLIP_DAYS = 43  # U10 forecasts practical completion 43 calendar days late
 EARLY_PATH = ("U02", "HALL")  # the longest path runs through the hall ...
 LATE_PATH = ("U08", "LIB")  # ... and later through the library
 SECONDARY_CRITICAL_FROM = "U09"  # the river terrace path's float first <= 0
@@ -1064,8 +1066,8 @@ def _readme(snaps: dict[str, Snapshot], facts: dict) -> str:
         "- **Windows** (slip of the forecast completion per window, calendar days): "
         + "; ".join(windows) + f". Total {slips[SNAPSHOT_IDS[-1]]:+d} at "
         f"{SNAPSHOT_IDS[-1]}.",
-        "- **Critical path moves**: through the civic hall (`HALL`) in the early updates, "
-        "through the library wing (`LIB`) from U07; both in U06.",
+        "- **Critical path moves**: through the civic hall (`HALL`) up to U04, through the "
+        "library wing (`LIB`) in U05 and from U07 on; both together in U06.",
         f"- **Concurrency**: {c['owner_event']} (employer's change, library path) and "
         f"{c['contractor_event']} (contractor's crane failure, hall path) both run from "
         f"{c['start'].isoformat()} to {c['finish'].isoformat()}, in window "
