@@ -1,6 +1,9 @@
 """Attribution of a window's slip to activities, events and parties; concurrency; the ledger."""
 
+from dataclasses import replace
+
 from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from forensic.attribution import analyse_delay, contributors_table, delay_json, ledger_table
 from forensic.model import Activity, Fragnet, frozen_mapping
@@ -225,3 +228,31 @@ def test_contributors_and_ledger_conserve_the_slip(cf):
         assert sum(att.by_party.values()) + att.concurrent.days == w.slip
     assert an.ledger.balanced
     assert an.ledger.total.total == an.ledger.total_slip
+
+
+@st.composite
+def mixed_parties(draw):
+    """Random updates whose activities belong to the owner, the contractor or nobody, with two events."""
+    cf = draw(random_updates())
+    parties = draw(st.lists(st.sampled_from(["OWN", "CON", None]), min_size=12, max_size=12))
+    snaps = []
+    for s in cf.snapshots:
+        acts = {a.id: (replace(a, party=parties[i]) if a.kind == "task" else a) for i, a in enumerate(s.activities.values())}
+        snaps.append(replace(s, activities=frozen_mapping(acts)))
+    evs = [
+        event("E1", "OWN", "excusable-compensable", day(0), day(draw(st.integers(0, 10))), ["T0", "T1"]),
+        event("E2", "WX", "excusable-noncompensable", day(2), day(5), ["T1", "T2"]),
+    ]
+    return casefile(snaps, evs)
+
+
+@settings(max_examples=60, deadline=None)
+@given(mixed_parties())
+def test_conservation_holds_with_events_and_several_parties(cf):
+    """Conservation with events, three parties and concurrency tests running (exact sums, no rounding)."""
+    an = analyse_delay(cf)
+    for w, att in zip(an.windows.windows, an.attributions, strict=True):
+        assert sum(c.days for c in att.contributors) == w.progress_slip
+        assert sum(att.by_party.values()) + att.concurrent.days == w.slip
+        assert att.concurrent.days >= 0
+    assert an.ledger.balanced

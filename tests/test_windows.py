@@ -176,3 +176,40 @@ def test_progress_plus_revision_equals_slip(cf):
     for w in an.windows:
         assert w.progress_slip + w.revision_slip == w.slip
     assert sum(w.slip for w in an.windows) == an.total_slip
+
+
+def test_as_planned_vs_as_built_variances():
+    """A planned days 0-9 is in progress with 4 left at day 10: forecast finish day 13, variance +4 (worked by hand)."""
+    from forensic.asbuilt import as_planned_vs_as_built, asbuilt_table
+
+    rows = {r.id: r for r in as_planned_vs_as_built(chain_case())}
+    a = rows["A"]
+    assert (a.planned_start, a.planned_finish, a.planned_duration) == (D0, day(9), 10)
+    assert (a.actual_start, a.actual_finish, a.forecast) == (D0, day(13), True)
+    assert (a.start_variance, a.finish_variance, a.duration_variance) == (0, 4, 4)
+    assert rows["M"].finish_variance == 4
+    assert asbuilt_table(tuple(rows.values())).records()[0]["id"] == "A"
+
+
+def test_windows_command_prints_json_and_tables(monkeypatch):
+    """`forensic windows` prints the documented JSON, the CSV table, and the text with the ledger."""
+    import json
+
+    from click.testing import CliRunner
+
+    import forensic.cli.windows as cmd
+    from forensic.cli import main
+
+    monkeypatch.setattr(cmd, "load", lambda path: chain_case())
+    runner = CliRunner()
+    out = runner.invoke(main, ["windows", "x", "--json"])
+    assert out.exit_code == 0, out.output
+    data = json.loads(out.output)
+    assert data["windows"][0]["slip"] == 4 and data["ledger"]["balanced"] is True
+    csv = runner.invoke(main, ["windows", "x", "--csv", "--table", "ledger"])
+    assert csv.output.splitlines()[0].startswith("window,excusable_compensable")
+    text = runner.invoke(main, ["windows", "x"])
+    assert "balances" in text.output
+    bad = runner.invoke(main, ["windows", "x", "--windows", "U09"])
+    assert bad.exit_code == 1 and "Error: --windows: no snapshot 'U09'" in bad.output
+    assert "Example:" in runner.invoke(main, ["windows", "--help"]).output
