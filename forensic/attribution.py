@@ -46,7 +46,7 @@ Concurrency
 Concurrent delay, in the SCL Protocol's sense, is the occurrence of two or
 more delay events at the same time, one the employer's risk and one the
 contractor's, whose effects are felt at the same time (SCL Delay and
-Disruption Protocol, 2nd ed., core principle 10 and paras. 10.3-10.4); AACE
+Disruption Protocol, 2nd ed., core principle 10 and paras. 10.3-10.4, paragraph numbers from memory); AACE
 RP 29R-03 (sec. 4.2) calls the test of it a but-for test of each party's
 delays. Here "at the same time" is the window, and the test is run on the
 half-step schedule: each party's delays are removed alone (every activity
@@ -354,14 +354,13 @@ def _attribute(ctx: _Ctx, aid: str, days: int) -> list[Contributor]:
 
 def _restored(ctx: _Ctx, give_back: Mapping[str, int]) -> Snapshot:
     """The half-step with each activity's remaining duration shortened by its given-back days."""
-    count_shift = ctx.casefile
     acts = dict(ctx.run.half.activities)
     for aid, days in give_back.items():
         a = acts[aid]
         if days <= 0 or a.is_milestone or a.duration == 0:
             continue
         finish = ctx.half[aid].early_finish
-        target = unit_shift(count_shift, finish, days)
+        target = unit_shift(ctx.casefile, finish, days)
         r = workdays_between(_calendar(ctx, aid), target + timedelta(days=1), finish + timedelta(days=1))
         acts[aid] = replace(a, remaining=max(0, a.remaining_duration - r))
     return replace(ctx.run.half, id=ctx.run.half.id + "-butfor", activities=frozen_mapping(acts))
