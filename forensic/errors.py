@@ -23,6 +23,7 @@ __all__ = [
     "NotFoundError",
     "OutputError",
     "ScheduleError",
+    "WindowSpecError",
 ]
 
 
@@ -103,3 +104,10 @@ class NotFoundError(ForensicError, LookupError):
 
 class OutputError(ForensicError, OSError):
     """Raised when an output cannot be written, or would overwrite a casefile input."""
+
+
+class WindowSpecError(ForensicError, ValueError):
+    """Raised when user-defined analysis windows name snapshots out of order or twice.
+
+    The message names the option or manifest key and the offending value.
+    """
