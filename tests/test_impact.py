@@ -3,6 +3,8 @@
 from datetime import date, timedelta
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from forensic.calendars import DAY_NAMES
 from forensic.engine import schedule
@@ -89,6 +91,15 @@ def test_fragnet_on_a_path_with_float_delays_completion_by_d_minus_float(d):
     # The float on B's path is consumed first, up to all of it (common practice).
     consumed = {c.id: c.consumed for c in r.float_consumed}
     assert consumed["B"] == min(d, 2)
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.integers(1, 30), st.integers(0, 20), st.integers(1, 40))
+def test_any_fragnet_on_a_parallel_path_delays_by_its_excess_over_float(b, f, d):
+    """For any path with total float f, a d-day fragnet on it moves completion max(0, d - f) (common practice)."""
+    acts, links = two_paths(b + f, b)
+    cf = casefile([snap(acts, links)], [event("E1", fragnet_id="F1")], [on_path("F1", "B", d)])
+    assert time_impact(cf, "E1").impact == max(0, d - f)
 
 
 @pytest.mark.parametrize("d", [1, 4, 10])
