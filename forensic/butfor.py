@@ -79,7 +79,7 @@ from datetime import date, timedelta
 from .calendars import is_workday, next_workday, workdays_between
 from .engine import ScheduleResult, schedule
 from .errors import NotFoundError
-from .impact import delay_between
+from .impact import delay_between, fragnet_of
 from .model import Activity, Casefile, Event, Link, Snapshot, frozen_mapping
 from .tables import Table
 
@@ -279,7 +279,7 @@ def as_built(casefile: Casefile, snapshot_id: str | None = None) -> AsBuilt:
 
 
 def _represent(casefile: Casefile, src: Snapshot, ev: Event) -> EventDelay:
-    frag = casefile.fragnets.get(ev.fragnet) if ev.fragnet else None
+    frag = fragnet_of(casefile, ev)
     if frag is not None:
         present = tuple(a for a in frag.activities if a in src.activities)
         if present:

@@ -73,6 +73,7 @@ __all__ = [
     "apply_hold_up",
     "delay_between",
     "float_table",
+    "fragnet_of",
     "impact_json",
     "insert_fragnet",
     "milestones_table",
@@ -355,10 +356,13 @@ def _unit(project: Project) -> str:
 # --- the analysis ------------------------------------------------------------
 
 
-def _fragnet_of(casefile: Casefile, event: Event) -> Fragnet | None:
+def fragnet_of(casefile: Casefile, event: Event) -> Fragnet | None:
+    """The fragnet an event names (``None`` when it names none); ``NotFoundError`` when it is missing."""
     if event.fragnet is None:
         return None
-    frag = casefile.fragnets.get(event.fragnet)
+    # Fragnets are keyed by folder name; events.csv may give the folder as
+    # "fragnets/EV03" or as "EV03".
+    frag = casefile.fragnets.get(event.fragnet) or casefile.fragnets.get(event.fragnet.rstrip("/").split("/")[-1])
     if frag is None:
         known = ", ".join(casefile.fragnets) or "none"
         msg = f"event {event.id} names fragnet {event.fragnet!r}, which is not in the casefile (known: {known})"
@@ -377,7 +381,7 @@ def _impose(
     for ev in events:
         if progress:
             snapshot = progress_to(snapshot, cals, project, ev.start)
-        frag = _fragnet_of(casefile, ev)
+        frag = fragnet_of(casefile, ev)
         if frag is not None:
             snapshot, w = insert_fragnet(snapshot, frag)
             inserted.extend(frag.activities)

@@ -276,3 +276,15 @@ def test_json_keys_are_the_contract():
     assert [s["impact"] for s in sj["cumulative"]["steps"]] == [6, 0]
     assert series_table(series).rows[1][3:5] == (4, 0)
     assert float_table(r).columns[-1] == "consumed"
+
+
+def test_event_may_name_its_fragnet_by_folder_path_or_name():
+    """events.csv may give the fragnet as "fragnets/F1" or "F1"; a missing one is an error naming it."""
+    acts, links = two_paths(5, 3)
+    frags = [on_path("F1", "A", 2)]
+    for name in ("F1", "fragnets/F1"):
+        cf = casefile([snap(acts, links)], [event("E1", fragnet_id=name)], frags)
+        assert time_impact(cf, "E1").impact == 2  # 2 days on the critical path (common practice)
+    cf = casefile([snap(acts, links)], [event("E1", fragnet_id="F9")], frags)
+    with pytest.raises(NotFoundError, match="F9"):
+        time_impact(cf, "E1")
