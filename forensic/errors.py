@@ -17,6 +17,7 @@ from dataclasses import dataclass
 __all__ = [
     "CasefileError",
     "ForensicError",
+    "FragnetError",
     "InputProblem",
     "LimitExceeded",
     "LogicLoopError",
@@ -96,6 +97,16 @@ class LogicLoopError(ScheduleError):
         prefix = f"{where}: " if where else ""
         msg = f"{prefix}logic loop: {loop}; a loop has no schedule, break one of its links"
         super().__init__(msg)
+
+
+class FragnetError(ScheduleError):
+    """Raised when a fragnet cannot be inserted into a snapshot.
+
+    For example a tie to an activity that is neither in the fragnet nor in
+    the snapshot, or a fragnet activity whose id the snapshot already has;
+    the message names each offending activity and link. A fragnet that
+    closes a loop raises :class:`LogicLoopError` instead.
+    """
 
 
 class NotFoundError(ForensicError, LookupError):
