@@ -22,6 +22,7 @@ __all__ = [
     "LogicLoopError",
     "NotFoundError",
     "OutputError",
+    "RecoveryError",
     "ScheduleError",
 ]
 
@@ -103,3 +104,16 @@ class NotFoundError(ForensicError, LookupError):
 
 class OutputError(ForensicError, OSError):
     """Raised when an output cannot be written, or would overwrite a casefile input."""
+
+
+class RecoveryError(ForensicError, ValueError):
+    """Raised when a recovery target cannot be met by shortening the remaining work.
+
+    ``earliest`` is the earliest completion that shortening within the
+    activities' limits achieves (as rescheduled by the engine), so the caller
+    can offer it instead.
+    """
+
+    def __init__(self, message: str, earliest=None):
+        self.earliest = earliest
+        super().__init__(message)
