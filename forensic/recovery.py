@@ -201,7 +201,7 @@ class _Program:
         pad = sum(a.duration + (a.remaining or 0) for a in acts)
         pad += sum(abs(link.lag) for link in snapshot.links) + 10
         margin = 7 * pad + 400
-        self.lo, hi = min(days) - margin, max(days) + margin
+        self.lo, hi = min(days) - margin, max(max(days) + margin, dd + 800)
         self.default = workday_index(calendars[project.default_calendar], self.lo, hi)
         self.base = self.default.first_at[dd - self.lo]
         logic = project.progress_logic
