@@ -620,7 +620,9 @@ def recover(
     points = []
     if curve:
         for k in range(1, max_days + 1):
-            p = earliest_plan if k == max_days else planner.plan_for(planner.back(k), "cost")
+            p = planner.plan_for(planner.back(k), "cost")
+            if p is None and k == max_days:
+                p = earliest_plan
             if p is None:  # the engine could not confirm this day (calendar approximation)
                 continue
             points.append(CurvePoint(k, p))

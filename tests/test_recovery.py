@@ -2,6 +2,7 @@
 
 import itertools
 import json
+from dataclasses import replace
 from datetime import date, timedelta
 
 import pytest
@@ -326,9 +327,8 @@ def test_plans_stay_within_limits_and_cost_rises_with_the_days(cf, objective):
 def test_mixed_calendars_plans_are_confirmed_by_the_engine(cf, cals):
     """Across calendars the program is approximate, but every plan reported meets its target in the engine."""
     snap = cf.snapshots[0]
-    acts = {aid: a.__class__(**{**{f: getattr(a, f) for f in a.__slots__}, "calendar": cals[k % 7]})
-            for k, (aid, a) in enumerate(snap.activities.items())}
-    cf = casefile(list(acts.values()), snap.links, cal="5d", completion=cf.project.completion)
+    acts = [replace(a, calendar=cals[k % 7]) for k, a in enumerate(snap.activities.values())]
+    cf = casefile(acts, snap.links, cal="5d", completion=cf.project.completion)
     try:
         r = recover(cf, "S", days=1)
     except RecoveryError:
