@@ -383,3 +383,15 @@ def test_cli_recover_help_has_an_example():
     """Every command's help shows an example (RULES.md)."""
     res = CliRunner().invoke(main, ["recover", "--help"])
     assert res.exit_code == 0 and "Example: forensic recover" in res.output
+
+
+def test_other_calendar_miss_is_tightened_until_the_engine_confirms():
+    """A 7-day task in a 5-day project: the scaled program misses by a day, is tightened, and re-solved (worked out here)."""
+    acts = [Activity("A", "", 14, calendar="7d", crash_days=7, crash_cost=1)]  # Mon 5 Jan to Sun 18 Jan
+    cf = casefile(acts, [], cal="5d", delay_unit="working-days")
+    r = recover(cf, "S", days=1, curve=False)
+    # On the 5-day default a Sunday finish counts as Friday 16, so one working day back is Thursday 15: 3 days off A.
+    assert r.plan.target == date(2026, 1, 15)
+    assert [(s.id, s.days) for s in r.plan.shortenings] == [("A", 3)]
+    assert r.plan.completion == date(2026, 1, 15)
+    assert r.plan.solves == 2
