@@ -60,6 +60,9 @@ Fulkerson, D. R. (1961). A network flow computation for project cost
 curves. *Management Science* 7(2), 167-178.
 Kelley, J. E. and Walker, M. R. (1959). Critical-path planning and
 scheduling. *Proceedings of the Eastern Joint Computer Conference*, 160-173.
+Wiest, J. D. (1981). Precedence diagramming method: some unusual
+characteristics and their implications for project managers. *Journal of
+Operations Management* 1(3), 121-130 (from memory).
 """
 
 from __future__ import annotations
