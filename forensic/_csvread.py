@@ -141,7 +141,7 @@ def read_text(path: Path, rel: str, max_bytes: int, problems: Problems, hashes: 
         return None
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(slots=True, eq=False)  # not frozen: built once per CSV line, and frozen init is slower
 class Row:
     """One data row of a CSV table: its 1-based line and its cells by column."""
 
@@ -172,23 +172,22 @@ def read_table(
     header_line = 0
     rows: list[Row] = []
     allowed = required + optional
+    strip = str.strip
+    width = -1
+    last_line = 0
     try:
-        while True:
-            first_line = reader.line_num + 1
-            try:
-                record = next(reader)
-            except StopIteration:
-                break
-            cells = [c.strip() for c in record]
+        for record in reader:
+            first_line, last_line = last_line + 1, reader.line_num
+            cells = list(map(strip, record))
             if not any(cells):
                 continue
             if header is None:
-                header, header_line = cells, first_line
+                header, header_line, width = cells, first_line, len(cells)
                 if not _check_header(header, header_line, rel, required, allowed, problems):
                     return None
                 continue
-            if len(cells) != len(header):
-                problems.add(rel, first_line, None, len(cells), f"row has {len(cells)} cells, the header has {len(header)}")
+            if len(cells) != width:
+                problems.add(rel, first_line, None, len(cells), f"row has {len(cells)} cells, the header has {width}")
                 continue
             if len(rows) >= max_rows:
                 problems.limit_hit = True

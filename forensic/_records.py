@@ -100,12 +100,34 @@ def read_activities(
     data_date: date | None,
     problems: Problems,
     warnings: list[str],
+    memo: dict | None = None,
 ) -> ActivityTable:
-    """Read activity rows; ``data_date`` is ``None`` for a fragnet (no progress check)."""
+    """Read activity rows; ``data_date`` is ``None`` for a fragnet (no progress check).
+
+    ``memo`` (shared by the snapshots of one casefile) maps a row's cells to
+    the record read from them with no problem and no warning: an activity
+    that did not change from one update to the next is read once, and the
+    snapshots share its record. Only the data-date check depends on the
+    snapshot, and it is made again on every reuse.
+    """
     table = ActivityTable(rel)
+    memo = {} if memo is None else memo.setdefault(tuple(rows[0].cells) if rows else (), {})
     for row in rows:
         before = len(problems)
-        act = _read_activity(row, rel, calendars, parties, data_date, problems, warnings)
+        key = tuple(row.cells.values())
+        act = memo.get(key)
+        if act is not None and data_date is not None and (
+            (act.actual_start is not None and act.actual_start >= data_date)
+            or (act.actual_finish is not None and act.actual_finish >= data_date)
+        ):
+            act = None
+        if act is None:
+            n_warn = len(warnings)
+            act = _read_activity(row, rel, calendars, parties, data_date, problems, warnings)
+            if act is not None and len(problems) == before and len(warnings) == n_warn:
+                memo[key] = act
+        elif act.line != row.line:
+            act = memo[key] = _moved(act, row.line)
         aid = row.get("id")
         if aid:
             if aid in table.ids:
@@ -115,6 +137,14 @@ def read_activities(
         if act is not None and len(problems) == before:
             table.activities[act.id] = act
     return table
+
+
+def _moved(a: Activity, line: int) -> Activity:
+    """The same record at another line (a direct call: ``dataclasses.replace`` is far slower)."""
+    return Activity(
+        a.id, a.name, a.duration, a.kind, a.remaining, a.actual_start, a.actual_finish, a.calendar,
+        a.constraint, a.constraint_date, a.party, a.area, a.percent_complete, a.crash_days, a.crash_cost, line,
+    )
 
 
 def _read_activity(row, rel, calendars, parties, data_date, problems, warnings) -> Activity | None:
@@ -209,13 +239,35 @@ def read_links(
     problems: Problems,
     warnings: list[str],
     unknown_hint: str = "no activity with this id in the snapshot",
+    memo: dict | None = None,
 ) -> list[Link]:
-    """Read link rows; ``known`` are the ids a link may name, ``finished`` those finished."""
+    """Read link rows; ``known`` are the ids a link may name, ``finished`` those finished.
+
+    ``memo`` maps a row's cells to the link read from them (see
+    :func:`read_activities`); the checks against the snapshot (known ids,
+    duplicates, links into finished work) are made on every row.
+    """
     links: list[Link] = []
     seen: dict[tuple[str, str, str], int] = {}
+    memo = {} if memo is None else memo.setdefault(tuple(rows[0].cells) if rows else (), {})
     for row in rows:
-        before = len(problems)
         line = row.line
+        key = tuple(row.cells.values())
+        hit = memo.get(key)
+        if hit is not None and hit.pred in known and hit.succ in known:
+            lkey = hit.key
+            if lkey in seen:
+                problems.add(rel, line, "succ", f"{hit.pred} -> {hit.succ} {hit.type}", f"duplicate link; first on line {seen[lkey]}")
+                continue
+            seen[lkey] = line
+            if hit.succ in finished and hit.pred not in finished:
+                warnings.append(f"{rel}, line {line}: link {hit.pred} -> {hit.succ} has no effect, "
+                                f"because {hit.succ} is finished and {hit.pred} is not")
+            if hit.line != line:
+                hit = memo[key] = Link(hit.pred, hit.succ, hit.type, hit.lag, line)
+            links.append(hit)
+            continue
+        before = len(problems)
         ends = {}
         for col in ("pred", "succ"):
             ends[col] = _required(row, col, rel, problems)
@@ -241,7 +293,9 @@ def read_links(
         if succ in finished and pred not in finished:
             warnings.append(f"{rel}, line {line}: link {pred} -> {succ} has no effect, "
                             f"because {succ} is finished and {pred} is not")
-        links.append(Link(pred, succ, ltype, lag, line))
+        link = Link(pred, succ, ltype, lag, line)
+        memo[key] = link
+        links.append(link)
     return links
 
 

@@ -143,7 +143,7 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None)
         _raise(problems)
     m = _Manifest(doc, root, problems)
     ctx = {"calendars": tuple(m.calendars), "parties": tuple(m.parties),
-           "problems": problems, "warnings": warnings}
+           "problems": problems, "warnings": warnings, "memo": {}}
 
     snapshots: list[Snapshot] = []
     snapshot_ids: set[str] = set()
@@ -193,7 +193,8 @@ def _read_snapshot(spec, root: Path, limits: Limits, hashes, ctx) -> tuple[Snaps
         rows = None if text is None else read_table(text, rel, *ACTIVITY_COLUMNS, limits.max_activities, problems)
         if rows is not None:
             table = read_activities(rows, rel, data_date=data_date, calendars=ctx["calendars"],
-                                    parties=ctx["parties"], problems=problems, warnings=ctx["warnings"])
+                                    parties=ctx["parties"], problems=problems, warnings=ctx["warnings"],
+                                    memo=ctx["memo"].setdefault("activities", {}))
             if not table.ids:
                 problems.add(rel, None, None, None, f"snapshot {sid} has no activities")
     if "links" in sources:
@@ -203,7 +204,8 @@ def _read_snapshot(spec, root: Path, limits: Limits, hashes, ctx) -> tuple[Snaps
         if rows is not None and table is not None:
             finished = {a.id for a in table.activities.values() if a.actual_finish is not None}
             links = read_links(rows, rel, known=table.ids, finished=finished,
-                               problems=problems, warnings=ctx["warnings"])
+                               problems=problems, warnings=ctx["warnings"],
+                               memo=ctx["memo"].setdefault("links", {}))
             check_loops(list(table.ids), links, rel, problems)
     ids = set() if table is None else set(table.ids)
     if table is None or len(sources) < 2 or data_date is None or sid is None:

@@ -137,6 +137,14 @@ def half_step(earlier: Snapshot, later: Snapshot) -> HalfStep:
             acts[aid] = a
             continue
         remaining = b.remaining if b.is_started else a.remaining
+        if (
+            a.actual_start == b.actual_start
+            and a.actual_finish == b.actual_finish
+            and a.remaining == remaining
+            and a.percent_complete == b.percent_complete
+        ):
+            acts[aid] = a  # no progress in the window: the earlier record as it is
+            continue
         acts[aid] = replace(
             a,
             actual_start=b.actual_start,
