@@ -32,6 +32,7 @@ from __future__ import annotations
 
 import math
 import random
+from collections.abc import Callable
 from dataclasses import replace
 from datetime import date, timedelta
 
@@ -324,6 +325,7 @@ def generate_casefile(
     fs_only: bool = False,
     seven_day: bool = False,
     constraints: bool = True,
+    progress: Callable[[int, int], None] | None = None,
 ) -> Casefile:
     """A synthetic casefile of about ``activities`` activities and ``updates`` monthly updates.
 
@@ -342,6 +344,8 @@ def generate_casefile(
         Simpler variants for checking the engine against a plain longest
         path: only finish-to-start links and no lag changes, one 7-day
         calendar with no holidays, and no date constraints.
+    progress : callable, optional
+        Called as ``progress(done, total)`` after the baseline and each update.
 
     Returns
     -------
@@ -371,6 +375,8 @@ def generate_casefile(
     project = replace(project, contract_completion=first.completion)
     snaps = [base]
     events: list[Event] = []
+    if progress is not None:
+        progress(1, updates + 1)
     for u in range(1, updates + 1):
         dd = _START + timedelta(days=28 * u)
         snap, slipped = _progress(snaps[-1], net, f"U{u:02d}", dd, cals, project, rng, opts)
@@ -385,6 +391,8 @@ def generate_casefile(
                           start + timedelta(days=rng.randint(0, 10)), dd - timedelta(days=rng.randint(1, 10)),
                           tuple(hit))
                 )
+        if progress is not None:
+            progress(u + 1, updates + 1)
     parties = {
         "OWN": Party("OWN", "Synthetic owner", "owner"),
         "CON": Party("CON", "Synthetic contractor", "contractor"),

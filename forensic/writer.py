@@ -9,14 +9,18 @@ from __future__ import annotations
 
 import csv
 import io
+import os
+import shutil
+import tempfile
 from collections.abc import Iterable, Mapping
 from datetime import date
 from pathlib import Path
 
+from .errors import OutputError
 from .model import Activity, Casefile, Event, Link
 from .outputs import atomic_write
 
-__all__ = ["ACTIVITY_COLUMNS", "EVENT_COLUMNS", "LINK_COLUMNS", "write_casefile"]
+__all__ = ["ACTIVITY_COLUMNS", "EVENT_COLUMNS", "LINK_COLUMNS", "check_new_folder", "write_casefile", "write_new_casefile"]
 
 ACTIVITY_COLUMNS = (
     "id",
@@ -181,4 +185,39 @@ def write_casefile(cf: Casefile, folder: str | Path) -> Path:
         events_file = "events.csv"
         atomic_write(root / events_file, events_csv(cf.events))
     atomic_write(root / "casefile.toml", manifest_toml(cf, events_file=events_file))
+    return root
+
+
+def check_new_folder(folder: str | Path) -> Path:
+    """Raise ``OutputError`` unless ``folder`` is new or empty and its parent exists."""
+    root = Path(folder)
+    if root.exists() and (not root.is_dir() or any(root.iterdir())):
+        msg = f"{root}: the output folder exists and is not empty; choose a new or empty folder"
+        raise OutputError(msg)
+    parent = root.parent if str(root.parent) else Path(".")
+    if not parent.is_dir():
+        msg = f"{root}: the folder {parent} does not exist"
+        raise OutputError(msg)
+    return root
+
+
+def write_new_casefile(cf: Casefile, folder: str | Path) -> Path:
+    """Write ``cf`` as a new casefile folder, all at once or not at all; return the folder.
+
+    The folder must not exist or be empty (``OutputError`` otherwise: a
+    casefile is never written over). The files go to a hidden temporary
+    folder beside it, which is renamed into place when complete, so an
+    interrupted run leaves no partial casefile.
+    """
+    root = check_new_folder(folder)
+    parent = root.parent if str(root.parent) else Path(".")
+    tmp = Path(tempfile.mkdtemp(prefix=f".{root.name}.", suffix=".part", dir=parent))
+    try:
+        write_casefile(cf, tmp)
+        if root.exists():
+            root.rmdir()  # empty, checked above
+        os.replace(tmp, root)
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
     return root
