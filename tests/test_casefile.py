@@ -490,3 +490,16 @@ def test_readme_example_casefile_loads(tmp_path):
     assert [s.id for s in cf.snapshots] == ["BL", "U01"]
     assert cf.snapshot("U01").activities["A120"].remaining == 2  # as written in the example
     assert cf.events[0].category == "excusable-compensable"  # owner's role (the format)
+
+
+def test_record_moved_to_another_line_keeps_every_other_field():
+    """The loader's fast copy of a reused record equals dataclasses.replace (reference: the standard library)."""
+    from dataclasses import replace
+    from datetime import date
+
+    from forensic._records import _moved
+    from forensic.model import Activity
+
+    a = Activity("A1", "Pour slab", 5, "task", 3, date(2026, 1, 5), None, "5d", "start-on-or-after",
+                 date(2026, 1, 2), "CON", "Z1", 40.0, 2, 900.0, 17)
+    assert _moved(a, 99) == replace(a, line=99)
