@@ -4,6 +4,7 @@ Each command parses its options, calls one library function, and formats
 the result; library errors reach the user as ``Error: ...`` with exit 1.
 """
 
+from . import batch as _batch  # noqa: F401
 from . import check as _check  # noqa: F401  (registers commands)
 from . import demo as _demo  # noqa: F401
 from . import impact as _impact  # noqa: F401
