@@ -31,11 +31,20 @@ from dataclasses import dataclass
 from datetime import date, datetime
 from pathlib import Path
 
-from ._csvread import MAX_DURATION, Problems, check_year, read_table, read_text, resolve_inside
+from ._csvread import (
+    MAX_DURATION,
+    Problems,
+    check_year,
+    find_unsafe_char,
+    read_table,
+    read_text,
+    resolve_inside,
+)
 from ._records import (
     ACTIVITY_COLUMNS,
     EVENT_COLUMNS,
     LINK_COLUMNS,
+    check_fragnet_loops,
     check_loops,
     read_activities,
     read_events,
@@ -141,6 +150,9 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None)
     except tomllib.TOMLDecodeError as exc:
         problems.add(MANIFEST, None, None, None, f"not valid TOML: {exc}")
         _raise(problems)
+    except RecursionError:  # arrays or tables nested thousands deep: hostile, not a manifest
+        problems.add(MANIFEST, None, None, None, "not valid TOML: nested too deeply")
+        _raise(problems)
     m = _Manifest(doc, root, problems)
     ctx = {"calendars": tuple(m.calendars), "parties": tuple(m.parties),
            "problems": problems, "warnings": warnings}
@@ -152,7 +164,7 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None)
         snapshot_ids.update(ids)
         if snap is not None:
             snapshots.append(snap)
-    fragnets = _read_fragnets(root, limits, hashes, snapshot_ids, ctx)
+    fragnets = _read_fragnets(root, limits, hashes, snapshot_ids, snapshots, ctx)
     events = ()
     if m.events_path is not None:
         rel, full = m.events_path
@@ -176,8 +188,11 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None)
 
 
 def _raise(problems: Problems):
-    cls = LimitExceeded if problems.limit_hit else CasefileError
-    raise cls(problems.items)
+    # Over a ceiling, the tables were not read whole, so other problems may
+    # only be echoes of the missing rows: report the ceilings alone.
+    if problems.limit_hit:
+        raise LimitExceeded(problems.limits)
+    raise CasefileError(problems.items)
 
 
 def _read_snapshot(spec, root: Path, limits: Limits, hashes, ctx) -> tuple[Snapshot | None, set[str]]:
@@ -213,7 +228,8 @@ def _read_snapshot(spec, root: Path, limits: Limits, hashes, ctx) -> tuple[Snaps
     return snap, ids
 
 
-def _read_fragnets(root: Path, limits: Limits, hashes, snapshot_ids: set[str], ctx) -> dict[str, Fragnet]:
+def _read_fragnets(root: Path, limits: Limits, hashes, snapshot_ids: set[str], snapshots: list[Snapshot],
+                   ctx) -> dict[str, Fragnet]:
     problems = ctx["problems"]
     folder = root / "fragnets"
     fragnets: dict[str, Fragnet] = {}
@@ -248,7 +264,10 @@ def _read_fragnets(root: Path, limits: Limits, hashes, snapshot_ids: set[str], c
         links = read_links(rows, lrel, known=set(table.ids) | snapshot_ids, finished=(),
                            problems=problems, warnings=ctx["warnings"],
                            unknown_hint="no activity with this id in the fragnet or in any snapshot")
+        before = len(problems)
         check_loops(list(table.ids), links, lrel, problems)
+        if len(problems) == before:
+            check_fragnet_loops(table.ids, links, snapshots, lrel, problems)
         fragnets[name] = Fragnet(name, frozen_mapping(table.activities), tuple(links),
                                  frozen_mapping({"activities": rel, "links": lrel}))
     return fragnets
@@ -320,6 +339,10 @@ class _Manifest:
             return None
         if not isinstance(value, str) or not value.strip():
             self._bad(f"{where}.{key}", value, "expected a non-empty string")
+            return None
+        unsafe = find_unsafe_char(value)
+        if unsafe is not None:
+            self._bad(f"{where}.{key}", unsafe[1], "contains a control or text-direction character; expected printable text")
             return None
         if choices is not None and value not in choices:
             self._bad(f"{where}.{key}", value, f"expected one of {', '.join(choices)}")

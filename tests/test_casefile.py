@@ -234,7 +234,8 @@ def test_missing_file_is_refused(root):
 
 
 @pytest.mark.parametrize(("data", "line", "value", "says"), [
-    ("id,name\n".encode("utf-16"), None, None, "UTF-16"),  # with its BOM (Python codecs)
+    ("id,name\n".encode("utf-16-le"), 1, "byte 1", "NUL byte"),  # no BOM: NULs (Python codecs)
+    ("id,name\n".encode("utf-16"), 1, "0xfffe at byte 0", "UTF-16"),  # little-endian BOM (Python codecs)
     (b"id,name,duration\nA1,Dig\x00,3\n", 2, "byte 23", "NUL byte"),
     (b"id,name,duration\nA1,D\xe9blai,3\n", 2, "0xe9 at byte 21", "not UTF-8"),  # Latin-1 e-acute
 ])

@@ -19,15 +19,30 @@ def casefile_argument(func: Callable) -> Callable:
     return click.argument("casefile", metavar="CASEFILE", type=click.Path(path_type=Path))(func)
 
 
+_OUT = "forensic.out"
+_CASEFILE = "forensic.casefile"
+
+
 def format_options(func: Callable) -> Callable:
-    """``--json`` and ``--csv``: machine-readable output instead of the readable text."""
+    """``--json``, ``--csv`` and ``--out``: machine-readable output, printed or written to a file.
+
+    ``--out FILE`` writes the JSON or CSV atomically to FILE instead of
+    printing it (never over a file of the casefile); it needs ``--json`` or
+    ``--csv``.
+    """
 
     @click.option("--json", "as_json", is_flag=True, help="Print JSON (keys documented in README.md).")
     @click.option("--csv", "as_csv", is_flag=True, help="Print CSV (one table).")
+    @click.option("--out", type=click.Path(dir_okay=False, path_type=Path), metavar="FILE",
+                  help="Write the JSON or CSV to FILE (atomically; never over a casefile file).")
     @functools.wraps(func)
     def wrapper(*args, **kwargs):
+        out = kwargs.pop("out")
         if kwargs.get("as_json") and kwargs.get("as_csv"):
             raise click.UsageError("choose one of --json and --csv")
+        if out is not None and not (kwargs.get("as_json") or kwargs.get("as_csv")):
+            raise click.UsageError("--out writes JSON or CSV: add --json or --csv")
+        click.get_current_context().meta[_OUT] = out
         return func(*args, **kwargs)
 
     return wrapper
@@ -37,15 +52,47 @@ def pick_format(as_json: bool, as_csv: bool) -> str:
     return "json" if as_json else "csv" if as_csv else "text"
 
 
-def load(path: Path) -> Casefile:
-    """Load and validate a casefile; its errors reach the user as ``Error: ...``."""
-    from ..casefile import load_casefile
+def _limit_hint(problem) -> str:
+    """The option (and environment variable) that raises the ceiling a problem hit."""
+    if "bytes" in problem.message:
+        return "--max-file-mb or FORENSIC_MAX_FILE_MB"
+    if problem.file.endswith("links.csv"):
+        return "--max-links or FORENSIC_MAX_LINKS"
+    return "--max-activities or FORENSIC_MAX_ACTIVITIES"  # activities and events rows
 
-    return load_casefile(path)
+
+def load(path: Path) -> Casefile:
+    """Load and validate a casefile within the group's ``--max-*`` limits.
+
+    Its errors reach the user as ``Error: ...``; an over-limit error says
+    which option raises the ceiling. The casefile is remembered so that
+    :func:`emit` never writes over one of its files.
+    """
+    from ..casefile import Limits, load_casefile
+    from ..errors import LimitExceeded
+
+    ctx = click.get_current_context(silent=True)
+    limits = ctx.find_object(Limits) if ctx is not None else None
+    try:
+        cf = load_casefile(path, limits=limits)
+    except LimitExceeded as exc:
+        hints = sorted({_limit_hint(p) for p in exc.problems if "limit" in p.message})
+        raise click.ClickException(f"{exc}\n(raise the limit with {' / '.join(hints)} if the file is genuine)") from None
+    if ctx is not None:
+        ctx.meta[_CASEFILE] = cf
+    return cf
 
 
 def emit(text: str, out: Path | None = None, casefile: Casefile | None = None) -> None:
-    """Print ``text``, or write it atomically to ``out`` (never over a casefile input)."""
+    """Print ``text``, or write it atomically to ``out`` (never over a casefile input).
+
+    ``out`` and ``casefile`` default to the command's ``--out`` and the
+    casefile it loaded.
+    """
+    ctx = click.get_current_context(silent=True)
+    if ctx is not None:
+        out = out if out is not None else ctx.meta.get(_OUT)
+        casefile = casefile if casefile is not None else ctx.meta.get(_CASEFILE)
     if out is None:
         click.echo(text, nl=False)
         return
