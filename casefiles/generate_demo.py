@@ -840,19 +840,15 @@ def _events_csv() -> str:
 
 
 def fragnet_as_filed(eid: str) -> _Net:
-    """The fragnet as written to ``fragnets/<eid>/``: its activities renamed ``<eid>-...``.
+    """The fragnet as written to ``fragnets/<eid>/``.
 
-    A fragnet models the event prospectively, so its activities carry ids of
-    their own; the work the programme later takes in (``CO1-...``, ``UTL-...``)
-    keeps the contractor's ids.
+    Its activities carry the ids that the same work has in the updates that
+    later take the change into the programme (``CO1-...`` from U05,
+    ``UTL-...`` from U09), so the time impact, windows and but-for analyses
+    follow one piece of work under one id. Inserting it into an update that
+    already has those ids is refused by the time impact analysis.
     """
-    frag = FRAGNETS[eid]["build"]()
-    rename = {aid: f"{eid}-{aid.split('-', 1)[1]}" for aid in frag.acts}
-    out = _Net()
-    for aid, spec in frag.acts.items():
-        out.acts[rename[aid]] = {**spec, "id": rename[aid]}
-    out.links = [(rename.get(p, p), rename.get(q, q), t, lag) for p, q, t, lag in frag.links]
-    return out
+    return FRAGNETS[eid]["build"]()
 
 
 def _fragnet_files(eid: str) -> dict[str, str]:
