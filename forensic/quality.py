@@ -92,7 +92,8 @@ class QualityCheck:
     ``number`` is the DCMA point (1-14), ``None`` for a practitioners' check;
     ``key`` a stable short name. ``value`` is the measure compared with
     ``limit`` by ``comparison`` (``"<="`` or ``">="``; ``"=="`` for check 12)
-    in ``unit`` (``"percent"``, ``"index"`` or ``"working days"``).
+    in ``unit`` (``"percent"``, ``"index"`` or ``"working days"``); the
+    comparison is empty for a check with no threshold (10, resources).
     ``passed`` is ``None`` when the check could not be assessed (``note``
     says why). ``activities`` are the activities that fail it, ``links`` the
     links that fail it (link checks).
@@ -323,7 +324,7 @@ def assess_quality(
                      [a.id for a in tasks if a.duration > HIGH_DURATION_DAYS], n_tasks, "<=",
                      HIGH_DURATION_LIMIT))
     add(_invalid_dates(snap, result))
-    add(QualityCheck(10, "resources", "Resources", None, None, None, "percent", "<=", 0.0, None, SOURCE,
+    add(QualityCheck(10, "resources", "Resources", None, None, None, "percent", "", 0.0, None, SOURCE,
                      note="not assessed: the casefile carries no resource data"))
     add(_missed_tasks(snap, base_snap, baseline_result))
     add(_critical_path_test(casefile, snap, result))

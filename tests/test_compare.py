@@ -174,3 +174,27 @@ def test_compare_table_and_json_keys():
     assert set(doc["changes"][0]) == {
         "kind", "activity", "pred", "succ", "field", "before", "after", "longest_path", "note",
     }
+
+
+def test_compare_command_prints_groups_and_json(monkeypatch):
+    """`forensic compare` groups changes by kind in text and prints the documented JSON."""
+    import json
+
+    from click.testing import CliRunner
+
+    from forensic.cli import compare as cli_compare
+    from forensic.cli import main
+
+    cf = _pair()
+    monkeypatch.setattr(cli_compare, "load", lambda path: cf)  # no casefile folder needed
+    runner = CliRunner()
+    text = runner.invoke(main, ["compare", "case", "U1", "U2"])
+    assert text.exit_code == 0, text.output
+    assert "Links changed (1):" in text.output and "Finished activities reopened (1):" in text.output
+    assert "+13 calendar days, +9 working days" in text.output
+    out = runner.invoke(main, ["compare", "case", "U1", "U2", "--json"])
+    assert json.loads(out.output)["longest_path_left"] == ["A", "B", "C"]
+    csv_out = runner.invoke(main, ["compare", "case", "U1", "U2", "--csv"])
+    assert csv_out.output.splitlines()[0] == "kind,activity,pred,succ,field,before,after,longest_path,note"
+    missing = runner.invoke(main, ["compare", "case", "U1", "U9"])
+    assert missing.exit_code == 1 and "no snapshot 'U9'" in missing.output

@@ -47,10 +47,11 @@ def test_published_thresholds_of_the_fourteen_points():
     """Each DCMA point carries the pamphlet's threshold (DCMA-EA PAM 200.1, Oct 2012, as recalled; from memory)."""
     r = assess_quality(casefile(snap([start(), task("A", 5), finish()], chain("ST", "A", "END"))), "BL")
     got = {c.number: (c.comparison, c.limit) for c in r.checks if c.number is not None}
-    # DCMA-EA PAM 200.1 (Oct 2012) sec. 4 thresholds, from memory and the project's issue 4.
+    # DCMA-EA PAM 200.1 (Oct 2012) sec. 4 thresholds, from memory and the project's issue 4;
+    # point 10 (resources) has no threshold here since it is not assessed.
     assert got == {
         1: ("<=", 5.0), 2: ("<=", 0.0), 3: ("<=", 5.0), 4: (">=", 90.0), 5: ("<=", 5.0),
-        6: ("<=", 5.0), 7: ("<=", 0.0), 8: ("<=", 5.0), 9: ("<=", 0.0), 10: ("<=", 0.0),
+        6: ("<=", 5.0), 7: ("<=", 0.0), 8: ("<=", 5.0), 9: ("<=", 0.0), 10: ("", 0.0),
         11: ("<=", 5.0), 12: ("==", 600), 13: (">=", 0.95), 14: (">=", 0.95),
     }
     # High float and high duration: more than 44 working days (DCMA-EA PAM 200.1, from memory).
@@ -317,3 +318,28 @@ def test_scorecard_table_and_json_keys():
         "number", "key", "title", "count", "denominator", "value", "unit", "comparison", "limit",
         "result", "passed", "source", "activities", "links", "note",
     }
+
+
+def test_check_quality_command_text_json_and_csv(monkeypatch):
+    """`forensic check --quality` prints a scorecard per snapshot, JSON and CSV (issue 4)."""
+    import json
+
+    from click.testing import CliRunner
+
+    from forensic.cli import check as cli_check
+    from forensic.cli import main
+
+    cf = _progressed()
+    monkeypatch.setattr(cli_check, "load", lambda path: cf)  # no casefile folder needed
+    runner = CliRunner()
+    text = runner.invoke(main, ["check", "case", "--quality"])
+    assert text.exit_code == 0, text.output
+    assert "Snapshot U1, data date 2026-01-26" in text.output and "missed-tasks" in text.output
+    out = runner.invoke(main, ["check", "case", "--quality", "--snapshot", "U1", "--json"])
+    doc = json.loads(out.output)
+    assert [s["snapshot"] for s in doc["snapshots"]] == ["U1"]
+    assert doc["snapshots"][0]["checks"][13]["value"] == 0.6667  # BEI 2 / 3, as above
+    csv_out = runner.invoke(main, ["check", "case", "--quality", "--csv"])
+    assert csv_out.output.splitlines()[0].startswith("snapshot,number,key,title,count")
+    plain = runner.invoke(main, ["check", "case", "--json"])
+    assert json.loads(plain.output)["valid"] is True  # without --quality: the old check
