@@ -33,6 +33,7 @@ from typing import Any
 from .calendars import workdays_between
 from .engine import ScheduleResult, schedule
 from .model import Casefile, Link, Snapshot
+from .quality import out_of_sequence_links
 from .tables import Table
 
 __all__ = [
@@ -61,6 +62,7 @@ CHANGE_KINDS = (
     "actual-revised",
     "progress-backwards",
     "reopened",
+    "out-of-sequence",
     "longest-path-joined",
     "longest-path-left",
     "completion-moved",
@@ -184,6 +186,10 @@ def compare_snapshots(casefile: Casefile, old_id: str, new_id: str) -> Compariso
     * An actual date is *revised* when the old snapshot reported it and the
       new one reports another (or none: a start withdrawn; a finish
       withdrawn is reported as ``reopened``).
+    * Progress is *out of sequence* when an actual date in the new snapshot
+      breaks a link that was not broken in the old one (the successor
+      started, or finished, before the predecessor it waits for); ``before``
+      is then ``None`` and ``after`` the successor's actual date.
     * Progress goes *backwards* when the remaining duration rises while the
       original duration (the scope) is unchanged, or the percent complete
       falls.
@@ -204,6 +210,7 @@ def compare_snapshots(casefile: Casefile, old_id: str, new_id: str) -> Compariso
     changes = _activity_changes(old_s, new_s, on_path)
     changes += _link_changes(old_s, new_s, on_path)
     changes += _progress_changes(old_s, new_s, on_path)
+    changes += _sequence_changes(old_s, new_s, on_path)
     changes += _path_changes(old_r, new_r, new_s)
     cal_id = new_s.activities[new_r.completion_id].calendar or casefile.project.default_calendar
     one = timedelta(days=1)
@@ -308,6 +315,22 @@ def _progress_changes(old_s: Snapshot, new_s: Snapshot, on_path: set[str]) -> li
                 and n.percent_complete < o.percent_complete):
             out.append(Change("progress-backwards", aid, "percent_complete", o.percent_complete,
                               n.percent_complete, p, note="percent complete down"))
+    return out
+
+
+def _sequence_changes(old_s: Snapshot, new_s: Snapshot, on_path: set[str]) -> list[Change]:
+    """Links out of sequence in the new snapshot that were not in the old one."""
+    before = {(k.pred, k.succ, k.type) for k in out_of_sequence_links(old_s)}
+    out: list[Change] = []
+    for link in out_of_sequence_links(new_s):
+        if link.key in before:
+            continue
+        s = new_s.activities[link.succ]
+        field = "actual_start" if link.type in ("FS", "SS") else "actual_finish"
+        waits_for = "finish" if link.type in ("FS", "FF") else "start"
+        out.append(Change("out-of-sequence", link.succ, field, None, getattr(s, field) or s.actual_start,
+                          link.pred in on_path or link.succ in on_path, link.pred, link.succ,
+                          note=f"{link.type} link: came before {link.pred}'s {waits_for}"))
     return out
 
 

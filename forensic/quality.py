@@ -52,6 +52,7 @@ __all__ = [
     "QualityReport",
     "assess_casefile",
     "assess_quality",
+    "out_of_sequence_links",
     "quality_json",
     "quality_table",
 ]
@@ -197,25 +198,27 @@ def _instant_of_finish(a: Activity) -> date | None:
     return None if d is None else d + timedelta(days=1)
 
 
-def _out_of_sequence(snap: Snapshot) -> list[str]:
-    """Activities whose actual dates break a link (the successor's side came first)."""
+def out_of_sequence_links(snap: Snapshot) -> tuple[Link, ...]:
+    """The links whose actual dates run out of sequence (the successor's side came first).
+
+    An FS or SS successor started, or an FF or SF successor finished, before
+    the predecessor's finish (FS, FF) or start (SS, SF) that the link waits
+    for, or while that predecessor has not reached it. Lags are not
+    considered: this is about the order of the work, from actual dates only,
+    timed as the engine times links (common practice; AACE RP 29R-03, sec.
+    2.2 on out-of-sequence progress).
+    """
     acts = snap.activities
-    bad: list[str] = []
+    bad: list[Link] = []
     for link in snap.links:
         p, s = acts[link.pred], acts[link.succ]
         pred_day = _instant_of_start(p) if link.type in ("SS", "SF") else _instant_of_finish(p)
-        if link.type in ("FS", "SS"):
-            succ_day = _instant_of_start(s)
-            # The successor's start date must be on or after the day passed on.
-            if succ_day is None:
-                continue
-        else:
-            succ_day = _instant_of_finish(s)
-            if succ_day is None:
-                continue
-        if (pred_day is None or succ_day < pred_day) and s.id not in bad:
-            bad.append(s.id)
-    return bad
+        succ_day = _instant_of_start(s) if link.type in ("FS", "SS") else _instant_of_finish(s)
+        if succ_day is None:
+            continue  # the successor's side has not happened: nothing out of order yet
+        if pred_day is None or succ_day < pred_day:
+            bad.append(link)
+    return tuple(bad)
 
 
 # -- the assessment --------------------------------------------------------
@@ -488,7 +491,7 @@ def _practitioners_checks(
         or (a.id not in has_succ and a.id != result.completion_id)
     ]
     started = [a for a in acts.values() if a.is_started or (a.is_milestone and a.is_finished)]
-    oos = _out_of_sequence(snap)
+    oos = _succs(out_of_sequence_links(snap))
     no_cal = [a.id for a in acts.values() if a.calendar is None]
     # A milestone that gathers several predecessors and feeds several
     # successors acts as a summary: every successor then waits for every

@@ -62,6 +62,7 @@ def _pair():
         act("P", 10, remaining=2, **started),
         act("Q", 10, remaining=4, percent_complete=60, **started),
         act("R", 2, actual_start=date(2026, 1, 5), actual_finish=date(2026, 1, 6)),
+        act("T", 5), act("S", 3),
     ]
     new = [
         *common,
@@ -77,8 +78,9 @@ def _pair():
         act("Q", 10, remaining=4, percent_complete=40, **started),  # percent down
         act("R", 2, actual_start=date(2026, 1, 5), remaining=1),  # reopened
         act("F", 1),  # added (E deleted)
+        act("T", 5), act("S", 3, actual_start=date(2026, 1, 26), remaining=3),  # started before T finished
     ]
-    main = [Link("ST", "A"), Link("A", "B"), Link("B", "C"), Link("ST", "X"), Link("X", "END")]
+    main = [Link("ST", "A"), Link("A", "B"), Link("B", "C"), Link("ST", "X"), Link("X", "END"), Link("T", "S")]
     old_links = [*main, Link("C", "END"), Link("ST", "D"), Link("D", "END")]
     new_links = [*main, Link("C", "END", lag=-2), Link("A", "D"), Link("D", "END")]
     return casefile(old, old_links, new, new_links)
@@ -113,6 +115,7 @@ def test_one_change_of_every_kind_is_listed_exactly():
         ("progress-backwards", "P", "remaining", 2, 4, False, None, None),
         ("progress-backwards", "Q", "percent_complete", 60, 40, False, None, None),
         ("reopened", "R", "actual_finish", date(2026, 1, 6), None, False, None, None),
+        ("out-of-sequence", "S", "actual_start", None, date(2026, 1, 26), False, "T", "S"),
         ("longest-path-joined", "X", "longest_path", False, True, True, None, None),
         ("longest-path-left", "A", "longest_path", True, False, True, None, None),
         ("longest-path-left", "B", "longest_path", True, False, True, None, None),

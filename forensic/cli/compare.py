@@ -27,6 +27,7 @@ _HEADINGS = {
     "actual-revised": "Actual dates revised after they were reported",
     "progress-backwards": "Progress that went backwards",
     "reopened": "Finished activities reopened",
+    "out-of-sequence": "Progress reported out of sequence",
     "longest-path-joined": "Joined the longest path",
     "longest-path-left": "Left the longest path",
     "completion-moved": "Forecast completion moved",
@@ -45,7 +46,7 @@ def compare_command(casefile: Path, old: str, new: str, as_json: bool, as_csv: b
     Changes are grouped by kind: activities added and deleted; names,
     durations, calendars, constraints, parties and areas edited; links added,
     deleted and changed; actual dates revised after they were reported;
-    progress that went backwards; reopened work; the longest path in each and
+    progress that went backwards; reopened work; progress out of sequence; the longest path in each and
     who joined or left it; and the move in forecast completion and its float.
     A `*` marks a change on or touching the longest path of either snapshot
     (AACE RP 29R-03, sec. 2.3; AACE RP 49R-06).
