@@ -29,9 +29,12 @@ def snap(acts, links, sid="BL", dd=MON, role="baseline"):
     return Snapshot(sid, dd, frozen_mapping({a.id: a for a in acts}), tuple(links), role=role)
 
 
+SIX = Calendar("6d", ("mon", "tue", "wed", "thu", "fri", "sat"))
+
+
 def casefile(*snapshots, contract=None, completion="END", logic="retained"):
     project = Project("t", "5d", completion=completion, contract_completion=contract, progress_logic=logic)
-    return Casefile(project, frozen_mapping({"5d": FIVE}), frozen_mapping(), tuple(snapshots))
+    return Casefile(project, frozen_mapping({"5d": FIVE, "6d": SIX}), frozen_mapping(), tuple(snapshots))
 
 
 def one(acts, links, key, **kw):
@@ -211,6 +214,16 @@ def test_critical_path_test_passes_on_a_finish_to_start_chain():
     c = one([start(), task("A", 5), task("B", 5), finish()], chain("ST", "A", "B", "END"), "critical-path-test")
     assert (c.value, c.passed) == (600.0, True)
     assert "delayed A" in c.note
+
+
+def test_critical_path_test_across_calendars_allows_the_roll_over():
+    """Check 12: a 6-day-week task before a 5-day one: the completion moves 600 of A's days, within 2 %."""
+    acts = [start(), task("A", 6, calendar="6d"), task("B", 5), finish()]
+    c = one(acts, chain("ST", "A", "B", "END"), "critical-path-test")
+    # A (Mon-Sat) ends on a Saturday both times (606 = 101 six-day weeks from Mon 5 Jan), B
+    # then runs Mon-Fri: the completion Friday moves exactly 100 weeks = 600 of A's days.
+    assert (c.value, c.passed) == (600.0, True)
+    assert "crosses calendars (5d, 6d)" in c.note
 
 
 def test_critical_path_test_fails_when_the_path_runs_through_a_start_to_start_link():
