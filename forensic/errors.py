@@ -17,12 +17,15 @@ from dataclasses import dataclass
 __all__ = [
     "CasefileError",
     "ForensicError",
+    "FragnetError",
     "InputProblem",
     "LimitExceeded",
     "LogicLoopError",
     "NotFoundError",
     "OutputError",
+    "RecoveryError",
     "ScheduleError",
+    "WindowSpecError",
 ]
 
 
@@ -97,9 +100,39 @@ class LogicLoopError(ScheduleError):
         super().__init__(msg)
 
 
+class FragnetError(ScheduleError):
+    """Raised when a fragnet cannot be inserted into a snapshot.
+
+    For example a tie to an activity that is neither in the fragnet nor in
+    the snapshot, or a fragnet activity whose id the snapshot already has;
+    the message names each offending activity and link. A fragnet that
+    closes a loop raises :class:`LogicLoopError` instead.
+    """
+
+
 class NotFoundError(ForensicError, LookupError):
     """Raised when a snapshot, event, party or activity named by the user does not exist."""
 
 
 class OutputError(ForensicError, OSError):
     """Raised when an output cannot be written, or would overwrite a casefile input."""
+
+
+class WindowSpecError(ForensicError, ValueError):
+    """Raised when user-defined analysis windows name snapshots out of order or twice.
+
+    The message names the option or manifest key and the offending value.
+    """
+
+
+class RecoveryError(ForensicError, ValueError):
+    """Raised when a recovery target cannot be met by shortening the remaining work.
+
+    ``earliest`` is the earliest completion that shortening within the
+    activities' limits achieves (as rescheduled by the engine), so the caller
+    can offer it instead.
+    """
+
+    def __init__(self, message: str, earliest=None):
+        self.earliest = earliest
+        super().__init__(message)
