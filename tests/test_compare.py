@@ -1,7 +1,12 @@
-"""Update-to-update comparison: one change of every kind, found exactly, with its longest-path flag."""
+"""Update-to-update comparison: one change of every kind, found exactly, with its longest-path flag; the demo story."""
 
+import tomllib
 from datetime import date
+from pathlib import Path
 
+import pytest
+
+from forensic.casefile import load_casefile
 from forensic.compare import CHANGE_KINDS, Change, compare_json, compare_snapshots, compare_table
 from forensic.model import (
     Activity,
@@ -201,3 +206,51 @@ def test_compare_command_prints_groups_and_json(monkeypatch):
     assert csv_out.output.splitlines()[0] == "kind,activity,pred,succ,field,before,after,longest_path,note"
     missing = runner.invoke(main, ["compare", "case", "U1", "U9"])
     assert missing.exit_code == 1 and "no snapshot 'U9'" in missing.output
+
+
+# -- the demo casefile's story (casefiles/riverside/README.md and story.toml) --
+
+DEMO = Path(__file__).resolve().parents[1] / "casefiles" / "riverside"
+
+
+@pytest.fixture(scope="module")
+def demo():
+    """The demo casefile and the facts its story pins (story.toml, written by its generator)."""
+    story = tomllib.loads((DEMO / "story.toml").read_text(encoding="utf-8"))
+    return load_casefile(DEMO), story
+
+
+def _from_previous(cf, update):
+    ids = [s.id for s in cf.snapshots]
+    return compare_snapshots(cf, ids[ids.index(update) - 1], update)
+
+
+def test_demo_revised_actual_finish_is_found(demo):
+    """The demo's corrected actual finish (story: actual_correction) shows as actual-revised."""
+    cf, story = demo
+    fact = story["actual_correction"]
+    r = _from_previous(cf, fact["corrected_in"])
+    hits = [c for c in r.of_kind("actual-revised") if c.activity == fact["activity"]]
+    assert [c.field for c in hits] == ["actual_finish"]
+    reported = cf.snapshot(fact["reported_in"]).activities[fact["activity"]].actual_finish
+    assert hits[0].before == reported and hits[0].after != reported
+
+
+def test_demo_logic_revision_is_found(demo):
+    """The demo's logic revision (story: logic_revision) shows as exactly one link deleted and one added."""
+    cf, story = demo
+    fact = story["logic_revision"]
+    r = _from_previous(cf, fact["update"])
+    deleted = [(c.pred, c.succ, c.before.split()[0]) for c in r.of_kind("link-deleted")]
+    added = [(c.pred, c.succ, c.after.split()[0]) for c in r.of_kind("link-added")]
+    assert [tuple(x) for x in fact["removed"]] == [x for x in deleted if x[1] == fact["removed"][0][1]]
+    assert [tuple(x) for x in fact["added"]] == [x for x in added if x[1] == fact["added"][0][1]]
+
+
+def test_demo_out_of_sequence_progress_is_found(demo):
+    """The demo's out-of-sequence start (story: out_of_sequence) shows in the update that reports it."""
+    cf, story = demo
+    fact = story["out_of_sequence"]
+    r = _from_previous(cf, fact["update"])
+    hits = [(c.pred, c.activity, c.field) for c in r.of_kind("out-of-sequence")]
+    assert (fact["unfinished_predecessor"], fact["activity"], "actual_start") in hits
