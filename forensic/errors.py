@@ -23,6 +23,7 @@ __all__ = [
     "NotFoundError",
     "OutputError",
     "ScheduleError",
+    "TemplateError",
 ]
 
 
@@ -103,3 +104,11 @@ class NotFoundError(ForensicError, LookupError):
 
 class OutputError(ForensicError, OSError):
     """Raised when an output cannot be written, or would overwrite a casefile input."""
+
+
+class TemplateError(ForensicError, ValueError):
+    """Raised when a report template is missing or invalid.
+
+    The message names the template file, the section (by number and kind)
+    and the key or placeholder at fault, and says what was expected.
+    """

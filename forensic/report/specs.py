@@ -1,0 +1,142 @@
+"""What each kind of report section accepts from a template.
+
+A template (``report_templates/*.toml``) lists sections by ``kind``. For each
+kind this module says which wording keys (``[section.text]``) it needs, which
+placeholders each of those texts may use, and which options it takes. The
+template loader checks a template against these specs before anything is
+computed, so a misspelt key or placeholder is reported with its place in the
+file instead of surfacing half-way through a report.
+
+Placeholders are filled from the analyses' result objects, already formatted
+(dates as "4 May 2026", days as whole numbers, units pluralised).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+__all__ = ["OptionSpec", "SectionSpec", "SPECS"]
+
+
+@dataclass(frozen=True, slots=True)
+class OptionSpec:
+    """An option of a section: its type, default and (for text) allowed values."""
+
+    type: type
+    default: object
+    choices: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True, slots=True)
+class SectionSpec:
+    """A section kind: wording keys (required, with their placeholders), optional keys, options.
+
+    ``protocol`` names the published method the section reports, for the
+    method statement (empty when the section reports no analysis).
+    """
+
+    kind: str
+    texts: dict[str, tuple[str, ...]]
+    optional_texts: dict[str, tuple[str, ...]] = field(default_factory=dict)
+    options: dict[str, OptionSpec] = field(default_factory=dict)
+    protocol: str = ""
+
+
+_SCOPE = OptionSpec(str, "all", ("all", "latest", "last-two"))
+
+# Fields shared by every sentence: the project and the report's span.
+COMMON = ("project", "baseline", "latest", "first_data_date", "last_data_date", "unit")
+
+_MOVE = (
+    *COMMON, "snapshot", "data_date", "previous", "previous_data_date", "previous_completion",
+    "completion", "completion_id", "completion_name", "days", "days_unit", "slip", "slip_unit",
+    "float", "path", "path_count",
+)
+_MILESTONE = (
+    *COMMON, "milestone", "name", "first_snapshot", "first_float", "last_snapshot", "last_float",
+    "change", "first_date", "last_date",
+)
+
+SPECS: dict[str, SectionSpec] = {
+    s.kind: s
+    for s in (
+        SectionSpec(
+            "cover",
+            texts={"lead": (*COMMON, "snapshots", "updates", "version", "template")},
+            optional_texts={"note": (*COMMON, "version", "template")},
+            options={"page_break": OptionSpec(bool, True)},
+        ),
+        SectionSpec("cautions", texts={"text": COMMON}),
+        SectionSpec(
+            "summary",
+            texts={
+                "later": (*COMMON, "baseline_completion", "completion", "slip", "slip_unit", "latest_data_date"),
+                "earlier": (*COMMON, "baseline_completion", "completion", "slip", "slip_unit", "latest_data_date"),
+                "unchanged": (*COMMON, "baseline_completion", "completion", "latest_data_date"),
+            },
+            optional_texts={
+                "contract_after": (*COMMON, "contract_completion", "variance", "variance_unit"),
+                "contract_before": (*COMMON, "contract_completion", "variance", "variance_unit"),
+                "contract_on": (*COMMON, "contract_completion"),
+                "float": (*COMMON, "float", "completion_id", "completion_name", "critical"),
+                "caption": COMMON,
+            },
+            options={"chart": OptionSpec(bool, True)},
+        ),
+        SectionSpec(
+            "method",
+            texts={"text": (*COMMON, "progress_logic", "critical_float", "delay_unit", "snapshots")},
+            optional_texts={"protocols": COMMON, "settings": COMMON},
+        ),
+        SectionSpec(
+            "completion-trend",
+            texts={
+                "first": (*COMMON, "snapshot", "data_date", "completion", "completion_id", "completion_name", "float"),
+                "later": _MOVE,
+                "earlier": _MOVE,
+                "unchanged": _MOVE,
+            },
+            optional_texts={"intro": COMMON, "caption": COMMON, "contract_line": (*COMMON, "contract_completion")},
+            options={"scope": _SCOPE, "table": OptionSpec(bool, True)},
+            protocol=(
+                "Observational / static or dynamic / as-is: the forecast completion of each update "
+                "read as it stood (AACE RP 29R-03, MIP 3.1 to 3.3)"
+            ),
+        ),
+        SectionSpec(
+            "float-erosion",
+            texts={
+                "eroded": _MILESTONE,
+                "gained": _MILESTONE,
+                "steady": _MILESTONE,
+                "bands": (*COMMON, "snapshot", "data_date", "open", "negative", "critical", "finished", "critical_float"),
+            },
+            optional_texts={"intro": COMMON, "caption": COMMON, "bands_caption": COMMON, "missing": _MILESTONE},
+            options={"scope": _SCOPE, "table": OptionSpec(bool, True), "band_chart": OptionSpec(bool, True)},
+            protocol=(
+                "Float trend of the completion and key milestones over the updates "
+                "(GAO-16-89G, best practice 6; AACE RP 49R-06)"
+            ),
+        ),
+        SectionSpec(
+            "longest-path",
+            texts={
+                "sentence": (
+                    *COMMON, "snapshot", "data_date", "count", "remaining", "next", "next_name",
+                    "completion", "completion_id", "completion_name", "float",
+                ),
+            },
+            optional_texts={"intro": COMMON, "caption": (*COMMON, "snapshot", "data_date")},
+            options={"scope": OptionSpec(str, "all", ("all", "latest", "last-two")),
+                     "table": OptionSpec(bool, False), "rows": OptionSpec(int, 30)},
+            protocol=(
+                "Longest path traced back from the completion through driving links "
+                "(AACE RP 49R-06, Identifying the Critical Path)"
+            ),
+        ),
+        SectionSpec(
+            "inputs",
+            texts={"text": (*COMMON, "version", "command", "template", "font", "files")},
+        ),
+    )
+}
