@@ -158,12 +158,14 @@ def data_table(
     widths: Sequence[float] | None = None,
     numeric: Sequence[int] = (),
     tiny: Sequence[int] = (),
+    keep: bool = True,
 ) -> Flowable:
     """A table whose header repeats on every page it breaks across.
 
     Cells are escaped text wrapped in paragraphs (so long names wrap instead
     of running off the page); columns listed in ``numeric`` are right-aligned,
-    those in ``tiny`` set smaller (digests). A short table is kept on one page.
+    those in ``tiny`` set smaller (digests). A short table is kept on one
+    page unless ``keep`` is false (the caller keeps it with its lead-in).
     """
     st = styles()
     head = [Paragraph(escape(str(c)), st["cell_head_right"] if i in numeric else st["cell_head"]) for i, c in enumerate(columns)]
@@ -194,7 +196,7 @@ def data_table(
     for r in range(2, len(body) + 1, 2):
         commands.append(("BACKGROUND", (0, r), (-1, r), ZEBRA))
     table.setStyle(TableStyle(commands))
-    return KeepTogether([table]) if len(body) <= 12 else table
+    return KeepTogether([table]) if keep and len(body) <= 12 else table
 
 
 def boxed(flowables: list[Flowable]) -> Table:

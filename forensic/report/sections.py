@@ -217,11 +217,11 @@ def method(ctx: ReportContext, section: Section) -> list[Flowable]:
             protocols.append((s.heading, proto))
     if protocols:
         lead = _paras(text_or_none(ctx, section, "protocols"))
-        table = data_table((_col(section, "section", "Section"), _col(section, "protocol", "Method (published name)")), protocols, (1, 3))
+        table = data_table((_col(section, "section", "Section"), _col(section, "protocol", "Method (published name)")), protocols, (1, 3), keep=False)
         out.append(KeepTogether([*lead, table]))
         out.append(Spacer(1, 8))
     lead = _paras(text_or_none(ctx, section, "settings"))
-    table = data_table((_col(section, "setting", "Setting"), _col(section, "value", "Value")), settings_rows(ctx), (1, 3))
+    table = data_table((_col(section, "setting", "Setting"), _col(section, "value", "Value")), settings_rows(ctx), (1, 3), keep=False)
     out.append(KeepTogether([*lead, table]))
     return out
 
@@ -440,5 +440,8 @@ def render_section(ctx: ReportContext, section: Section, number: int | None) -> 
     heading = Heading(escape(label), st["h1"], f"section-{section.number}")
     if not body:
         return [CondPageBreak(120), heading]
-    # The heading stays on the page of the first thing under it.
-    return [CondPageBreak(120), KeepTogether([heading, body[0]]), *body[1:]]
+    # The heading stays on the page of the first thing under it (unless that is itself kept whole).
+    first = body[0]
+    if isinstance(first, KeepTogether):
+        return [CondPageBreak(160), heading, *body]
+    return [CondPageBreak(120), KeepTogether([heading, first]), *body[1:]]
