@@ -140,8 +140,9 @@ def workday_index(cal: Calendar, lo: int, hi: int) -> WorkdayIndex:
     Raises ``ValueError`` when the calendar has no working day at all, since
     nothing could ever be scheduled on it.
     """
-    lo = max(lo, _MIN_DAY)
-    hi = min(hi, _MAX_DAY)
+    if lo < _MIN_DAY or hi > _MAX_DAY + 1:
+        msg = "working-day horizon outside years 1-9999"
+        raise ValueError(msg)
     if not cal.workdays and not cal.extra_workdays:
         msg = f"calendar {cal.id!r} has no working days"
         raise ValueError(msg)

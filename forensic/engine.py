@@ -55,8 +55,9 @@ from dataclasses import dataclass
 from datetime import date
 
 import networkx as nx
+import numpy as np
 
-from .calendars import WorkdayIndex, day_number, from_day_number, workday_index
+from .calendars import _MAX_DAY, _MIN_DAY, WorkdayIndex, day_number, from_day_number, workday_index
 from .errors import LogicLoopError, ScheduleError
 from .model import Calendar, Casefile, Project, Snapshot
 
@@ -157,18 +158,6 @@ def topological_order(ids: list[str], succs: list[list[int]], where: str = "") -
     return order
 
 
-def _horizon(snapshot: Snapshot, pad_workdays: int) -> tuple[int, int]:
-    days = [day_number(snapshot.data_date)]
-    for act in snapshot.activities.values():
-        for d in (act.actual_start, act.actual_finish, act.constraint_date):
-            if d is not None:
-                days.append(day_number(d))
-    # Seven calendar days per working day covers a one-day week; a year of
-    # margin covers holidays.
-    margin = 7 * pad_workdays + 400
-    return min(days) - margin, max(days) + margin
-
-
 def schedule(
     snapshot: Snapshot,
     calendars: Mapping[str, Calendar],
@@ -212,14 +201,21 @@ def schedule(
     """
     logic = progress_logic or project.progress_logic
     crit = project.critical_float if critical_float is None else critical_float
-    pad = sum(a.duration + (a.remaining or 0) for a in snapshot.activities.values())
-    pad += sum(abs(link.lag) for link in snapshot.links) + 10
-    for _ in range(8):
-        lo, hi = _horizon(snapshot, pad)
+    net = _Network(snapshot, calendars, project)
+    # Start with a horizon of some 3,000 working days either side of the
+    # dates in the data (enough for almost any project) and widen it only
+    # when a pass runs off its end.
+    pad = min(net.extent, 3000)
+    while True:
+        margin = 7 * pad + 400  # seven calendar days a working day covers a one-day week
+        lo = max(net.first_day - margin, _MIN_DAY)
+        hi = min(net.last_day + margin, _MAX_DAY)
         try:
-            return _schedule(snapshot, calendars, project, logic, crit, lo, hi)
+            return _schedule(snapshot, net, project, logic, crit, lo, hi)
         except (_HorizonTooShort, IndexError):
-            pad *= 4
+            if pad >= net.extent:
+                break
+            pad = min(pad * 4, net.extent)
     msg = f"snapshot {snapshot.id}: the schedule runs beyond the supported dates"
     raise ScheduleError(msg)
 
@@ -229,270 +225,399 @@ def schedule_snapshot(casefile: Casefile, snapshot_id: str, **options) -> Schedu
     return schedule(casefile.snapshot(snapshot_id), casefile.calendars, casefile.project, **options)
 
 
+_TYPE_CODE = {"FS": 0, "SS": 1, "FF": 2, "SF": 3}
+_BIG = 1 << 40
+
+
+class _ActivityTable(Mapping):
+    """The per-activity results, built into :class:`ScheduledActivity` records on first use.
+
+    The passes work on numpy arrays; turning 50,000 of them into records
+    costs more than the passes, so a record is made only when asked for.
+    """
+
+    def __init__(self, ids, cols, driving_of):
+        self._ids = ids
+        self._pos = {a: i for i, a in enumerate(ids)}
+        self._cols = cols  # name -> numpy array, converted to lists on first use
+        self._lists = None
+        self._driving_of = driving_of
+        self._made: dict[str, ScheduledActivity] = {}
+
+    def __getitem__(self, key: str) -> ScheduledActivity:
+        rec = self._made.get(key)
+        if rec is None:
+            rec = self._made[key] = self._make(self._pos[key])
+        return rec
+
+    def __iter__(self):
+        return iter(self._ids)
+
+    def __len__(self) -> int:
+        return len(self._ids)
+
+    def __contains__(self, key) -> bool:
+        return key in self._pos
+
+    def _make(self, i: int) -> ScheduledActivity:
+        if self._lists is None:
+            self._lists = {k: v.tolist() for k, v in self._cols.items()}
+        c = self._lists
+        fdn = from_day_number
+        drivers = tuple(self._ids[p] for p in self._driving_of(i))
+        if c["status"][i] == 2:
+            return ScheduledActivity(
+                self._ids[i], "finished", fdn(c["start_day"][i]), fdn(c["finish_day"][i]),
+                None, None, None, None, False, drivers,
+            )
+        return ScheduledActivity(
+            self._ids[i],
+            "in-progress" if c["status"][i] == 1 else "not-started",
+            fdn(c["start_day"][i]),
+            fdn(c["finish_day"][i]),
+            fdn(c["late_start_day"][i]),
+            fdn(c["late_finish_day"][i]),
+            c["total_float"][i],
+            c["free_float"][i],
+            bool(c["critical"][i]),
+            drivers,
+        )
+
+
+def _levels(n: int, lp: np.ndarray, ls: np.ndarray, ids: list[str], where: str) -> np.ndarray:
+    """Topological level of every activity (Kahn's algorithm, one frontier at a time).
+
+    A level holds activities whose predecessors all lie on earlier levels, so
+    each level can be scheduled as one vectorised step.
+    """
+    level = np.full(n, -1, dtype=np.int64)
+    indeg = np.bincount(ls, minlength=n)
+    order = np.argsort(lp, kind="stable")
+    succ_sorted = ls[order]
+    starts = np.searchsorted(lp[order], np.arange(n + 1))
+    frontier = np.flatnonzero(indeg == 0)
+    depth = 0
+    while frontier.size:
+        level[frontier] = depth
+        lo_, hi_ = starts[frontier], starts[frontier + 1]
+        counts = hi_ - lo_
+        if counts.sum():
+            take = np.repeat(hi_ - counts.cumsum(), counts) + np.arange(counts.sum())
+            succ = succ_sorted[take]
+            np.subtract.at(indeg, succ, 1)
+            cand = np.unique(succ)
+            frontier = cand[indeg[cand] == 0]
+        else:
+            frontier = frontier[:0]
+        depth += 1
+    if (level < 0).any():
+        left = set(np.flatnonzero(level < 0).tolist())
+        graph = nx.DiGraph(
+            (ids[p], ids[s]) for p, s in zip(lp.tolist(), ls.tolist(), strict=True) if p in left and s in left
+        )
+        cycle = nx.find_cycle(graph)
+        raise LogicLoopError([u for u, _ in cycle], where)
+    return level
+
+
+def _group(keys: np.ndarray, nlevels: int) -> tuple[np.ndarray, np.ndarray]:
+    """Indices sorted by ``keys`` and the start of each key's run (CSR layout)."""
+    order = np.argsort(keys, kind="stable")
+    starts = np.searchsorted(keys[order], np.arange(nlevels + 1))
+    return order, starts
+
+
+class _Network:
+    """A snapshot compiled to arrays once, so a wider horizon re-runs only the passes."""
+
+    def __init__(self, snapshot: Snapshot, calendars: Mapping[str, Calendar], project: Project):
+        acts = list(snapshot.activities.values())
+        self.acts = acts
+        self.ids = ids = [a.id for a in acts]
+        self.n = n = len(acts)
+        if n == 0:
+            msg = f"snapshot {snapshot.id} has no activities"
+            raise ScheduleError(msg)
+        self.pos = pos = {a: i for i, a in enumerate(ids)}
+        default = project.default_calendar
+        cal_names = [a.calendar or default for a in acts]
+        self.calendars: list[Calendar] = []
+        numbers: dict[str, int] = {}
+        for aid, cid in zip(ids, cal_names, strict=True):
+            if cid not in numbers:
+                if cid not in calendars:
+                    msg = f"snapshot {snapshot.id}, activity {aid}: unknown calendar {cid!r}"
+                    raise ScheduleError(msg)
+                numbers[cid] = len(self.calendars)
+                self.calendars.append(calendars[cid])
+        self.cal = np.array([numbers[c] for c in cal_names], dtype=np.int64)
+
+        kinds = [a.kind for a in acts]
+        durations = np.array([a.duration for a in acts], dtype=np.int64)
+        self.start_ms = np.array([k == "start-milestone" for k in kinds], dtype=bool)
+        self.zero = np.array([k != "task" for k in kinds], dtype=bool) | (durations == 0)
+        # Instant kinds (module notes): a task starts late-type and finishes
+        # early-type; a finish milestone is early-type, a start milestone late-type.
+        self.s_late = ~self.zero | self.start_ms
+        self.f_late = self.start_ms.copy()
+        starts = [a.actual_start for a in acts]
+        finishes = [a.actual_finish for a in acts]
+        has_s = np.array([x is not None for x in starts], dtype=bool)
+        has_f = np.array([x is not None for x in finishes], dtype=bool)
+        self.done = has_f | (self.zero & has_s)
+        self.status = np.where(self.done, 2, np.where(has_s, 1, 0)).astype(np.int64)
+        remaining = np.array([a.remaining_duration for a in acts], dtype=np.int64)
+        self.dur = np.where(self.done | (self.zero & (self.status == 0)), 0, remaining)
+        s_days = [day_number(x) if x is not None else None for x in starts]
+        f_days = [day_number(x) if x is not None else None for x in finishes]
+        self.act_start = np.array(
+            [x if x is not None else (y if y is not None else 0) for x, y in zip(s_days, f_days, strict=True)],
+            dtype=np.int64,
+        )
+        self.act_finish = np.array(
+            [y if y is not None else (x if x is not None else 0) for x, y in zip(s_days, f_days, strict=True)],
+            dtype=np.int64,
+        )
+        self.constrained = [i for i, a in enumerate(acts) if a.constraint is not None and a.constraint_date is not None]
+        dates = [x for x in s_days if x is not None] + [y for y in f_days if y is not None]
+        dates += [day_number(acts[i].constraint_date) for i in self.constrained]
+        dates.append(day_number(snapshot.data_date))
+        self.first_day, self.last_day = min(dates), max(dates)
+
+        links = snapshot.links
+        try:
+            self.lp = np.array([pos[k.pred] for k in links], dtype=np.int64)
+            self.lsu = np.array([pos[k.succ] for k in links], dtype=np.int64)
+        except KeyError as exc:
+            msg = f"snapshot {snapshot.id}: a link names an unknown activity {exc.args[0]!r}"
+            raise ScheduleError(msg) from None
+        self.ltyp = np.array([_TYPE_CODE[k.type] for k in links], dtype=np.int64)
+        self.lag = np.array([k.lag for k in links], dtype=np.int64)
+        self.m = len(links)
+        self.start_type = (self.ltyp == 1) | (self.ltyp == 3)  # timed from the predecessor's start
+        self.on_finish = (self.ltyp == 2) | (self.ltyp == 3)  # holds the successor's finish
+        self.level = _levels(n, self.lp, self.lsu, ids, f"snapshot {snapshot.id}")
+        self.nlev = int(self.level.max()) + 1
+        self.node_order, self.node_starts = _group(self.level, self.nlev)
+        self.extent = int(durations.sum() + remaining.sum() + np.abs(self.lag).sum()) + 10
+
+
 def _schedule(
     snapshot: Snapshot,
-    calendars: Mapping[str, Calendar],
+    net: _Network,
     project: Project,
     logic: str,
     crit: int,
     lo: int,
     hi: int,
 ) -> ScheduleResult:
-    acts = list(snapshot.activities.values())
-    ids = [a.id for a in acts]
-    pos = {a: i for i, a in enumerate(ids)}
-    n = len(acts)
-    if n == 0:
-        msg = f"snapshot {snapshot.id} has no activities"
-        raise ScheduleError(msg)
+    acts, ids, n, pos = net.acts, net.ids, net.n, net.pos
+    cal, status, dur, s_late, f_late = net.cal, net.status, net.dur, net.s_late, net.f_late
+    act_start, act_finish, constrained = net.act_start, net.act_finish, net.constrained
+    lp, lsu, ltyp, lag, m = net.lp, net.lsu, net.ltyp, net.lag, net.m
+    start_type, on_finish = net.start_type, net.on_finish
+    level, nlev, node_order, node_starts = net.level, net.nlev, net.node_order, net.node_starts
 
-    index_of: dict[str, WorkdayIndex] = {}
-    cal_idx: list[WorkdayIndex] = []
-    for a in acts:
-        cid = a.calendar or project.default_calendar
-        ix = index_of.get(cid)
-        if ix is None:
-            try:
-                cal = calendars[cid]
-            except KeyError:
-                msg = f"snapshot {snapshot.id}, activity {a.id}: unknown calendar {cid!r}"
-                raise ScheduleError(msg) from None
-            ix = index_of[cid] = workday_index(cal, lo, hi)
-        cal_idx.append(ix)
-
-    # Per-activity plain lists (fast scalar access in the passes).
-    status = [0] * n  # 0 not started, 1 in progress, 2 finished
-    dur = [0] * n  # working days still to schedule
-    # Instant kinds: a task starts "late-type" (day of its first working day)
-    # and finishes "early-type" (day after its last working day); a finish
-    # milestone is early-type at both ends, a start milestone late-type.
-    start_late = [True] * n
-    finish_late = [False] * n
-    for i, a in enumerate(acts):
-        milestone = a.kind != "task" or a.duration == 0
-        if a.kind == "start-milestone":
-            start_late[i] = finish_late[i] = True
-        elif milestone:
-            start_late[i] = finish_late[i] = False
-        if a.actual_finish is not None or (milestone and a.actual_start is not None):
-            status[i] = 2
-        elif a.actual_start is not None:
-            status[i] = 1
-            dur[i] = a.remaining_duration
-        else:
-            dur[i] = 0 if milestone else a.remaining_duration
-
-    preds: list[list[tuple[int, str, int]]] = [[] for _ in range(n)]
-    succs_pos: list[list[int]] = [[] for _ in range(n)]
-    out_links: list[list[tuple[int, str, int]]] = [[] for _ in range(n)]
-    for link in snapshot.links:
-        p = pos.get(link.pred)
-        s = pos.get(link.succ)
-        if p is None or s is None:
-            msg = f"snapshot {snapshot.id}: link {link.pred} -> {link.succ} names an unknown activity"
-            raise ScheduleError(msg)
-        preds[s].append((p, link.type, link.lag))
-        out_links[p].append((s, link.type, link.lag))
-        succs_pos[p].append(s)
-    order = topological_order(ids, succs_pos, where=f"snapshot {snapshot.id}")
+    # Calendars as stacked arrays: first_at[c, t - lo] and days[c, k].
+    indices = [workday_index(c, lo, hi) for c in net.calendars]
+    width = max(ix.size for ix in indices) + 1
+    sentinel = hi + 10**7  # a day far past the horizon: using it fails the look-up, widening it
+    days = np.full((len(indices), width), sentinel, dtype=np.int64)
+    first_at = np.empty((len(indices), hi - lo + 1), dtype=np.int64)
+    for c, ix in enumerate(indices):
+        days[c, : ix.size] = ix.days_array
+        first_at[c] = ix.first_at
 
     dd = day_number(snapshot.data_date)
-    S = [0] * n  # start instant (day) passed to SS/SF successors
-    F = [0] * n  # finish instant (day) passed to FS/FF successors
-    es = [0] * n  # start boundary of the work still to schedule (own calendar)
-    ef = [0] * n  # finish boundary
-    start_day = [0] * n  # reported start date (day number)
-    finish_day = [0] * n  # reported finish date (day number)
-    driving: list[tuple[int, ...]] = [()] * n
-    warnings: list[str] = []
+    dd_k = first_at[cal, dd - lo]  # first boundary of remaining work, per activity
+    succ_status = status[lsu]
+    held = succ_status == 1
+    if logic == "override":
+        active = succ_status == 0
+    else:
+        active = (succ_status == 0) | (held & (ltyp != 1))
+    back_active = active & (status[lp] != 2)
 
-    for i in order:
-        a = acts[i]
-        C = cal_idx[i]
-        days = C.days
-        first_at = C.first_at
-        st = status[i]
-        if st == 2:
-            s_day = day_number(a.actual_start or a.actual_finish)
-            f_day = day_number(a.actual_finish or a.actual_start)
-            start_day[i], finish_day[i] = s_day, f_day
-            if a.kind == "start-milestone":
-                S[i] = F[i] = s_day
-            elif a.kind != "task" or a.duration == 0:
-                S[i] = F[i] = f_day + 1
-            else:
-                S[i], F[i] = s_day, f_day + 1
+    early_bound = np.full(n, -_BIG, dtype=np.int64)
+    late_bound = np.full(n, _BIG, dtype=np.int64)
+    for i in constrained:
+        if status[i] == 2:
             continue
-        d = dur[i]
-        best = first_at[dd - lo]  # no remaining work before the data date
-        cands: list[tuple[int, int]] = []
-        for p, typ, lag in preds[i]:
-            if st == 1:
-                if logic == "override" or typ == "SS":
-                    continue
-            t = S[p] if typ in _START_TYPES else F[p]
-            k = first_at[t - lo] + lag
-            if typ in _FINISH_ON_SUCC:
-                k -= d
-            cands.append((k, p))
-            if k > best:
-                best = k
-        if a.constraint is not None and a.constraint_date is not None:
-            best = max(best, _early_constraint_bound(a, st, d, C, lo, start_late[i], finish_late[i]))
-        driving[i] = tuple(
-            p for k, p in cands if k == best and (status[p] != 2 or k > first_at[dd - lo])
-        )
-        es[i] = best
-        ef[i] = best + d
-        if best < 0:
+        ix = indices[cal[i]]
+        e = _early_constraint_bound(acts[i], int(status[i]), int(dur[i]), ix, lo, bool(s_late[i]), bool(f_late[i]))
+        early_bound[i] = e
+        lb = _late_constraint_bound(acts[i], int(status[i]), int(dur[i]), ix, lo, bool(s_late[i]), bool(f_late[i]))
+        if lb is not None:
+            late_bound[i] = lb
+
+    # Finished work: fixed at its actual dates.
+    S = np.zeros(n, dtype=np.int64)
+    F = np.zeros(n, dtype=np.int64)
+    start_day = np.zeros(n, dtype=np.int64)
+    finish_day = np.zeros(n, dtype=np.int64)
+    done = net.done
+    zero_task = net.zero
+    start_ms = net.start_ms
+    S[done] = np.where(start_ms[done], act_start[done], np.where(zero_task[done], act_finish[done] + 1, act_start[done]))
+    F[done] = np.where(start_ms[done], act_start[done], act_finish[done] + 1)
+    start_day[done] = act_start[done]
+    finish_day[done] = act_finish[done]
+
+    # Forward pass, one level at a time.
+    es = np.zeros(n, dtype=np.int64)
+    cand = np.full(m, -_BIG, dtype=np.int64)
+    fwd = np.flatnonzero(active)
+    fwd_order, fwd_starts = _group(level[lsu[fwd]], nlev)
+    fwd = fwd[fwd_order]
+    for L in range(nlev):
+        nodes = node_order[node_starts[L] : node_starts[L + 1]]
+        nodes = nodes[status[nodes] != 2]
+        if nodes.size == 0:
+            continue
+        best = np.maximum(dd_k[nodes], early_bound[nodes])
+        es[nodes] = best
+        links = fwd[fwd_starts[L] : fwd_starts[L + 1]]
+        if links.size:
+            p = lp[links]
+            s = lsu[links]
+            t = np.where(start_type[links], S[p], F[p])
+            k = first_at[cal[s], t - lo] + lag[links] - np.where(on_finish[links], dur[s], 0)
+            cand[links] = k
+            np.maximum.at(es, s, k)
+        e = es[nodes]
+        if e.min() < 1:
             raise _HorizonTooShort
-        if d == 0:
-            inst = days[best] if finish_late[i] else days[best - 1] + 1
-            F[i] = inst
-            report = days[best] if finish_late[i] else days[best - 1]
-            finish_day[i] = report
-            if st == 1:
-                S[i] = day_number(a.actual_start)
-                start_day[i] = S[i]
-            else:
-                S[i] = inst
-                start_day[i] = report
-        else:
-            F[i] = days[best + d - 1] + 1
-            finish_day[i] = F[i] - 1
-            if st == 1:
-                S[i] = start_day[i] = day_number(a.actual_start)
-            else:
-                S[i] = start_day[i] = days[best]
+        c = cal[nodes]
+        dn = dur[nodes]
+        day_e = days[c, e]
+        day_before = days[c, e - 1]
+        day_last = days[c, e + dn - 1]
+        zero = dn == 0
+        prog = status[nodes] == 1
+        fl = f_late[nodes]
+        inst = np.where(fl, day_e, day_before + 1)
+        report = np.where(fl, day_e, day_before)
+        F[nodes] = np.where(zero, inst, day_last + 1)
+        finish_day[nodes] = np.where(zero, report, day_last)
+        S[nodes] = np.where(prog, act_start[nodes], np.where(zero, inst, day_e))
+        start_day[nodes] = np.where(prog, act_start[nodes], np.where(zero, report, day_e))
+    ef = es + dur
+    if (F > sentinel // 2).any() or (finish_day > sentinel // 2).any():
+        raise _HorizonTooShort
 
     # Completion: the named milestone, else the activity finishing last.
     comp = pos.get(project.completion) if project.completion else None
     if comp is None:
-        comp = max(order, key=lambda i: (F[i], finish_day[i]))
-    t_end = max(F)
+        key = np.lexsort((np.arange(n), -finish_day, -F))  # ties: first in file order
+        comp = int(key[0])
+    t_end = int(F.max())
 
-    # Backward pass over the work still to schedule.
-    big = 1 << 60
-    lf = [big] * n
-    ls = [big] * n
-    free = [big] * n
-    for i in reversed(order):
-        if status[i] == 2:
+    # Backward pass over the work still to schedule, latest level first.
+    lf = np.full(n, _BIG, dtype=np.int64)
+    early_f = np.full(n, _BIG, dtype=np.int64)
+    has_succ = np.bincount(lp[back_active], minlength=n) > 0
+    k_end = np.where(f_late, first_at[cal, t_end + 1 - lo] - 1, first_at[cal, t_end - lo])
+    bwd = np.flatnonzero(back_active)
+    bwd_order, bwd_starts = _group(level[lp[bwd]], nlev)
+    bwd = bwd[bwd_order]
+    ls_ = np.zeros(n, dtype=np.int64)
+    for L in range(nlev - 1, -1, -1):
+        nodes = node_order[node_starts[L] : node_starts[L + 1]]
+        nodes = nodes[status[nodes] != 2]
+        if nodes.size == 0:
             continue
-        a = acts[i]
-        C = cal_idx[i]
-        first_at = C.first_at
-        d = dur[i]
-        late_f = big
-        early_f = big  # latest finish boundary allowed by successors' early dates
-        any_succ = False
-        for j, typ, lag in out_links[i]:
-            stj = status[j]
-            if stj == 2:
-                continue
-            if stj == 1 and (logic == "override" or typ == "SS"):
-                continue
-            any_succ = True
-            Cj = cal_idx[j]
-            if typ in _FINISH_ON_SUCC:
-                m_late, m_early = lf[j], ef[j]
-            else:
-                m_late, m_early = ls[j], es[j]
-            if typ in _START_TYPES:
-                late_type, off = start_late[i], d
-            else:
-                late_type, off = finish_late[i], 0
-            t_late = Cj.days[m_late - lag]
-            t_early = Cj.days[m_early - lag]
-            if late_type:
-                k_late = first_at[t_late + 1 - lo] - 1 + off
-                k_early = first_at[t_early + 1 - lo] - 1 + off
-            else:
-                k_late = first_at[t_late - lo] + off
-                k_early = first_at[t_early - lo] + off
-            if k_late < late_f:
-                late_f = k_late
-            if k_early < early_f:
-                early_f = k_early
-        if not any_succ:
-            k_end = (first_at[t_end + 1 - lo] - 1) if finish_late[i] else first_at[t_end - lo]
-            late_f = early_f = k_end
-        if a.constraint is not None and a.constraint_date is not None:
-            bound = _late_constraint_bound(a, status[i], d, C, lo, start_late[i], finish_late[i])
-            if bound is not None and bound < late_f:
-                late_f = bound
-        if late_f - d < 1:
+        open_end = ~has_succ[nodes]
+        lf[nodes] = np.where(open_end, k_end[nodes], _BIG)
+        early_f[nodes] = lf[nodes]
+        links = bwd[bwd_starts[L] : bwd_starts[L + 1]]
+        if links.size:
+            p = lp[links]
+            s = lsu[links]
+            fin = on_finish[links]
+            m_late = np.where(fin, lf[s], ls_[s]) - lag[links]
+            m_early = np.where(fin, ef[s], es[s]) - lag[links]
+            if min(m_late.min(), m_early.min()) < 0:
+                raise _HorizonTooShort
+            t_late = days[cal[s], m_late]
+            t_early = days[cal[s], m_early]
+            st = start_type[links]
+            late_type = np.where(st, s_late[p], f_late[p])
+            off = np.where(st, dur[p], 0)
+            cp = cal[p]
+            k_late = np.where(late_type, first_at[cp, t_late + 1 - lo] - 1, first_at[cp, t_late - lo]) + off
+            k_early = np.where(late_type, first_at[cp, t_early + 1 - lo] - 1, first_at[cp, t_early - lo]) + off
+            np.minimum.at(lf, p, k_late)
+            np.minimum.at(early_f, p, k_early)
+        lf[nodes] = np.minimum(lf[nodes], late_bound[nodes])
+        ls_[nodes] = lf[nodes] - dur[nodes]
+        if ls_[nodes].min() < 1:
             raise _HorizonTooShort
-        lf[i] = late_f
-        ls[i] = late_f - d
-        free[i] = early_f - ef[i]
 
-    by_id: dict[str, ScheduledActivity] = {}
-    fdn = from_day_number
-    for i in range(n):
-        a = acts[i]
-        st = status[i]
-        drivers = tuple(ids[p] for p in driving[i])
-        if st == 2:
-            by_id[ids[i]] = ScheduledActivity(
-                ids[i], "finished", fdn(start_day[i]), fdn(finish_day[i]),
-                None, None, None, None, False, drivers,
-            )
-            continue
-        C = cal_idx[i]
-        days = C.days
-        tf = lf[i] - ef[i]
-        ff = min(free[i], tf)
-        if dur[i] == 0:
-            late_day = days[lf[i]] if finish_late[i] else days[lf[i] - 1]
-            late_start_day = late_day if st == 0 else start_day[i]
-            late_finish_day = late_day
-        else:
-            late_start_day = days[ls[i]] if st == 0 else start_day[i]
-            late_finish_day = days[lf[i] - 1]
-        by_id[ids[i]] = ScheduledActivity(
-            ids[i],
-            "in-progress" if st == 1 else "not-started",
-            fdn(start_day[i]),
-            fdn(finish_day[i]),
-            fdn(late_start_day),
-            fdn(late_finish_day),
-            tf,
-            ff,
-            tf <= crit,
-            drivers,
-        )
+    live = ~done
+    total_float = np.where(live, lf - ef, 0)
+    free_float = np.where(live, np.minimum(early_f - ef, total_float), 0)
+    critical = live & (total_float <= crit)
+    zero_all = dur == 0
+    lf_c = np.where(live, lf, 1)
+    ls_c = np.where(live, ls_, 1)
+    late_day = np.where(f_late, days[cal, np.minimum(lf_c, width - 1)], days[cal, lf_c - 1])
+    late_start_day = np.where(status == 0, np.where(zero_all, late_day, days[cal, ls_c]), start_day)
+    late_finish_day = np.where(zero_all, late_day, days[cal, lf_c - 1])
 
-    # Longest path: everything reached back from the completion through driving links.
+    # Driving links: those whose timing sets the successor's early start.
+    drv = active & (cand == es[lsu]) & ((status[lp] != 2) | (cand > dd_k[lsu]))
+    drv_idx = np.flatnonzero(drv)
+    d_order = np.argsort(lsu[drv_idx], kind="stable")
+    d_succ = lsu[drv_idx][d_order].tolist()
+    d_pred = lp[drv_idx][d_order].tolist()
+    d_start = np.searchsorted(np.array(d_succ, dtype=np.int64), np.arange(n + 1)).tolist()
+
+    def driving_of(i: int) -> list[int]:
+        return d_pred[d_start[i] : d_start[i + 1]]
+
     on_path = {comp}
     stack = [comp]
     while stack:
         i = stack.pop()
-        for p in driving[i]:
+        for p in driving_of(i):
             if p not in on_path:
                 on_path.add(p)
                 stack.append(p)
-    rank = {i: r for r, i in enumerate(order)}
-    path = sorted(on_path, key=lambda i: (start_day[i], rank[i]))
+    order_list = node_order.tolist()
+    rank = {i: r for r, i in enumerate(order_list)}
+    sd = start_day.tolist()
+    path = sorted(on_path, key=lambda i: (sd[i], rank[i]))
 
-    for i in order:
-        if status[i] == 2:
-            continue
-        if not preds[i] and acts[i].kind != "start-milestone":
-            warnings.append(f"snapshot {snapshot.id}: activity {ids[i]} has no predecessor (open start)")
-        if not out_links[i] and i != comp:
+    warnings: list[str] = []
+    indeg = np.bincount(lsu, minlength=n)
+    outdeg = np.bincount(lp, minlength=n)
+    for i in np.flatnonzero(live & (indeg == 0) & ~net.start_ms).tolist():
+        warnings.append(f"snapshot {snapshot.id}: activity {ids[i]} has no predecessor (open start)")
+    for i in np.flatnonzero(live & (outdeg == 0)).tolist():
+        if i != comp:
             warnings.append(f"snapshot {snapshot.id}: activity {ids[i]} has no successor (open finish)")
 
-    comp_act = by_id[ids[comp]]
+    cols = {
+        "status": status,
+        "start_day": start_day,
+        "finish_day": finish_day,
+        "late_start_day": late_start_day,
+        "late_finish_day": late_finish_day,
+        "total_float": total_float,
+        "free_float": free_float,
+        "critical": critical,
+    }
+    table = _ActivityTable(ids, cols, driving_of)
+    comp_act = table[ids[comp]]
     return ScheduleResult(
         snapshot_id=snapshot.id,
         data_date=snapshot.data_date,
         completion_id=ids[comp],
         completion=comp_act.early_finish,
         completion_float=comp_act.total_float,
-        activities=by_id,
+        activities=table,
         longest_path=tuple(ids[i] for i in path),
-        order=tuple(ids[i] for i in order),
+        order=tuple(ids[i] for i in order_list),
         warnings=tuple(warnings),
     )
 

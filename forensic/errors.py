@@ -17,6 +17,7 @@ from dataclasses import dataclass
 __all__ = [
     "CasefileError",
     "ForensicError",
+    "FragnetError",
     "InputProblem",
     "LimitExceeded",
     "LogicLoopError",
@@ -24,6 +25,7 @@ __all__ = [
     "OutputError",
     "ScheduleError",
     "TemplateError",
+    "WindowSpecError",
 ]
 
 
@@ -98,6 +100,16 @@ class LogicLoopError(ScheduleError):
         super().__init__(msg)
 
 
+class FragnetError(ScheduleError):
+    """Raised when a fragnet cannot be inserted into a snapshot.
+
+    For example a tie to an activity that is neither in the fragnet nor in
+    the snapshot, or a fragnet activity whose id the snapshot already has;
+    the message names each offending activity and link. A fragnet that
+    closes a loop raises :class:`LogicLoopError` instead.
+    """
+
+
 class NotFoundError(ForensicError, LookupError):
     """Raised when a snapshot, event, party or activity named by the user does not exist."""
 
@@ -111,4 +123,11 @@ class TemplateError(ForensicError, ValueError):
 
     The message names the template file, the section (by number and kind)
     and the key or placeholder at fault, and says what was expected.
+    """
+
+
+class WindowSpecError(ForensicError, ValueError):
+    """Raised when user-defined analysis windows name snapshots out of order or twice.
+
+    The message names the option or manifest key and the offending value.
     """

@@ -1,0 +1,292 @@
+"""Private helpers of the casefile loader: safe file reading, CSV tables, field parsing.
+
+Nothing here raises on bad input. Every helper records what is wrong in a
+:class:`Problems` collector (file, line or key, value, what was expected)
+and returns ``None`` for the value it could not read, so the loader can go
+on and report every problem of a casefile in one pass.
+"""
+
+from __future__ import annotations
+
+import csv
+import hashlib
+import io
+import math
+import re
+from dataclasses import dataclass
+from datetime import date
+from pathlib import Path, PurePosixPath
+
+from .errors import InputProblem
+
+__all__ = [
+    "MAX_DURATION",
+    "MAX_YEAR",
+    "MIN_YEAR",
+    "Problems",
+    "Row",
+    "check_year",
+    "parse_date",
+    "parse_int",
+    "parse_number",
+    "read_table",
+    "read_text",
+    "resolve_inside",
+]
+
+# Dates outside these years are almost always typing slips (2206 for 2026);
+# the window is wide enough for any real programme (common practice).
+MIN_YEAR = 1900
+MAX_YEAR = 2200
+# A ceiling on any duration or lag in working days: 36,500 is a century of
+# seven-day weeks, beyond any real programme; it keeps a slip such as
+# 2000000 from sending the engine over a horizon of millennia.
+MAX_DURATION = 36_500
+
+_ISO_DATE = re.compile(r"^\d{4}-\d{2}-\d{2}$")
+_WHOLE = re.compile(r"^[+-]?\d+$")
+_DECIMAL = re.compile(r"^[+-]?(\d+(\.\d*)?|\.\d+)$")
+
+
+class Problems:
+    """Collects :class:`InputProblem` records; ``limit_hit`` marks a ceiling reached."""
+
+    def __init__(self) -> None:
+        self.items: list[InputProblem] = []
+        self.limit_hit = False
+
+    def add(
+        self,
+        file: str,
+        line: int | None,
+        key: str | None,
+        value: object,
+        message: str,
+    ) -> None:
+        shown = None if value is None else str(value)
+        self.items.append(InputProblem(file, line, key, shown, message))
+
+    def __len__(self) -> int:
+        return len(self.items)
+
+
+def resolve_inside(root: Path, rel: object, problems: Problems, manifest: str, key: str) -> tuple[str, Path] | None:
+    """Check a manifest path and return ``(relative posix path, absolute path)``.
+
+    The path must be a relative, forward-slash path that stays inside the
+    casefile folder, also after symbolic links are followed.
+    """
+    if not isinstance(rel, str) or not rel.strip():
+        problems.add(manifest, None, key, rel, "expected a path relative to the casefile folder, as a string")
+        return None
+    if "\\" in rel:
+        problems.add(manifest, None, key, rel, "use forward slashes (/) in paths")
+        return None
+    pure = PurePosixPath(rel)
+    if pure.is_absolute() or re.match(r"^[A-Za-z]:", rel):
+        problems.add(manifest, None, key, rel, "expected a path relative to the casefile folder, not an absolute path")
+        return None
+    if ".." in pure.parts:
+        problems.add(manifest, None, key, rel, "the path climbs out of the casefile folder with '..'; keep every input inside it")
+        return None
+    full = root / pure
+    real_root = root.resolve()
+    try:
+        real = full.resolve()
+    except (OSError, RuntimeError):  # a symlink loop
+        problems.add(manifest, None, key, rel, "the path cannot be resolved (a symbolic link loop?)")
+        return None
+    if real != real_root and real_root not in real.parents:
+        problems.add(manifest, None, key, rel, "the path leads outside the casefile folder through a symbolic link")
+        return None
+    return pure.as_posix(), full
+
+
+def read_text(path: Path, rel: str, max_bytes: int, problems: Problems, hashes: dict[str, str]) -> str | None:
+    """Read a UTF-8 file read-only; record its SHA-256 in ``hashes``; ``None`` on a problem.
+
+    A UTF-8 byte-order mark is accepted. UTF-16, NUL bytes and bytes that are
+    not UTF-8 are refused with the position of the first bad byte.
+    """
+    if not path.is_file():
+        what = "is a folder, expected a file" if path.is_dir() else "file not found"
+        problems.add(rel, None, None, None, what)
+        return None
+    size = path.stat().st_size
+    if size > max_bytes:
+        problems.limit_hit = True
+        problems.add(rel, None, None, size, f"file is {size} bytes, over the limit of {max_bytes} bytes")
+        return None
+    with open(path, "rb") as fh:  # read-only; never written
+        data = fh.read(max_bytes + 1)
+    if len(data) > max_bytes:  # grew while we looked
+        problems.limit_hit = True
+        problems.add(rel, None, None, len(data), f"file is over the limit of {max_bytes} bytes")
+        return None
+    hashes[rel] = hashlib.sha256(data).hexdigest()
+    if data.startswith((b"\xff\xfe", b"\xfe\xff")):
+        problems.add(rel, None, None, None, "file is UTF-16; save it as UTF-8")
+        return None
+    nul = data.find(b"\x00")
+    if nul >= 0:
+        line = data.count(b"\n", 0, nul) + 1
+        problems.add(rel, line, None, f"byte {nul}", "file contains a NUL byte; expected UTF-8 text (is it UTF-16 or binary?)")
+        return None
+    try:
+        return data.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        line = data.count(b"\n", 0, exc.start) + 1
+        bad = data[exc.start : exc.start + 1].hex()
+        problems.add(rel, line, None, f"0x{bad} at byte {exc.start}", "file is not UTF-8; save it as UTF-8")
+        return None
+
+
+@dataclass(frozen=True, slots=True)
+class Row:
+    """One data row of a CSV table: its 1-based line and its cells by column."""
+
+    line: int
+    cells: dict[str, str]
+
+    def get(self, column: str) -> str:
+        return self.cells.get(column, "")
+
+
+def read_table(
+    text: str,
+    rel: str,
+    required: tuple[str, ...],
+    optional: tuple[str, ...],
+    max_rows: int,
+    problems: Problems,
+) -> list[Row] | None:
+    """Parse a CSV with a header row; check the columns; return the non-blank rows.
+
+    Unknown, duplicated and missing required columns are problems; a missing
+    required column returns ``None`` (no row can be read). Rows with a
+    different number of cells than the header are problems and are skipped.
+    Cells are stripped of surrounding blanks; wholly blank rows are skipped.
+    """
+    reader = csv.reader(io.StringIO(text, newline=""), strict=True)
+    header: list[str] | None = None
+    header_line = 0
+    rows: list[Row] = []
+    allowed = required + optional
+    try:
+        while True:
+            first_line = reader.line_num + 1
+            try:
+                record = next(reader)
+            except StopIteration:
+                break
+            cells = [c.strip() for c in record]
+            if not any(cells):
+                continue
+            if header is None:
+                header, header_line = cells, first_line
+                if not _check_header(header, header_line, rel, required, allowed, problems):
+                    return None
+                continue
+            if len(cells) != len(header):
+                problems.add(rel, first_line, None, len(cells), f"row has {len(cells)} cells, the header has {len(header)}")
+                continue
+            if len(rows) >= max_rows:
+                problems.limit_hit = True
+                problems.add(rel, first_line, None, None, f"more than {max_rows} rows, over the limit; the rest is not read")
+                return None
+            rows.append(Row(first_line, dict(zip(header, cells, strict=True))))
+    except csv.Error as exc:
+        problems.add(rel, reader.line_num, None, None, f"not valid CSV: {exc}")
+        return None
+    if header is None:
+        problems.add(rel, 1, None, None, f"missing header row; expected the columns {', '.join(required)}")
+        return None
+    return rows
+
+
+def _check_header(header: list[str], line: int, rel: str, required, allowed, problems: Problems) -> bool:
+    ok = True
+    seen: set[str] = set()
+    for number, name in enumerate(header, 1):
+        if not name:
+            problems.add(rel, line, f"column {number}", "", "a column of the header has no name")
+            ok = False
+            continue
+        if name in seen:
+            problems.add(rel, line, name, name, "column appears twice in the header")
+            ok = False
+        seen.add(name)
+        if name not in allowed:
+            problems.add(rel, line, name, name, f"unknown column; expected only {', '.join(allowed)}")
+    missing = [c for c in required if c not in seen]
+    for name in missing:
+        problems.add(rel, line, name, None, f"required column {name!r} is missing from the header")
+    return ok and not missing
+
+
+def parse_date(raw: str, rel: str, line: int | None, key: str, problems: Problems) -> date | None:
+    """An ISO date ``YYYY-MM-DD`` in years 1900-2200; ``None`` (and a problem) otherwise."""
+    if not _ISO_DATE.match(raw):
+        problems.add(rel, line, key, raw, "expected an ISO date YYYY-MM-DD")
+        return None
+    try:
+        value = date.fromisoformat(raw)
+    except ValueError:
+        problems.add(rel, line, key, raw, "no such date in the calendar")
+        return None
+    return check_year(value, rel, line, key, problems)
+
+
+def check_year(value: date, rel: str, line: int | None, key: str, problems: Problems) -> date | None:
+    if not MIN_YEAR <= value.year <= MAX_YEAR:
+        problems.add(rel, line, key, value.isoformat(), f"date outside the years {MIN_YEAR}-{MAX_YEAR}")
+        return None
+    return value
+
+
+def parse_int(
+    raw: str,
+    rel: str,
+    line: int | None,
+    key: str,
+    problems: Problems,
+    *,
+    minimum: int | None = 0,
+    maximum: int = MAX_DURATION,
+    what: str = "whole working days",
+) -> int | None:
+    """A whole number in ``[minimum, maximum]`` (no fractions, no exponents, no NaN)."""
+    if not _WHOLE.match(raw):
+        problems.add(rel, line, key, raw, f"expected {what} (a whole number)")
+        return None
+    value = int(raw)
+    lo = -maximum if minimum is None else minimum
+    if value < lo:
+        problems.add(rel, line, key, raw, f"expected {what} of at least {lo}")
+        return None
+    if value > maximum:
+        problems.add(rel, line, key, raw, f"expected {what} of at most {maximum}")
+        return None
+    return value
+
+
+def parse_number(
+    raw: str,
+    rel: str,
+    line: int | None,
+    key: str,
+    problems: Problems,
+    *,
+    minimum: float = 0.0,
+    maximum: float = math.inf,
+) -> float | None:
+    """A finite decimal number in ``[minimum, maximum]`` (no NaN, no infinity, no exponent)."""
+    if not _DECIMAL.match(raw):
+        problems.add(rel, line, key, raw, "expected a decimal number such as 12.5")
+        return None
+    value = float(raw)
+    if not (minimum <= value <= maximum) or not math.isfinite(value):
+        span = f"between {minimum:g} and {maximum:g}" if math.isfinite(maximum) else f"of at least {minimum:g}"
+        problems.add(rel, line, key, raw, f"expected a number {span}")
+        return None
+    return value

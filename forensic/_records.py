@@ -1,0 +1,337 @@
+"""Private helpers of the casefile loader: rows of activities.csv, links.csv, events.csv.
+
+Each reader turns the rows of one table into model records and records
+every problem it meets; a row with a problem yields no record (the casefile
+is refused whole anyway) but its id is still known, so one bad cell does not
+set off a cascade of "unknown activity" problems elsewhere.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Collection, Mapping
+from dataclasses import dataclass, field
+from datetime import date
+
+import networkx as nx
+
+from ._csvread import MAX_DURATION, Problems, Row, parse_date, parse_int, parse_number
+from .engine import topological_order
+from .errors import LogicLoopError
+from .model import (
+    ACTIVITY_KINDS,
+    CATEGORIES,
+    CONSTRAINT_KINDS,
+    DEFAULT_CATEGORY,
+    LINK_TYPES,
+    Activity,
+    Event,
+    Link,
+    Party,
+)
+
+__all__ = [
+    "ACTIVITY_COLUMNS",
+    "EVENT_COLUMNS",
+    "LINK_COLUMNS",
+    "ActivityTable",
+    "check_loops",
+    "read_activities",
+    "read_events",
+    "read_links",
+]
+
+# (required, optional) columns of each table (casefile format, version 1).
+ACTIVITY_COLUMNS = (
+    ("id", "name", "duration"),
+    (
+        "kind",
+        "remaining",
+        "actual_start",
+        "actual_finish",
+        "calendar",
+        "constraint",
+        "constraint_date",
+        "party",
+        "area",
+        "percent_complete",
+        "crash_days",
+        "crash_cost",
+    ),
+)
+LINK_COLUMNS = (("pred", "succ"), ("type", "lag"))
+_BLANK = re.compile(r"\s")
+EVENT_COLUMNS = (
+    ("id", "title", "party", "start", "finish"),
+    ("category", "activities", "fragnet", "reference"),
+)
+
+
+@dataclass
+class ActivityTable:
+    """The activities read from one file: good records, and every id seen (good or not)."""
+
+    file: str
+    activities: dict[str, Activity] = field(default_factory=dict)
+    ids: dict[str, int] = field(default_factory=dict)  # id -> line, file order
+
+
+def _required(row: Row, column: str, rel: str, problems: Problems) -> str | None:
+    raw = row.get(column)
+    if not raw:
+        problems.add(rel, row.line, column, raw, f"{column} is required and is blank")
+        return None
+    return raw
+
+
+def _choice(raw: str, allowed: Collection[str], rel: str, line: int, column: str, problems: Problems) -> str | None:
+    if raw not in allowed:
+        problems.add(rel, line, column, raw, f"expected one of {', '.join(allowed)}")
+        return None
+    return raw
+
+
+def read_activities(
+    rows: list[Row],
+    rel: str,
+    *,
+    calendars: Collection[str],
+    parties: Collection[str],
+    data_date: date | None,
+    problems: Problems,
+    warnings: list[str],
+) -> ActivityTable:
+    """Read activity rows; ``data_date`` is ``None`` for a fragnet (no progress check)."""
+    table = ActivityTable(rel)
+    for row in rows:
+        before = len(problems)
+        act = _read_activity(row, rel, calendars, parties, data_date, problems, warnings)
+        aid = row.get("id")
+        if aid:
+            if aid in table.ids:
+                problems.add(rel, row.line, "id", aid, f"duplicate activity id; first on line {table.ids[aid]}")
+                continue
+            table.ids[aid] = row.line
+        if act is not None and len(problems) == before:
+            table.activities[act.id] = act
+    return table
+
+
+def _read_activity(row, rel, calendars, parties, data_date, problems, warnings) -> Activity | None:
+    line = row.line
+    aid = _required(row, "id", rel, problems)
+    if aid is not None and _BLANK.search(aid):
+        problems.add(rel, line, "id", aid, "an activity id may not contain blanks (events list ids separated by blanks)")
+    name = _required(row, "name", rel, problems)
+    kind = _choice(row.get("kind") or "task", ACTIVITY_KINDS, rel, line, "kind", problems)
+    raw = _required(row, "duration", rel, problems)
+    duration = None if raw is None else parse_int(raw, rel, line, "duration", problems)
+    raw = row.get("remaining")
+    remaining = parse_int(raw, rel, line, "remaining", problems) if raw else None
+    dates = {}
+    for col in ("actual_start", "actual_finish", "constraint_date"):
+        raw = row.get(col)
+        dates[col] = parse_date(raw, rel, line, col, problems) if raw else None
+    start, finish = dates["actual_start"], dates["actual_finish"]
+    calendar = row.get("calendar") or None
+    if calendar is not None and calendar not in calendars:
+        problems.add(rel, line, "calendar", calendar, f"unknown calendar; the manifest defines {', '.join(calendars) or 'none'}")
+    constraint = row.get("constraint") or None
+    if constraint is not None:
+        _choice(constraint, CONSTRAINT_KINDS, rel, line, "constraint", problems)
+        if dates["constraint_date"] is None and not row.get("constraint_date"):
+            problems.add(rel, line, "constraint_date", "", f"constraint {constraint!r} needs a constraint_date")
+    elif row.get("constraint_date"):
+        problems.add(rel, line, "constraint_date", row.get("constraint_date"), "constraint_date given without a constraint")
+    party = row.get("party") or None
+    if party is not None and party not in parties:
+        problems.add(rel, line, "party", party, f"unknown party; the manifest defines {', '.join(parties) or 'none'}")
+    raw = row.get("percent_complete")
+    percent = parse_number(raw, rel, line, "percent_complete", problems, maximum=100.0) if raw else None
+    raw = row.get("crash_days")
+    crash_days = parse_int(raw, rel, line, "crash_days", problems) if raw else None
+    if crash_days is not None and duration is not None and crash_days > duration:
+        problems.add(rel, line, "crash_days", crash_days, f"cannot shorten by more than the duration ({duration})")
+    raw = row.get("crash_cost")
+    crash_cost = parse_number(raw, rel, line, "crash_cost", problems) if raw else None
+
+    if kind in ("start-milestone", "finish-milestone"):
+        if duration not in (None, 0):
+            problems.add(rel, line, "duration", duration, "a milestone has duration 0")
+        if remaining not in (None, 0):
+            problems.add(rel, line, "remaining", remaining, "a milestone has remaining 0")
+        if start is not None and finish is not None and start != finish:
+            problems.add(rel, line, "actual_finish", finish.isoformat(),
+                         f"a milestone has one date; actual_start is {start.isoformat()}")
+        # Either actual date marks a milestone achieved; it carries both.
+        start = finish = start or finish
+        remaining = 0
+    elif kind == "task":
+        if finish is not None and start is None and not row.get("actual_start"):
+            problems.add(rel, line, "actual_finish", finish.isoformat(), "a task with an actual_finish needs an actual_start")
+        if start is not None and finish is not None and finish < start:
+            problems.add(rel, line, "actual_finish", finish.isoformat(),
+                         f"actual_finish is before actual_start {start.isoformat()}")
+    if data_date is not None:
+        for col, value in (("actual_start", start), ("actual_finish", finish)):
+            if value is not None and value >= data_date and row.get(col):
+                problems.add(rel, line, col, value.isoformat(),
+                             f"an actual date must be before the data date {data_date.isoformat()}")
+    if kind == "task" and duration is not None:
+        if finish is not None:
+            if remaining not in (None, 0):
+                problems.add(rel, line, "remaining", remaining, "a finished activity has remaining 0 (or blank)")
+            remaining = 0
+        elif start is not None:
+            if remaining is None and not row.get("remaining"):
+                problems.add(rel, line, "remaining", "", "an activity in progress needs its remaining duration")
+            elif remaining == 0:
+                warnings.append(f"{rel}, line {line}: activity {aid} is in progress with remaining 0 "
+                                "and no actual_finish")
+        elif remaining is None and not row.get("remaining"):
+            remaining = duration
+    if None in (aid, name, kind, duration):
+        return None
+    return Activity(
+        id=aid, name=name, duration=duration, kind=kind, remaining=remaining,
+        actual_start=start, actual_finish=finish, calendar=calendar, constraint=constraint,
+        constraint_date=dates["constraint_date"], party=party, area=row.get("area") or None,
+        percent_complete=percent, crash_days=crash_days, crash_cost=crash_cost, line=line,
+    )
+
+
+def read_links(
+    rows: list[Row],
+    rel: str,
+    *,
+    known: Collection[str],
+    finished: Collection[str],
+    problems: Problems,
+    warnings: list[str],
+    unknown_hint: str = "no activity with this id in the snapshot",
+) -> list[Link]:
+    """Read link rows; ``known`` are the ids a link may name, ``finished`` those finished."""
+    links: list[Link] = []
+    seen: dict[tuple[str, str, str], int] = {}
+    for row in rows:
+        before = len(problems)
+        line = row.line
+        ends = {}
+        for col in ("pred", "succ"):
+            ends[col] = _required(row, col, rel, problems)
+            if ends[col] is not None and ends[col] not in known:
+                problems.add(rel, line, col, ends[col], unknown_hint)
+        pred, succ = ends["pred"], ends["succ"]
+        if pred is not None and pred == succ:
+            problems.add(rel, line, "succ", succ, "an activity cannot be linked to itself")
+        ltype = _choice(row.get("type") or "FS", LINK_TYPES, rel, line, "type", problems)
+        raw = row.get("lag")
+        lag = parse_int(raw, rel, line, "lag", problems, minimum=None, maximum=MAX_DURATION,
+                        what="a lag in whole working days (negative for a lead)") if raw else 0
+        if len(problems) != before:
+            continue
+        key = (pred, succ, ltype)
+        if key in seen:
+            problems.add(rel, line, "succ", f"{pred} -> {succ} {ltype}", f"duplicate link; first on line {seen[key]}")
+            continue
+        seen[key] = line
+        if succ in finished:
+            warnings.append(f"{rel}, line {line}: link {pred} -> {succ} has no effect, "
+                            f"because {succ} is finished")
+        links.append(Link(pred, succ, ltype, lag, line))
+    return links
+
+
+def check_loops(ids: list[str], links: list[Link], rel: str, problems: Problems) -> None:
+    """Report every logic loop of a network, naming its activities and the link lines.
+
+    Kahn's topological sort (the engine's) finds whether there is a loop; the
+    strongly connected components (networkx, Tarjan 1972) then give each
+    loop separately, so one pass reports them all.
+    """
+    pos = {a: i for i, a in enumerate(ids)}
+    succs: list[list[int]] = [[] for _ in ids]
+    for link in links:
+        if link.pred in pos and link.succ in pos:
+            succs[pos[link.pred]].append(pos[link.succ])
+    try:
+        topological_order(ids, succs)
+        return
+    except LogicLoopError:
+        pass
+    line_of: dict[tuple[str, str], int] = {}
+    graph = nx.DiGraph()
+    for link in links:
+        if link.pred in pos and link.succ in pos:
+            graph.add_edge(link.pred, link.succ)
+            line_of.setdefault((link.pred, link.succ), link.line or 0)
+    components = [c for c in nx.strongly_connected_components(graph) if len(c) > 1]
+    components.sort(key=lambda c: min(pos[a] for a in c))
+    for comp in components:
+        cycle = nx.find_cycle(graph.subgraph(comp))
+        loop = [u for u, _ in cycle]
+        lines = [line_of[(u, v)] for u, v in cycle]
+        shown = " -> ".join([*loop, loop[0]])
+        problems.add(rel, min(lines), None, shown,
+                     f"logic loop through the links on lines {', '.join(map(str, lines))}; "
+                     "a loop has no schedule, break one of its links")
+
+
+def read_events(
+    rows: list[Row],
+    rel: str,
+    *,
+    parties: Mapping[str, Party],
+    fragnets: Mapping[str, Collection[str]],
+    snapshot_ids: Collection[str],
+    problems: Problems,
+) -> list[Event]:
+    """Read event rows; ``fragnets`` maps each fragnet folder name to its activity ids.
+
+    An activity an event names must be in some snapshot or in the event's own
+    fragnet: an id found nowhere is an error, since a slip there would drop
+    the event from the attribution without a word.
+    """
+    events: list[Event] = []
+    seen: dict[str, int] = {}
+    for row in rows:
+        before = len(problems)
+        line = row.line
+        eid = _required(row, "id", rel, problems)
+        if eid is not None:
+            if eid in seen:
+                problems.add(rel, line, "id", eid, f"duplicate event id; first on line {seen[eid]}")
+            else:
+                seen[eid] = line
+        title = _required(row, "title", rel, problems)
+        pid = _required(row, "party", rel, problems)
+        party = parties.get(pid) if pid else None
+        if pid is not None and party is None:
+            problems.add(rel, line, "party", pid, f"unknown party; the manifest defines {', '.join(parties) or 'none'}")
+        category = row.get("category") or None
+        if category is not None:
+            _choice(category, CATEGORIES, rel, line, "category", problems)
+        elif party is not None:
+            category = DEFAULT_CATEGORY[party.role]
+        span = {}
+        for col in ("start", "finish"):
+            raw = _required(row, col, rel, problems)
+            span[col] = parse_date(raw, rel, line, col, problems) if raw else None
+        if span["start"] and span["finish"] and span["finish"] < span["start"]:
+            problems.add(rel, line, "finish", span["finish"].isoformat(),
+                         f"the event finishes before it starts ({span['start'].isoformat()})")
+        fragnet = row.get("fragnet") or None
+        if fragnet is not None and fragnet not in fragnets:
+            problems.add(rel, line, "fragnet", fragnet,
+                         f"no such fragnet folder under fragnets/; found {', '.join(fragnets) or 'none'}")
+        hit = tuple(row.get("activities").split())
+        own = fragnets.get(fragnet, ()) if fragnet else ()
+        for aid in hit:
+            if aid not in snapshot_ids and aid not in own:
+                problems.add(rel, line, "activities", aid, "no activity with this id in any snapshot or in the event's fragnet")
+        if len(set(hit)) != len(hit):
+            problems.add(rel, line, "activities", row.get("activities"), "an activity is listed twice")
+        if len(problems) == before:
+            events.append(Event(eid, title, pid, category, span["start"], span["finish"], hit,
+                                fragnet, row.get("reference") or None, line))
+    return events

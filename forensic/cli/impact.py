@@ -1,0 +1,154 @@
+"""``forensic impact`` (time impact analysis) and ``forensic but-for`` (collapsed as-built)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from ..butfor import as_built_table, but_for, but_for_json, but_for_table
+from ..impact import (
+    ImpactResult,
+    float_table,
+    impact_json,
+    milestones_table,
+    series_json,
+    series_table,
+    time_impact,
+    time_impacts,
+)
+from ..tables import dumps_json, to_text
+from ._base import main
+from ._common import casefile_argument, emit, load
+
+_PROGRESS_NOTE = (
+    "Progress to the event's start is assumed as planned in the unimpacted schedule "
+    "(work finished or in progress by its early dates)."
+)
+
+
+def _impact_text(r: ImpactResult) -> str:
+    lines = [f"Event {r.event} into {r.into}"]
+    if r.progressed_to is not None:
+        lines.append(f"Progressed to {r.progressed_to.isoformat()}. {_PROGRESS_NOTE}")
+    lines.append(
+        f"Completion ({r.completion_id}): {r.completion_before.isoformat()} -> "
+        f"{r.completion_after.isoformat()}, time impact {r.impact} {r.unit}"
+    )
+    if r.inserted:
+        lines.append("Fragnet activities inserted: " + " ".join(r.inserted))
+    for h in r.hold_ups:
+        lines.append(f"No fragnet: {h.activity} extended by {h.days} working days")
+    out = "\n".join(lines) + "\n\nMilestones\n" + to_text(milestones_table(r))
+    if r.float_consumed:
+        out += "\nTotal float consumed on the paths touched (working days)\n" + to_text(float_table(r))
+    out += f"\nLongest path after ({len(r.critical_path)} activities): " + " -> ".join(r.critical_path) + "\n"
+    return out
+
+
+def _warn(warnings) -> None:
+    for w in warnings:
+        click.echo(f"warning: {w}", err=True)
+
+
+@main.command("impact")
+@casefile_argument
+@click.option("--event", "events", metavar="ID", multiple=True, help="Event to analyse (repeat for several).")
+@click.option("--into", metavar="SNAPSHOT", help="Unimpacted snapshot (default: the last on or before the event).")
+@click.option("--all", "all_events", is_flag=True, help="Every event with a fragnet or activities, each alone.")
+@click.option("--cumulative", is_flag=True, help="Also insert the events cumulatively, in date order.")
+@click.option("--progress-to-event", is_flag=True,
+              help="First bring the unimpacted schedule to the event's start, as planned.")
+@click.option("--json", "as_json", is_flag=True, help="Print JSON (keys in docs/impact-and-butfor.md).")
+def impact_command(
+    casefile: Path,
+    events: tuple[str, ...],
+    into: str | None,
+    all_events: bool,
+    cumulative: bool,
+    progress_to_event: bool,
+    as_json: bool,
+) -> None:
+    """Time impact analysis: insert an event's fragnet and reschedule (AACE RP 52R-06).
+
+    The unimpacted schedule is the snapshot whose data date is the last on or
+    before the event's start, unless --into names another. The impact is in
+    the project's delay unit. With several events (--event repeated, or
+    --all) each is analysed alone; --cumulative adds them one after another
+    in date order and reports the difference from the sum (non-additivity).
+
+    Example: forensic impact casefiles/riverside --event EV03 --json
+
+    """
+    if not events and not all_events:
+        raise click.UsageError("give --event ID (one or more) or --all")
+    if events and all_events:
+        raise click.UsageError("choose --event or --all, not both")
+    cf = load(casefile)
+    ids = list(events) if events else None
+    if cumulative:
+        series = time_impacts(cf, ids, into=into, progress_to_event=progress_to_event)
+        _warn(w for r in series.individual for w in r.warnings)
+        if as_json:
+            emit(dumps_json(series_json(series)))
+            return
+        c = series.cumulative
+        click.echo(f"{cf.project.name}: {len(series.individual)} events, impacts in {series.unit}")
+        if progress_to_event:
+            click.echo(_PROGRESS_NOTE)
+        emit(to_text(series_table(series)))
+        click.echo(
+            f"\nCumulative into {c.into}: {c.completion_before.isoformat()} -> {c.completion_after.isoformat()}, "
+            f"{c.impact} {series.unit}. Sum of impacts alone: {series.sum_of_individual}; "
+            f"difference (non-additivity): {series.non_additivity}."
+        )
+        return
+    if ids is None:
+        ids = [e.id for e in cf.events if e.fragnet or e.activities]
+        if not ids:
+            raise click.ClickException("no event with a fragnet or with activities it hit")
+    results = [time_impact(cf, e, into=into, progress_to_event=progress_to_event) for e in ids]
+    _warn(w for r in results for w in r.warnings)
+    if as_json:
+        if len(results) == 1 and not all_events:
+            emit(dumps_json(impact_json(results[0])))
+        else:
+            emit(dumps_json([impact_json(r) for r in results]))
+        return
+    click.echo("\n".join(_impact_text(r) for r in results), nl=False)
+
+
+@main.command("but-for")
+@casefile_argument
+@click.option("--party", metavar="ID", help="Remove every event of this party.")
+@click.option("--event", metavar="ID", help="Remove this one event.")
+@click.option("--snapshot", "snapshot_id", metavar="ID", help="Build the as-built from this snapshot (default: the last).")
+@click.option("--json", "as_json", is_flag=True, help="Print JSON (keys in docs/impact-and-butfor.md).")
+def but_for_command(casefile: Path, party: str | None, event: str | None, snapshot_id: str | None, as_json: bool) -> None:
+    """But-for analysis: collapse the as-built schedule (AACE RP 29R-03, MIP 3.8).
+
+    Builds the as-built schedule from the last update, takes out one party's
+    delays (--party), one event's (--event), or by default each party's in
+    turn and then all owner delays together, reschedules, and reports the
+    but-for completion and its difference from the as-built completion.
+
+    Example: forensic but-for casefiles/riverside --party OWN
+
+    """
+    if party and event:
+        raise click.UsageError("choose --party or --event, not both")
+    cf = load(casefile)
+    report = but_for(cf, party=party, event=event, snapshot_id=snapshot_id)
+    _warn(report.as_built.warnings)
+    if as_json:
+        emit(dumps_json(but_for_json(report)))
+        return
+    b = report.as_built
+    click.echo(f"{cf.project.name}: as-built from {b.source}, completion {b.completion.isoformat()}")
+    click.echo(f"Pinned where logic does not explain the start: {' '.join(b.pins) or 'none'}")
+    for p, s, t, n, lag in b.relinked:
+        click.echo(f"Relinked (actual dates contradict it): {p} -> {s} {t} now {n}" + (f" lag {lag}" if n != "dropped" else ""))
+    click.echo("\nDelays in the as-built")
+    emit(to_text(as_built_table(report)))
+    click.echo("\nBut-for cases")
+    emit(to_text(but_for_table(report)))

@@ -1,0 +1,354 @@
+"""Windows analysis and the half-step (bifurcated) split.
+
+A contemporaneous windows analysis measures, for each period between two
+consecutive schedule updates, how far the forecast completion moved (AACE
+RP 29R-03, method implementation protocols 3.3 and 3.4, "observational /
+dynamic / contemporaneous"; the SCL Delay and Disruption Protocol, 2nd ed.,
+para. 11.6 and Appendix A, "time slice windows analysis").
+
+The half-step (bifurcated) split separates what the *work* did in the window
+from what the *changes to the plan* did (AACE RP 29R-03, protocol 3.4,
+"bifurcated" or "half-step" updates). The half-step schedule is
+
+* the earlier update's activities, links, durations, calendars and constraints,
+* with the later update's progress (actual start and finish, remaining
+  duration, percent complete) applied at the later data date.
+
+Its completion splits the window's slip exactly in two::
+
+    slip          = completion_after   - completion_before
+    progress_slip = half_step_complete - completion_before
+    revision_slip = completion_after   - half_step_complete
+
+Rules for the half-step
+-----------------------
+* An activity in both updates takes the later update's actual dates and
+  percent complete. Its remaining duration is taken from the later update
+  only when the later update shows it started (remaining work of an activity
+  in progress is a statement of progress); for an activity still not started
+  the earlier update's remaining duration is kept, because changing it is a
+  revision of the plan, not progress.
+* An activity *added* by the later update is not in the half-step: bringing
+  it in is a revision, and its effect falls in the revision slip.
+* An activity *deleted* by the later update stays in the half-step as the
+  earlier update had it (the later update reports no progress for it), so
+  its removal is also measured in the revision slip. Both lists are reported.
+
+Slip is counted in the casefile's ``delay_unit``: calendar days, or working
+days of the project's default calendar. A gain is a negative slip. Every
+count is a difference of one cumulative day count, so slips add up exactly
+from window to window.
+
+References
+----------
+AACE International Recommended Practice 29R-03, Forensic Schedule Analysis
+(2011), sections 3.3 and 3.4.
+Society of Construction Law, Delay and Disruption Protocol, 2nd ed. (2017).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, replace
+from datetime import date, timedelta
+
+from .calendars import add_workdays, workdays_between
+from .engine import ScheduleResult, schedule
+from .errors import NotFoundError, WindowSpecError
+from .model import Casefile, Snapshot, frozen_mapping
+from .tables import Table
+
+__all__ = [
+    "HalfStep",
+    "Window",
+    "WindowRun",
+    "WindowsAnalysis",
+    "analyse_windows",
+    "half_step",
+    "unit_counter",
+    "unit_shift",
+    "window_boundaries",
+    "windows_table",
+]
+
+
+def unit_counter(casefile: Casefile) -> Callable[[date], int]:
+    """A cumulative day count in the casefile's delay unit: slip = count(later) - count(earlier).
+
+    Calendar days count every day; working days count the working days of
+    the project's default calendar up to and including the date (AACE RP
+    29R-03 leaves the unit to the analyst; the casefile states it).
+    """
+    if casefile.project.delay_unit != "working-days":
+        return date.toordinal
+    cal = casefile.calendars[casefile.project.default_calendar]
+    ref = casefile.baseline.data_date
+
+    def count(d: date) -> int:
+        return workdays_between(cal, ref, d + timedelta(days=1))
+
+    return count
+
+
+def unit_shift(casefile: Casefile, d: date, days: int) -> date:
+    """The date ``days`` delay units before (``days`` < 0: after) ``d``, for restoring lost time."""
+    if casefile.project.delay_unit != "working-days":
+        return d - timedelta(days=days)
+    cal = casefile.calendars[casefile.project.default_calendar]
+    return add_workdays(cal, d, -days)
+
+
+@dataclass(frozen=True, slots=True)
+class HalfStep:
+    """The half-step snapshot of a window and what it left out or kept.
+
+    ``added`` are activities of the later update absent from the earlier one
+    (left out of the half-step); ``deleted`` are activities of the earlier
+    update absent from the later one (kept, without progress).
+    """
+
+    snapshot: Snapshot
+    added: tuple[str, ...]
+    deleted: tuple[str, ...]
+
+
+def half_step(earlier: Snapshot, later: Snapshot) -> HalfStep:
+    """Build the half-step snapshot: the earlier plan with the later progress.
+
+    Parameters
+    ----------
+    earlier, later : Snapshot
+        Two updates (or the baseline and an update), earlier first.
+
+    Returns
+    -------
+    HalfStep
+        A new snapshot (id ``"<earlier>+<later>"``) dated at the later data
+        date, and the lists of added and deleted activities.
+
+    References
+    ----------
+    AACE RP 29R-03, protocol 3.4 (bifurcated, "half-step" update).
+    """
+    acts = {}
+    for aid, a in earlier.activities.items():
+        b = later.activities.get(aid)
+        if b is None:
+            acts[aid] = a
+            continue
+        remaining = b.remaining if b.is_started else a.remaining
+        acts[aid] = replace(
+            a,
+            actual_start=b.actual_start,
+            actual_finish=b.actual_finish,
+            remaining=remaining,
+            percent_complete=b.percent_complete,
+        )
+    snap = Snapshot(
+        id=f"{earlier.id}+{later.id}",
+        data_date=later.data_date,
+        activities=frozen_mapping(acts),
+        links=earlier.links,
+        role="update",
+    )
+    added = tuple(a for a in later.activities if a not in earlier.activities)
+    deleted = tuple(a for a in earlier.activities if a not in later.activities)
+    return HalfStep(snap, added, deleted)
+
+
+@dataclass(frozen=True, slots=True)
+class Window:
+    """One analysis window: the figures a report quotes about it.
+
+    ``start`` and ``end`` are the two data dates; slips are in the
+    casefile's delay unit (a gain is negative) and ``slip ==
+    progress_slip + revision_slip`` always. ``path_joined`` and
+    ``path_left`` say where the critical (longest) path moved.
+    """
+
+    from_id: str
+    to_id: str
+    start: date
+    end: date
+    completion_before: date
+    completion_after: date
+    half_step_completion: date
+    slip: int
+    progress_slip: int
+    revision_slip: int
+    critical_path_before: tuple[str, ...]
+    critical_path_after: tuple[str, ...]
+    half_step_path: tuple[str, ...]
+    path_joined: tuple[str, ...]
+    path_left: tuple[str, ...]
+    added: tuple[str, ...]
+    deleted: tuple[str, ...]
+
+    @property
+    def label(self) -> str:
+        return f"{self.from_id}-{self.to_id}"
+
+
+@dataclass(frozen=True, slots=True)
+class WindowRun:
+    """A window with the snapshots and schedules behind it (for attribution)."""
+
+    window: Window
+    earlier: Snapshot
+    later: Snapshot
+    half: Snapshot
+    before: ScheduleResult
+    half_result: ScheduleResult
+    after: ScheduleResult
+
+
+@dataclass(frozen=True, slots=True)
+class WindowsAnalysis:
+    """Every window of a casefile, in order, and the slip over all of them."""
+
+    unit: str
+    runs: tuple[WindowRun, ...]
+    baseline_completion: date
+    last_completion: date
+    total_slip: int
+
+    @property
+    def windows(self) -> tuple[Window, ...]:
+        return tuple(r.window for r in self.runs)
+
+
+def window_boundaries(casefile: Casefile, ids: Sequence[str] | None = None) -> tuple[str, ...]:
+    """The snapshot ids that bound the windows, oldest first.
+
+    With no ``ids`` (and no manifest ``windows``) every snapshot is a
+    boundary. Otherwise the given ids are used, with the baseline and the
+    last update added at the ends so the windows cover the whole record.
+    """
+    order = [s.id for s in casefile.snapshots]
+    chosen = list(ids) if ids else list(casefile.windows)
+    if not chosen:
+        return tuple(order)
+    for sid in chosen:
+        if sid not in order:
+            msg = f"--windows: no snapshot {sid!r} (known: {', '.join(order)})"
+            raise NotFoundError(msg)
+    ranks = [order.index(s) for s in chosen]
+    if any(b <= a for a, b in zip(ranks, ranks[1:], strict=False)):
+        msg = f"--windows: snapshots must be listed oldest first, each once (value: {','.join(chosen)})"
+        raise WindowSpecError(msg)
+    if chosen[0] != casefile.baseline.id:
+        chosen.insert(0, casefile.baseline.id)
+    if chosen[-1] != order[-1]:
+        chosen.append(order[-1])
+    return tuple(chosen)
+
+
+def _moved(before: Sequence[str], after: Sequence[str]) -> tuple[tuple[str, ...], tuple[str, ...]]:
+    b, a = set(before), set(after)
+    return tuple(x for x in after if x not in b), tuple(x for x in before if x not in a)
+
+
+def analyse_windows(casefile: Casefile, windows: Sequence[str] | None = None) -> WindowsAnalysis:
+    """Run the windows analysis with the half-step split over a casefile.
+
+    Parameters
+    ----------
+    casefile : Casefile
+        Baseline and updates, oldest first.
+    windows : sequence of snapshot ids, optional
+        Window boundaries (see :func:`window_boundaries`); default: one
+        window per pair of consecutive snapshots.
+
+    Returns
+    -------
+    WindowsAnalysis
+
+    Notes
+    -----
+    Three schedules per window (earlier, half-step, later), all by
+    :func:`forensic.engine.schedule`; each snapshot is scheduled once.
+
+    References
+    ----------
+    AACE RP 29R-03, protocols 3.3 and 3.4; SCL Protocol 2nd ed., Appendix A.
+    """
+    ids = window_boundaries(casefile, windows)
+    if len(ids) < 2:
+        msg = "a windows analysis needs a baseline and at least one update"
+        raise WindowSpecError(msg)
+    count = unit_counter(casefile)
+    cache: dict[str, ScheduleResult] = {}
+
+    def sched(snap: Snapshot) -> ScheduleResult:
+        if snap.id not in cache:
+            cache[snap.id] = schedule(snap, casefile.calendars, casefile.project)
+        return cache[snap.id]
+
+    runs = []
+    for a_id, b_id in zip(ids, ids[1:], strict=False):
+        earlier, later = casefile.snapshot(a_id), casefile.snapshot(b_id)
+        hs = half_step(earlier, later)
+        before, after = sched(earlier), sched(later)
+        mid = schedule(hs.snapshot, casefile.calendars, casefile.project)
+        joined, left = _moved(before.longest_path, after.longest_path)
+        c0, c1, ch = count(before.completion), count(after.completion), count(mid.completion)
+        w = Window(
+            from_id=a_id,
+            to_id=b_id,
+            start=earlier.data_date,
+            end=later.data_date,
+            completion_before=before.completion,
+            completion_after=after.completion,
+            half_step_completion=mid.completion,
+            slip=c1 - c0,
+            progress_slip=ch - c0,
+            revision_slip=c1 - ch,
+            critical_path_before=before.longest_path,
+            critical_path_after=after.longest_path,
+            half_step_path=mid.longest_path,
+            path_joined=joined,
+            path_left=left,
+            added=hs.added,
+            deleted=hs.deleted,
+        )
+        runs.append(WindowRun(w, earlier, later, hs.snapshot, before, mid, after))
+    first, last = runs[0].before, runs[-1].after
+    return WindowsAnalysis(
+        unit=casefile.project.delay_unit,
+        runs=tuple(runs),
+        baseline_completion=first.completion,
+        last_completion=last.completion,
+        total_slip=count(last.completion) - count(first.completion),
+    )
+
+
+WINDOW_COLUMNS = (
+    "window",
+    "from",
+    "to",
+    "start",
+    "end",
+    "completion_before",
+    "half_step_completion",
+    "completion_after",
+    "slip",
+    "progress_slip",
+    "revision_slip",
+    "added",
+    "deleted",
+    "path_joined",
+    "path_left",
+)
+
+
+def windows_table(analysis: WindowsAnalysis) -> Table:
+    """One row per window: the completions, the slip and its half-step split."""
+    rows = tuple(
+        (
+            w.label, w.from_id, w.to_id, w.start, w.end, w.completion_before,
+            w.half_step_completion, w.completion_after, w.slip, w.progress_slip,
+            w.revision_slip, w.added, w.deleted, w.path_joined, w.path_left,
+        )
+        for w in analysis.windows
+    )
+    return Table("windows", WINDOW_COLUMNS, rows)

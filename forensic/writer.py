@@ -1,0 +1,184 @@
+"""Writing a casefile folder from the model (the inverse of :mod:`forensic.casefile`).
+
+Used by the synthetic generator, the importer and the tests. Files are
+written with ``\\n`` line endings and a fixed column order, so the same
+casefile always gives the same bytes. Each file is written atomically.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+from collections.abc import Iterable, Mapping
+from datetime import date
+from pathlib import Path
+
+from .model import Activity, Casefile, Event, Link
+from .outputs import atomic_write
+
+__all__ = ["ACTIVITY_COLUMNS", "EVENT_COLUMNS", "LINK_COLUMNS", "write_casefile"]
+
+ACTIVITY_COLUMNS = (
+    "id",
+    "name",
+    "kind",
+    "duration",
+    "remaining",
+    "actual_start",
+    "actual_finish",
+    "calendar",
+    "constraint",
+    "constraint_date",
+    "party",
+    "area",
+    "percent_complete",
+    "crash_days",
+    "crash_cost",
+)
+LINK_COLUMNS = ("pred", "succ", "type", "lag")
+EVENT_COLUMNS = ("id", "title", "party", "category", "start", "finish", "activities", "fragnet", "reference")
+
+
+def _fmt(value) -> str:
+    if value is None:
+        return ""
+    if isinstance(value, date):
+        return value.isoformat()
+    if isinstance(value, float) and value.is_integer():
+        return str(int(value))
+    return str(value)
+
+
+def _csv(columns: tuple[str, ...], rows: Iterable[tuple]) -> str:
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(columns)
+    for row in rows:
+        w.writerow([_fmt(v) for v in row])
+    return buf.getvalue()
+
+
+def activities_csv(activities: Iterable[Activity]) -> str:
+    """activities.csv text for these activities."""
+    rows = []
+    for a in activities:
+        remaining = a.remaining
+        if remaining is not None and a.actual_start is None and remaining == a.duration:
+            remaining = None
+        rows.append(
+            (
+                a.id, a.name, a.kind, a.duration, remaining, a.actual_start, a.actual_finish,
+                a.calendar, a.constraint, a.constraint_date, a.party, a.area,
+                a.percent_complete, a.crash_days, a.crash_cost,
+            )
+        )
+    return _csv(ACTIVITY_COLUMNS, rows)
+
+
+def links_csv(links: Iterable[Link]) -> str:
+    """links.csv text for these links."""
+    return _csv(LINK_COLUMNS, ((k.pred, k.succ, k.type, k.lag) for k in links))
+
+
+def events_csv(events: Iterable[Event]) -> str:
+    """events.csv text for these events."""
+    return _csv(
+        EVENT_COLUMNS,
+        (
+            (e.id, e.title, e.party, e.category, e.start, e.finish, " ".join(e.activities), e.fragnet, e.reference)
+            for e in events
+        ),
+    )
+
+
+def _toml_value(value) -> str:
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, (int, float)):
+        return repr(value)
+    if isinstance(value, date):
+        return value.isoformat()
+    if isinstance(value, (list, tuple)):
+        return "[" + ", ".join(_toml_value(v) for v in value) + "]"
+    s = str(value).replace("\\", "\\\\").replace('"', '\\"').replace("\n", "\\n")
+    return f'"{s}"'
+
+
+def _table(header: str, items: Mapping[str, object]) -> str:
+    lines = [header]
+    lines += [f"{k} = {_toml_value(v)}" for k, v in items.items() if v is not None]
+    return "\n".join(lines) + "\n"
+
+
+def manifest_toml(cf: Casefile, *, events_file: str | None) -> str:
+    """casefile.toml text for ``cf`` with snapshots under ``snapshots/<id>/``."""
+    p = cf.project
+    parts = ['format = "forensic-casefile/1"\n']
+    if events_file:
+        parts.append(f'events = "{events_file}"\n')
+    if cf.windows:
+        parts.append(f"windows = {_toml_value(list(cf.windows))}\n")
+    parts.append(
+        _table(
+            "[project]",
+            {
+                "name": p.name,
+                "completion": p.completion,
+                "contract_completion": p.contract_completion,
+                "default_calendar": p.default_calendar,
+                "delay_unit": p.delay_unit,
+                "progress_logic": p.progress_logic,
+                "critical_float": p.critical_float,
+            },
+        )
+    )
+    for party in cf.parties.values():
+        parts.append(_table("[[party]]", {"id": party.id, "name": party.name, "role": party.role}))
+    for cal in cf.calendars.values():
+        parts.append(
+            _table(
+                "[[calendar]]",
+                {
+                    "id": cal.id,
+                    "workdays": list(cal.workdays),
+                    "holidays": list(cal.holidays),
+                    "extra_workdays": list(cal.extra_workdays),
+                },
+            )
+        )
+    for snap in cf.snapshots:
+        items: dict[str, object] = {"id": snap.id}
+        if snap.is_baseline:
+            items["role"] = "baseline"
+        items["data_date"] = snap.data_date
+        items["activities"] = f"snapshots/{snap.id}/activities.csv"
+        items["links"] = f"snapshots/{snap.id}/links.csv"
+        parts.append(_table("[[snapshot]]", items))
+    return "\n".join(parts)
+
+
+def write_casefile(cf: Casefile, folder: str | Path) -> Path:
+    """Write ``cf`` as a casefile folder (created if needed); return the folder.
+
+    Layout: ``casefile.toml``, ``snapshots/<id>/activities.csv`` and
+    ``links.csv``, ``events.csv`` when there are events, and
+    ``fragnets/<id>/`` for each fragnet.
+    """
+    root = Path(folder)
+    root.mkdir(parents=True, exist_ok=True)
+    for snap in cf.snapshots:
+        d = root / "snapshots" / snap.id
+        d.mkdir(parents=True, exist_ok=True)
+        atomic_write(d / "activities.csv", activities_csv(snap.activities.values()))
+        atomic_write(d / "links.csv", links_csv(snap.links))
+    for frag in cf.fragnets.values():
+        d = root / "fragnets" / frag.id
+        d.mkdir(parents=True, exist_ok=True)
+        atomic_write(d / "activities.csv", activities_csv(frag.activities.values()))
+        atomic_write(d / "links.csv", links_csv(frag.links))
+    events_file = None
+    if cf.events:
+        events_file = "events.csv"
+        atomic_write(root / events_file, events_csv(cf.events))
+    atomic_write(root / "casefile.toml", manifest_toml(cf, events_file=events_file))
+    return root

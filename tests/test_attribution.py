@@ -1,0 +1,258 @@
+"""Attribution of a window's slip to activities, events and parties; concurrency; the ledger."""
+
+from dataclasses import replace
+
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from forensic.attribution import analyse_delay, contributors_table, delay_json, ledger_table
+from forensic.model import Activity, Fragnet, frozen_mapping
+
+from .delay_cases import D0, casefile, day, event, ms, snap, task
+from .test_windows import chain_case, logic_change_case, random_updates
+
+
+def contributors(att):
+    return [(c.activity, c.days, c.event, c.party, c.category) for c in att.contributors]
+
+
+def test_single_chain_delayed_by_one_owner_event():
+    """A's 4 lost days (worked in test_windows) all go to the owner's event EV1 (compensable)."""
+    base = chain_case()
+    cf = casefile(base.snapshots, [event("EV1", "OWN", "excusable-compensable", day(3), day(6), ["A"])])
+    att = analyse_delay(cf).attributions[0]
+    # Chain M <- B <- A: v(M) = v(B) = v(A) = 4 and A has no driver, so A keeps all 4.
+    assert contributors(att) == [("A", 4, "EV1", "OWN", "excusable-compensable")]
+    assert dict(att.by_party) == {"OWN": 4}
+    assert (att.unexplained, att.concurrent.days) == (0, 0)
+
+
+def test_no_event_leaves_the_days_with_the_performer_unexplained():
+    """Without an event A's 4 days go to its performer, the contractor, flagged unexplained."""
+    att = analyse_delay(chain_case()).attributions[0]
+    assert contributors(att) == [("A", 4, None, "CON", "non-excusable")]
+    assert att.unexplained == 4
+
+
+def test_event_outside_the_window_does_not_cover():
+    """An event dated after the later data date covers nothing in this window (rule: dates overlap)."""
+    cf = casefile(chain_case().snapshots, [event("EV9", "OWN", "excusable-compensable", day(40), day(45), ["A"])])
+    att = analyse_delay(cf).attributions[0]
+    assert att.contributors[0].event is None
+
+
+def late_finish_case():
+    """A(10) -> B(10) -> M; A finished 2 days late on day 11 and B was held at the data date, day 12."""
+    bl = snap("BL", D0, [task("A", 10, party="OWN"), task("B", 10), ms()], [("A", "B"), ("B", "M")], role="baseline")
+    u1 = snap(
+        "U01", day(12),
+        [task("A", 10, party="OWN", actual_start=D0, actual_finish=day(11)), task("B", 10), ms()],
+        [("A", "B"), ("B", "M")],
+    )
+    return casefile([bl, u1])
+
+
+def test_late_finish_and_slow_start_are_split_along_the_path():
+    """A finished 2 late, B could start day 12 and did: A 2, B 0 (slip 2; worked by hand)."""
+    att = analyse_delay(late_finish_case()).attributions[0]
+    # BL: A 0-9, B 10-19; half-step: B 12-21: v(B) = 2 = v(A), so A takes both days.
+    assert contributors(att) == [("A", 2, None, "OWN", "excusable-compensable")]
+
+
+def parallel_case(c_finish):
+    """A(10) -> M and C(6) -> M; at day 10 A has 3 days left (owner event), C finished on ``c_finish``."""
+    acts = [task("A", 10), task("C", 6), ms()]
+    links = [("A", "M"), ("C", "M")]
+    bl = snap("BL", D0, acts, links, role="baseline")
+    u1 = snap(
+        "U01", day(10),
+        [task("A", 10, actual_start=D0, remaining=3), task("C", 6, actual_start=D0, actual_finish=c_finish), ms()],
+        links,
+    )
+    return casefile([bl, u1], [event("EV1", "OWN", "excusable-compensable", day(2), day(4), ["A"])])
+
+
+def test_parallel_paths_only_the_longer_delay_counts():
+    """C finishes 3 days late but inside its 4 days of float: the slip of 3 is all the owner's."""
+    att = analyse_delay(parallel_case(day(8))).attributions[0]
+    # BL completion day 9; A now days 10-12, so completion day 12: slip 3. C (planned 0-5) ends day 8.
+    assert contributors(att) == [("A", 3, "EV1", "OWN", "excusable-compensable")]
+    assert att.concurrent.days == 0
+    assert dict(att.by_party) == {"OWN": 3}
+
+
+def concurrent_case():
+    """A(10) and C(10) in parallel to M; at day 10 each has 3 days left, A by owner event, C by the contractor."""
+    acts = [task("A", 10), task("C", 10), ms()]
+    links = [("A", "M"), ("C", "M")]
+    bl = snap("BL", D0, acts, links, role="baseline")
+    u1 = snap(
+        "U01", day(10),
+        [task("A", 10, actual_start=D0, remaining=3), task("C", 10, actual_start=D0, remaining=3), ms()],
+        links,
+    )
+    return casefile([bl, u1], [event("EV1", "OWN", "excusable-compensable", day(2), day(4), ["A"])])
+
+
+def test_true_concurrency_removing_either_alone_recovers_nothing():
+    """Both paths 3 days late: either removed alone recovers 0, both together 3: 3 concurrent days (SCL core principle 10)."""
+    att = analyse_delay(concurrent_case()).attributions[0]
+    assert dict(att.concurrent.recovered_alone) == {"CON": 0, "OWN": 0}
+    assert att.concurrent.recovered_together == 3
+    assert att.concurrent.days == 3
+    assert att.concurrent.parties == ("CON", "OWN")
+    assert att.concurrent.events == ("EV1",)
+    assert sum(c.days for c in att.contributors) == 3
+    assert {c.category for c in att.contributors} == {"concurrent"}
+    assert dict(att.by_party) == {}
+
+
+def test_partial_concurrency_leaves_the_longer_delay_its_excess():
+    """A 5 days late, C 3: owner alone recovers 2, contractor 0, both 5: 3 concurrent and 2 owner (worked by hand)."""
+    base = concurrent_case()
+    bl = base.snapshots[0]
+    u1 = snap(
+        "U01", day(10),
+        [task("A", 10, actual_start=D0, remaining=5), task("C", 10, actual_start=D0, remaining=3), ms()],
+        [("A", "M"), ("C", "M")],
+    )
+    att = analyse_delay(casefile([bl, u1], base.events)).attributions[0]
+    assert att.concurrent.days == 3
+    assert dict(att.by_party) == {"OWN": 2}
+
+
+def hidden_case():
+    """Window 1: owner event costs A 4 days; window 2: the contractor's C runs 4 days slow inside the float that made."""
+    links = [("A", "B"), ("B", "M"), ("C", "M")]
+    bl = snap("BL", D0, [task("A", 10), task("B", 10), task("C", 15), ms()], links, role="baseline")
+    u1 = snap(
+        "U01", day(10),
+        [task("A", 10, actual_start=D0, remaining=4), task("B", 10), task("C", 15, actual_start=D0, remaining=5), ms()],
+        links,
+    )
+    u2 = snap(
+        "U02", day(17),
+        [
+            task("A", 10, actual_start=D0, actual_finish=day(13)),
+            task("B", 10, actual_start=day(14), remaining=7),
+            task("C", 15, actual_start=D0, remaining=4),
+            ms(),
+        ],
+        links,
+    )
+    return casefile([bl, u1, u2], [event("EV1", "OWN", "excusable-compensable", day(3), day(6), ["A"])])
+
+
+def test_contractor_slow_progress_hidden_by_owner_earlier_delay():
+    """Window 2 slips 0: C (planned to finish day 14) now ends day 20, inside B's new finish of day 23."""
+    an = analyse_delay(hidden_case())
+    w1, w2 = an.attributions
+    assert dict(w1.by_party) == {"OWN": 4}
+    # U01: B days 14-23, M day 23. U02: B 7 left from day 17 -> day 23; C 4 left -> day 20.
+    assert an.windows.windows[1].slip == 0
+    assert w2.contributors == ()
+    assert an.ledger.total.excusable_compensable == 4
+    assert an.ledger.total.non_excusable == 0
+
+
+def test_logic_change_is_unattributed_revision():
+    """The new B -> C link (no event) leaves its 5 days as unattributed revision."""
+    att = analyse_delay(logic_change_case()).attributions[0]
+    assert att.contributors == ()
+    assert att.unattributed_revision == 5
+    assert dict(att.by_party) == {"unattributed-revision": 5}
+
+
+def test_revision_brought_in_by_a_fragnet_goes_to_its_event():
+    """U01 inserts the owner's fragnet F1 (4 days) between B and M: 4 revision days to EV2."""
+    bl = snap("BL", D0, [task("A", 10), task("B", 5), ms()], [("A", "B"), ("B", "M")], role="baseline")
+    u1 = snap(
+        "U01", day(10),
+        [task("A", 10, actual_start=D0, actual_finish=day(9)), task("B", 5), task("F1", 4, party="OWN"), ms()],
+        [("A", "B"), ("B", "F1"), ("F1", "M")],
+    )
+    frag = Fragnet("EV2", frozen_mapping({"F1": Activity("F1", "redesign", 4)}), ())
+    ev = event("EV2", "OWN", "excusable-compensable", day(8), day(12), [], fragnet="EV2")
+    att = analyse_delay(casefile([bl, u1], [ev], fragnets={"EV2": frag})).attributions[0]
+    assert [(s.event, s.days, s.activities) for s in att.revision] == [("EV2", 4, ("F1",))]
+    assert att.unattributed_revision == 0
+    assert dict(att.by_party) == {"OWN": 4}
+
+
+def test_gain_goes_to_the_performer_and_the_gains_line():
+    """A finishes 2 days early and B starts at once: -2 to A's performer, in the ledger's gains."""
+    bl = snap("BL", D0, [task("A", 10), task("B", 10), ms()], [("A", "B"), ("B", "M")], role="baseline")
+    u1 = snap(
+        "U01", day(8),
+        [task("A", 10, actual_start=D0, actual_finish=day(7)), task("B", 10), ms()],
+        [("A", "B"), ("B", "M")],
+    )
+    an = analyse_delay(casefile([bl, u1]))
+    assert contributors(an.attributions[0]) == [("A", -2, None, "CON", "non-excusable")]
+    assert an.ledger.total.gains == -2
+    assert an.ledger.total.non_excusable == 0
+
+
+def test_ledger_is_cumulative_and_balances():
+    """Hidden case: per-window totals 4 and 0, cumulative 4, equal to the total slip (ledger balance)."""
+    an = analyse_delay(hidden_case())
+    assert [e.total for e in an.ledger.windows] == [4, 0]
+    assert [e.total for e in an.ledger.cumulative] == [4, 4]
+    assert an.ledger.balanced and an.ledger.total_slip == 4
+    assert ledger_table(an).rows[-1][0] == "total"
+    assert contributors_table(an).records()[0]["activity"] == "A"
+
+
+def test_json_has_the_documented_keys():
+    """The JSON object carries the keys issue 5 spells out (a contract, docs/windows.md)."""
+    data = delay_json(analyse_delay(concurrent_case()))
+    assert set(data) == {"unit", "windows", "ledger"}
+    w = data["windows"][0]
+    for key in (
+        "from", "to", "start", "end", "completion_before", "completion_after", "half_step_completion",
+        "slip", "progress_slip", "revision_slip", "critical_path_before", "critical_path_after",
+        "contributors", "by_party", "concurrent", "unexplained",
+    ):
+        assert key in w
+    assert set(w["contributors"][0]) == {"activity", "days", "event", "party", "category"}
+
+
+@settings(max_examples=60, deadline=None)
+@given(random_updates())
+def test_contributors_and_ledger_conserve_the_slip(cf):
+    """Conservation: contributors sum to the progress slip; by_party + concurrent to the slip; the ledger balances."""
+    an = analyse_delay(cf)
+    for w, att in zip(an.windows.windows, an.attributions, strict=True):
+        assert sum(c.days for c in att.contributors) == w.progress_slip
+        assert sum(s.days for s in att.revision) + att.unattributed_revision == w.revision_slip
+        assert sum(att.by_party.values()) + att.concurrent.days == w.slip
+    assert an.ledger.balanced
+    assert an.ledger.total.total == an.ledger.total_slip
+
+
+@st.composite
+def mixed_parties(draw):
+    """Random updates whose activities belong to the owner, the contractor or nobody, with two events."""
+    cf = draw(random_updates())
+    parties = draw(st.lists(st.sampled_from(["OWN", "CON", None]), min_size=12, max_size=12))
+    snaps = []
+    for s in cf.snapshots:
+        acts = {a.id: (replace(a, party=parties[i]) if a.kind == "task" else a) for i, a in enumerate(s.activities.values())}
+        snaps.append(replace(s, activities=frozen_mapping(acts)))
+    evs = [
+        event("E1", "OWN", "excusable-compensable", day(0), day(draw(st.integers(0, 10))), ["T0", "T1"]),
+        event("E2", "WX", "excusable-noncompensable", day(2), day(5), ["T1", "T2"]),
+    ]
+    return casefile(snaps, evs)
+
+
+@settings(max_examples=60, deadline=None)
+@given(mixed_parties())
+def test_conservation_holds_with_events_and_several_parties(cf):
+    """Conservation with events, three parties and concurrency tests running (exact sums, no rounding)."""
+    an = analyse_delay(cf)
+    for w, att in zip(an.windows.windows, an.attributions, strict=True):
+        assert sum(c.days for c in att.contributors) == w.progress_slip
+        assert sum(att.by_party.values()) + att.concurrent.days == w.slip
+        assert att.concurrent.days >= 0
+    assert an.ledger.balanced
