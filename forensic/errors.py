@@ -23,6 +23,7 @@ __all__ = [
     "LogicLoopError",
     "NotFoundError",
     "OutputError",
+    "RecoveryError",
     "ScheduleError",
     "TemplateError",
     "WindowSpecError",
@@ -131,3 +132,16 @@ class WindowSpecError(ForensicError, ValueError):
 
     The message names the option or manifest key and the offending value.
     """
+
+
+class RecoveryError(ForensicError, ValueError):
+    """Raised when a recovery target cannot be met by shortening the remaining work.
+
+    ``earliest`` is the earliest completion that shortening within the
+    activities' limits achieves (as rescheduled by the engine), so the caller
+    can offer it instead.
+    """
+
+    def __init__(self, message: str, earliest=None):
+        self.earliest = earliest
+        super().__init__(message)

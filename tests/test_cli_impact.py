@@ -5,11 +5,12 @@ from datetime import date
 
 import pytest
 from click.testing import CliRunner
-from test_impact import casefile, day, on_path, snap, two_paths
 
 import forensic.cli.impact as cli_impact
 from forensic.cli import main
 from forensic.model import Activity, Event, Fragnet, Link, frozen_mapping
+
+from .test_impact import casefile, day, on_path, snap, two_paths
 
 
 @pytest.fixture
