@@ -101,6 +101,9 @@ def test_every_section_heading_of_the_template_is_printed(cf, name):
         if section.kind == "cover":
             assert template.title in text
             continue
+        if section.kind == "acceleration":
+            assert section.heading not in text  # only when asked for (--recover-days)
+            continue
         found = text.find(section.heading, at + 1)
         assert found > at, section.heading
         at = found
@@ -174,8 +177,8 @@ def test_long_table_breaks_across_pages_with_repeated_header(tmp_path):
     snap = Snapshot("BL", date(2026, 1, 5), frozen_mapping({a.id: a for a in acts}), links, "baseline")
     big = Casefile(Project("Long job", "5d"), frozen_mapping({"5d": FIVE}), frozen_mapping(), (snap,))
     src = load_template("full").path.read_text(encoding="utf-8")
-    src = src.replace('kind = "longest-path"\nheading = "Longest path at each update"\nscope = "all"\ntable = false',
-                      'kind = "longest-path"\nheading = "Longest path at each update"\nscope = "all"\ntable = true')
+    src = src.replace('kind = "longest-path"\nheading = "Appendix: longest path at each update"\nscope = "all"\ntable = false',
+                      'kind = "longest-path"\nheading = "Appendix: longest path at each update"\nscope = "all"\ntable = true')
     assert "table = true" in src
     (tmp_path / "long.toml").write_text(src, encoding="utf-8")
     pages = pdf_pages(build_report(big, tmp_path / "long.toml"))
@@ -244,3 +247,73 @@ def test_cli_writes_the_report_atomically_and_refuses_unknown_templates(tmp_path
     assert "Error: no report template named 'no-such'" in r.output
     r = CliRunner().invoke(main, ["report", "--help"])
     assert r.exit_code == 0 and "Example: forensic report" in r.output
+
+
+# --- the demo casefile -------------------------------------------------------------------
+
+
+@pytest.fixture(scope="module")
+def demo():
+    from forensic.casefile import load_casefile
+    from forensic.demo import demo_source
+
+    return load_casefile(demo_source())
+
+
+@pytest.fixture(scope="module")
+def demo_pdf(demo) -> bytes:
+    return build_report(demo, "full", recover_days=10)
+
+
+@pytest.fixture(scope="module")
+def demo_text(demo_pdf) -> str:
+    return pdf_text(demo_pdf)
+
+
+def test_demo_report_has_every_heading_and_the_cautions(demo_text):
+    """The demo's full report, with acceleration asked for, prints every heading of the template in order."""
+    text = demo_text
+    at = -1
+    for section in load_template("full").sections:
+        if section.kind == "cover":
+            continue
+        found = text.find(section.heading, at + 1)
+        assert found > at, section.heading
+        at = found
+    assert "support, and do not replace, the judgement of a qualified scheduling professional" in text
+
+
+def test_demo_report_prints_the_windows_analysis_figures(demo, demo_text):
+    """Each window's slip, the ledger's categories and the total come from analyse_delay's result objects."""
+    from forensic.attribution import analyse_delay
+
+    text = demo_text
+    delay = analyse_delay(demo)
+    for w in delay.windows.windows:
+        assert f"Window {w.label}: {long_date(w.start)} to {long_date(w.end)}" in text
+        if w.slip > 0:
+            assert f"{long_date(w.completion_after)}: {w.slip} calendar day" in text
+    t = delay.ledger.total
+    assert delay.ledger.balanced
+    assert (f"moved {delay.ledger.total_slip} calendar days: {t.excusable_compensable} excusable and compensable, "
+            f"{t.excusable_noncompensable} excusable and not compensable, {t.non_excusable} not excusable") in text
+
+
+def test_demo_report_prints_time_impacts_and_the_recovery_plan(demo, demo_text):
+    """Each event's modelled impact (time_impacts) and the least-cost plan (recover) are quoted as computed."""
+    from forensic.impact import time_impacts
+    from forensic.recovery import recover
+
+    text = demo_text
+    series = time_impacts(demo)
+    for r in series.individual:
+        if r.impact > 0:
+            assert f"Event {r.event}," in text
+            assert f"to {long_date(r.completion_after)}: {r.impact} calendar day" in text
+    plan = recover(demo, demo.snapshots[-1].id, days=10, curve=False).plan
+    assert f"It costs {plan.cost:,.0f} and brings completion to {long_date(plan.completion)}" in text
+
+
+def test_demo_monthly_review_is_byte_identical_twice(demo):
+    """Two builds of the demo's monthly review give the same bytes."""
+    assert build_report(demo, "monthly") == build_report(demo, "monthly")

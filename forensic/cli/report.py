@@ -27,7 +27,13 @@ from ._common import casefile_argument, load
     type=click.Path(dir_okay=False, path_type=Path),
     help="PDF file to write (default: <casefile folder>-<template>.pdf in the current folder).",
 )
-def report_command(casefile: Path, template_name: str, out: Path | None) -> None:
+@click.option(
+    "--recover-days",
+    type=click.IntRange(min=1),
+    metavar="N",
+    help="Add the acceleration analysis: the least-cost plan to recover N days (delay unit) on the latest update.",
+)
+def report_command(casefile: Path, template_name: str, out: Path | None, recover_days: int | None) -> None:
     """Write the PDF narrative report of CASEFILE.
 
     The template chooses the sections, their order, headings and wording
@@ -42,7 +48,9 @@ def report_command(casefile: Path, template_name: str, out: Path | None) -> None
     cf = load(casefile)
     shown = template_name if not template_name.endswith(".toml") else Path(template_name).name
     command = f"forensic report {casefile.resolve().name} --template {shown}"
-    pdf = build_report(cf, template, command=command)
+    if recover_days is not None:
+        command += f" --recover-days {recover_days}"
+    pdf = build_report(cf, template, command=command, recover_days=recover_days)
     if out is None:
         out = Path(f"{casefile.resolve().name}-{template.name}.pdf")
     protected = [cf.root / rel for rel in cf.inputs] if cf.root is not None else []

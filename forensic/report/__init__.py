@@ -16,7 +16,10 @@ from __future__ import annotations
 from pathlib import Path
 
 from .. import __version__
+from ..attribution import analyse_delay
+from ..impact import time_impacts
 from ..model import Casefile
+from ..recovery import recover
 from ..trend import completion_trend
 from .narrative import ReportContext, long_date
 from .pdf import build_pdf, font_family
@@ -26,6 +29,7 @@ from .templates import Template, builtin_templates, load_template
 __all__ = ["DEFAULT_TEMPLATE", "build_report", "builtin_templates", "load_template"]
 
 DEFAULT_TEMPLATE = "full"
+_NEEDS_DELAY = {"windows", "slip-by-party", "ledger"}
 
 
 def build_report(
@@ -33,6 +37,7 @@ def build_report(
     template: Template | str | Path = DEFAULT_TEMPLATE,
     *,
     command: str = "",
+    recover_days: int | None = None,
 ) -> bytes:
     """Build the PDF report of ``casefile`` with ``template`` and return its bytes.
 
@@ -43,6 +48,9 @@ def build_report(
         See ``report_templates/README.md``.
     command : str
         The command line that asked for the report, for the record of inputs.
+    recover_days : int, optional
+        Days to recover on the latest update (delay unit); the acceleration
+        section is shown only when this is given.
 
     Returns
     -------
@@ -67,15 +75,37 @@ def build_report(
     if not command:
         name = casefile.root.name if casefile.root is not None else "CASEFILE"
         command = f"forensic report {name} --template {tpl.name}"
-    ctx = ReportContext(casefile=casefile, template=tpl, trend=trend, command=command, font=family.source)
+        if recover_days is not None:
+            command += f" --recover-days {recover_days}"
+    kinds = set(tpl.kinds())
+    delay = impacts = recovery = None
+    if kinds & {"windows", "slip-by-party", "ledger", "summary"} and len(casefile.snapshots) > 1:
+        delay = analyse_delay(casefile, casefile.windows or None)
+    if "time-impact" in kinds and any(e.fragnet or e.activities for e in casefile.events):
+        impacts = time_impacts(casefile)
+    if "acceleration" in kinds and recover_days is not None:
+        recovery = recover(casefile, casefile.snapshots[-1].id, days=recover_days)
+    left_out = set()
+    if delay is None:
+        left_out |= _NEEDS_DELAY
+    if recovery is None:
+        left_out.add("acceleration")
+    ctx = ReportContext(
+        casefile=casefile, template=tpl, trend=trend, command=command, font=family.source,
+        delay=delay, impacts=impacts, recovery=recovery, recover_days=recover_days,
+        left_out=frozenset(left_out),
+    )
     story = []
     number = 0
     for section in tpl.sections:
-        if section.kind != "cover" and tpl.settings["numbered_headings"]:
-            number += 1
-            story += render_section(ctx, section, number)
-        else:
-            story += render_section(ctx, section, None)
+        if section.kind in left_out:
+            continue  # one snapshot (no window to analyse), or acceleration not asked for
+        numbered = section.kind != "cover" and tpl.settings["numbered_headings"]
+        flowables = render_section(ctx, section, number + 1 if numbered else None)
+        if flowables is None:
+            continue
+        number += numbered
+        story += flowables
     last = casefile.snapshots[-1]
     footer = f"{tpl.title} · {casefile.project.name} · data date {long_date(last.data_date)}"
     return build_pdf(

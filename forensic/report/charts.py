@@ -209,6 +209,7 @@ def line_chart(
     y_dates: bool = False,
     reference: tuple[str, date | float] | None = None,
     zero_line: bool = False,
+    x_title: str = "",
 ) -> Drawing:
     """Lines with markers over a date (or number) axis; an optional horizontal reference line.
 
@@ -228,7 +229,7 @@ def line_chart(
     if reference is not None:
         items.append((reference[0], _ref_sample))
     legend, legend_h = _legend(items, 0, 0, width - 10)
-    legend_h += 4
+    legend_h += 4 + (11 if x_title else 0)
     bottom = 16 + legend_h
     top = height - 18
     # y ticks first: their widest label sets the left margin.
@@ -237,7 +238,7 @@ def line_chart(
         yticks = yt
     else:
         ylo, yhi, nums = _number_ticks(min(ys), max(ys), 6)
-        yticks = [(t, f"{int(t)}" if float(t).is_integer() else f"{t:g}") for t in nums]
+        yticks = [(t, f"{int(t):,}" if float(t).is_integer() else f"{t:,g}") for t in nums]
     left = max(stringWidth(s, f, FONT_SIZE) for _, s in yticks) + 8
     right = width - 8
     if x_dates:
@@ -261,6 +262,8 @@ def line_chart(
     d.add(Line(left, bottom, right, bottom, strokeColor=AXIS, strokeWidth=0.7))
     d.add(Line(left, bottom, left, top, strokeColor=AXIS, strokeWidth=0.7))
     d.add(_text(left, top + 5, y_title, "start", bold=True))
+    if x_title:
+        d.add(_text((left + right) / 2, bottom - 22, x_title, "middle", bold=True))
     if zero_line and ylo < 0 < yhi:
         d.add(Line(left, py(0), right, py(0), strokeColor=AXIS, strokeWidth=0.9))
     if reference is not None:
@@ -284,7 +287,7 @@ def line_chart(
                 d.add(PolyLine(r, strokeColor=colour, strokeWidth=1.4, strokeDashArray=dash))
             for k in range(0, len(r), 2):
                 d.add(_marker(marker, r[k], r[k + 1], colour))
-    legend.translate(left, legend_h - 2)
+    legend.translate(left, legend_h - 2 - (11 if x_title else 0))
     d.add(legend)
     return d
 
@@ -301,8 +304,9 @@ def stacked_bars(
 ) -> Drawing:
     """One stacked bar per category; ``stacks[c][k]`` is the height of part ``k`` of bar ``c``.
 
-    Parts are filled dark to light in the order of ``labels`` and outlined,
-    so even the lightest part shows on white paper.
+    Positive parts stack up from zero and negative parts (gains) down from
+    it. Parts are filled dark to light in the order of ``labels`` and
+    outlined, so even the lightest part shows on white paper.
     """
     f = font_family().regular
     fills = list(fills or STACK_FILLS)
@@ -314,14 +318,15 @@ def stacked_bars(
     legend, legend_h = _legend([(lab, sample(k)) for k, lab in enumerate(labels)], 0, 0, width - 10)
     legend_h += 4
     bottom = 16 + legend_h
-    top = height - 14
-    totals = [sum(s) for s in stacks] or [1]
-    _lo, yhi, nums = _number_ticks(0, max(max(totals), 1), 5)
+    top = height - 18
+    ups = [sum(v for v in s if v > 0) for s in stacks] or [0]
+    downs = [sum(v for v in s if v < 0) for s in stacks] or [0]
+    ylo, yhi, nums = _number_ticks(min(min(downs), 0), max(max(ups), 1), 5)
     left = max(stringWidth(f"{int(t)}", f, FONT_SIZE) for t in nums) + 8
     right = width - 8
 
     def py(v: float) -> float:
-        return bottom + v / (yhi or 1) * (top - bottom)
+        return bottom + (v - ylo) / ((yhi - ylo) or 1) * (top - bottom)
 
     for t in nums:
         d.add(Line(left, py(t), right, py(t), strokeColor=GRID, strokeWidth=0.4))
@@ -333,17 +338,24 @@ def stacked_bars(
     every = max(1, math.ceil(widest / slot))
     for c, parts in enumerate(stacks):
         x = left + slot * c + (slot - bw) / 2
-        y = 0.0
+        up = down = 0.0
         for k, v in enumerate(parts):
-            if v <= 0:
+            if v == 0:
                 continue
-            d.add(Rect(x, py(y), bw, py(y + v) - py(y), fillColor=fills[k % len(fills)], strokeColor=colors.white, strokeWidth=0.4))
-            y += v
-        if y > 0:
-            d.add(Rect(x, py(0), bw, py(y) - py(0), fillColor=None, strokeColor=INK, strokeWidth=0.5))
+            base = up if v > 0 else down
+            y0, y1 = sorted((py(base), py(base + v)))
+            d.add(Rect(x, y0, bw, y1 - y0, fillColor=fills[k % len(fills)], strokeColor=colors.white, strokeWidth=0.4))
+            if v > 0:
+                up += v
+            else:
+                down += v
+        if up or down:
+            d.add(Rect(x, py(down), bw, py(up) - py(down), fillColor=None, strokeColor=INK, strokeWidth=0.5))
         if c % every == 0:
             d.add(_text(x + bw / 2, bottom - 10, fit_text(categories[c], f, FONT_SIZE, slot * every - 2), "middle"))
     d.add(Line(left, bottom, right, bottom, strokeColor=AXIS, strokeWidth=0.7))
+    if ylo < 0:
+        d.add(Line(left, py(0), right, py(0), strokeColor=AXIS, strokeWidth=0.9))
     d.add(Line(left, bottom, left, top, strokeColor=AXIS, strokeWidth=0.7))
     d.add(_text(left, top + 5, y_title, "start", bold=True))
     legend.translate(left, legend_h - 2)

@@ -26,7 +26,10 @@ __all__ = [
     "ReportContext",
     "common_fields",
     "long_date",
+    "days_words",
+    "join_words",
     "milestone_sentence",
+    "party_words",
     "move_sentence",
     "path_words",
     "short_date",
@@ -49,6 +52,11 @@ class ReportContext:
     command: str
     font: str
     version: str = __version__
+    delay: Any = None  # forensic.attribution.DelayAnalysis, when a section needs it
+    impacts: Any = None  # forensic.impact.ImpactSeries
+    recovery: Any = None  # forensic.recovery.RecoveryResult, when --recover-days was given
+    recover_days: int | None = None
+    left_out: frozenset[str] = frozenset()  # section kinds with nothing to show for this casefile
 
 
 def long_date(d: date | None) -> str:
@@ -65,6 +73,37 @@ def unit_words(delay_unit: str, n: int | None = None) -> str:
     """``calendar days`` / ``working days``, singular for exactly one."""
     word = "working day" if delay_unit == "working-days" else "calendar day"
     return word if n is not None and abs(n) == 1 else word + "s"
+
+
+CATEGORY_WORDS = {
+    "excusable-compensable": "excusable and compensable",
+    "excusable-noncompensable": "excusable, not compensable",
+    "non-excusable": "not excusable",
+    "concurrent": "concurrent",
+    None: "no party assigned",
+}
+
+
+def party_words(cf: Casefile, party_id: str) -> str:
+    """A party's name for reading (its id when the casefile has no such party)."""
+    special = {"unassigned": "no party assigned", "unattributed-revision": "revisions no event explains"}
+    if party_id in special:
+        return special[party_id]
+    p = cf.parties.get(party_id)
+    return p.name if p is not None else party_id
+
+
+def join_words(items: Sequence[str], empty: str = "none") -> str:
+    """``a``, ``a and b``, ``a, b and c``."""
+    items = list(items)
+    if not items:
+        return empty
+    return items[0] if len(items) == 1 else ", ".join(items[:-1]) + " and " + items[-1]
+
+
+def days_words(delay_unit: str, n: int) -> str:
+    """``14 calendar days``, ``1 working day``."""
+    return f"{n} {unit_words(delay_unit, n)}"
 
 
 def float_words(value: int | None) -> str:

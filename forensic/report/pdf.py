@@ -53,6 +53,7 @@ __all__ = [
     "build_pdf",
     "data_table",
     "fit_text",
+    "paragraphs",
     "font_family",
     "styles",
 ]
@@ -128,6 +129,10 @@ def styles() -> dict[str, ParagraphStyle]:
         "small_right": ParagraphStyle("small_right", parent=body, fontSize=7.5, leading=9.5, spaceAfter=0, alignment=TA_RIGHT),
         "tiny": ParagraphStyle("tiny", parent=body, fontSize=6.3, leading=9.5, spaceAfter=0),
         "cell_head": ParagraphStyle("cell_head", parent=body, fontName=f.bold, fontSize=7.5, leading=9.5, spaceAfter=0),
+        "tiny_head": ParagraphStyle("tiny_head", parent=body, fontName=f.bold, fontSize=6.3, leading=8, spaceAfter=0),
+        "tiny_head_right": ParagraphStyle(
+            "tiny_head_right", parent=body, fontName=f.bold, fontSize=6.3, leading=8, spaceAfter=0, alignment=TA_RIGHT,
+        ),
         "cell_head_right": ParagraphStyle(
             "cell_head_right", parent=body, fontName=f.bold, fontSize=7.5, leading=9.5, spaceAfter=0, alignment=TA_RIGHT,
         ),
@@ -152,6 +157,14 @@ class Heading(Paragraph):
         self.outline_level = level
 
 
+def paragraphs(markup: str | None, style: str = "body") -> list[Flowable]:
+    """Filled markup as paragraphs: a blank line in the template starts a new one."""
+    if not markup:
+        return []
+    st = styles()[style]
+    return [Paragraph(p.strip().replace("\n", " "), st) for p in markup.split("\n\n") if p.strip()]
+
+
 def data_table(
     columns: Sequence[str],
     rows: Sequence[Sequence[Any]],
@@ -159,6 +172,7 @@ def data_table(
     numeric: Sequence[int] = (),
     tiny: Sequence[int] = (),
     keep: bool = True,
+    small_head: bool = False,
 ) -> Flowable:
     """A table whose header repeats on every page it breaks across.
 
@@ -168,7 +182,8 @@ def data_table(
     page unless ``keep`` is false (the caller keeps it with its lead-in).
     """
     st = styles()
-    head = [Paragraph(escape(str(c)), st["cell_head_right"] if i in numeric else st["cell_head"]) for i, c in enumerate(columns)]
+    hs = ("tiny_head_right", "tiny_head") if small_head else ("cell_head_right", "cell_head")
+    head = [Paragraph(escape(str(c)), st[hs[0]] if i in numeric else st[hs[1]]) for i, c in enumerate(columns)]
     body = []
     for row in rows:
         cells = []

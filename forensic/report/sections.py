@@ -16,6 +16,7 @@ from reportlab.platypus import CondPageBreak, Flowable, KeepTogether, PageBreak,
 
 from ..trend import SnapshotTrend
 from . import charts
+from .delay_sections import DELAY_RENDERERS, parties_words, party_totals
 from .narrative import (
     ReportContext,
     activity_name,
@@ -28,21 +29,16 @@ from .narrative import (
     text_or_none,
     unit_words,
 )
-from .pdf import FRAME_WIDTH, Heading, boxed, data_table, styles
+from .pdf import FRAME_WIDTH, Heading, boxed, data_table, paragraphs, styles
 from .specs import SPECS
 from .templates import Section, fill
 
 __all__ = ["RENDERERS", "render_section", "settings_rows"]
 
-Renderer = Callable[[ReportContext, Section], list[Flowable]]
+Renderer = Callable[[ReportContext, Section], list[Flowable] | None]
 
 
-def _paras(markup: str | None, style: str = "body") -> list[Flowable]:
-    """A filled text as paragraphs: a blank line in the template starts a new one."""
-    if not markup:
-        return []
-    st = styles()[style]
-    return [Paragraph(p.strip().replace("\n", " "), st) for p in markup.split("\n\n") if p.strip()]
+_paras = paragraphs
 
 
 def _col(section: Section, key: str, default: str) -> str:
@@ -154,6 +150,19 @@ def summary(ctx: ReportContext, section: Section) -> list[Flowable]:
         "completion_name": activity_name(ctx.casefile, last.completion_id, last.snapshot_id),
         "critical": last.critical,
     }))
+    if ctx.delay is not None:
+        led = ctx.delay.ledger
+        totals, concurrent = party_totals(ctx.delay)
+        out += _paras(text_or_none(ctx, section, "parties", {
+            "parties": parties_words(ctx, totals),
+            "compensable": led.total.excusable_compensable,
+            "noncompensable": led.total.excusable_noncompensable,
+            "nonexcusable": led.total.non_excusable,
+            "concurrent": led.total.concurrent,
+            "unattributed": led.total.unattributed_revision,
+            "total_slip": abs(led.total_slip),
+            "total_unit": unit_words(ctx.delay.unit, led.total_slip),
+        }))
     if section.options["chart"]:
         out.append(_trend_chart(ctx, section, t.snapshots))
         out += _paras(text_or_none(ctx, section, "caption"), "caption")
@@ -196,6 +205,8 @@ def settings_rows(ctx: ReportContext) -> list[tuple[str, str]]:
         ("Key milestones followed", keys),
         ("Float bands (working days)", ", ".join(b.label for b in t.bands)),
         ("Report template", f"{ctx.template.name} ({ctx.template.path.name})"),
+        *([("Acceleration asked", f"{ctx.recover_days} {unit_words(p.delay_unit, ctx.recover_days)} on the latest update, least cost")]
+          if ctx.recover_days else []),
     ]
 
 
@@ -213,7 +224,7 @@ def method(ctx: ReportContext, section: Section) -> list[Flowable]:
     protocols = []
     for s in ctx.template.sections:
         proto = SPECS[s.kind].protocol
-        if proto:
+        if proto and s.kind not in ctx.left_out:
             protocols.append((s.heading, proto))
     if protocols:
         lead = _paras(text_or_none(ctx, section, "protocols"))
@@ -427,12 +438,15 @@ RENDERERS: dict[str, Renderer] = {
     "float-erosion": float_erosion,
     "longest-path": longest_path,
     "inputs": inputs,
+    **DELAY_RENDERERS,
 }
 
 
-def render_section(ctx: ReportContext, section: Section, number: int | None) -> list[Flowable]:
-    """The heading and body of one section (the cover carries its own title)."""
+def render_section(ctx: ReportContext, section: Section, number: int | None) -> list[Flowable] | None:
+    """The heading and body of one section (the cover carries its own title); ``None`` to leave it out."""
     body = RENDERERS[section.kind](ctx, section)
+    if body is None:
+        return None
     if section.kind == "cover":
         return body
     st = styles()

@@ -57,6 +57,24 @@ _MILESTONE = (
     "change", "first_date", "last_date",
 )
 
+_WINDOW = (
+    *COMMON, "window", "from_id", "to_id", "start", "end", "completion_before", "completion_after",
+    "half_step_completion", "days", "days_unit", "progress", "progress_text", "revision", "revision_text",
+    "joined", "left", "contributors", "revision_events", "parties", "concurrent", "concurrent_parties",
+)
+_LEDGER = (
+    *COMMON, "total_slip", "total_unit", "baseline_completion", "last_completion", "compensable",
+    "noncompensable", "nonexcusable", "concurrent", "gains", "unassigned", "unattributed", "unexplained",
+)
+_IMPACT = (
+    *COMMON, "event", "title", "party", "category", "into", "completion_before", "completion_after",
+    "days", "days_unit", "inserted", "path", "reference",
+)
+_RECOVERY = (
+    *COMMON, "snapshot", "data_date", "asked", "asked_unit", "target", "current_completion", "completion",
+    "recovered", "recovered_unit", "cost", "count", "activities", "earliest_completion", "max_working_days",
+)
+
 SPECS: dict[str, SectionSpec] = {
     s.kind: s
     for s in (
@@ -80,6 +98,8 @@ SPECS: dict[str, SectionSpec] = {
                 "contract_on": (*COMMON, "contract_completion"),
                 "float": (*COMMON, "float", "completion_id", "completion_name", "critical"),
                 "caption": COMMON,
+                "parties": (*COMMON, "parties", "compensable", "noncompensable", "nonexcusable", "concurrent",
+                            "unattributed", "total_slip", "total_unit"),
             },
             options={"chart": OptionSpec(bool, True)},
         ),
@@ -133,6 +153,57 @@ SPECS: dict[str, SectionSpec] = {
                 "Longest path traced back from the completion through driving links "
                 "(AACE RP 49R-06, Identifying the Critical Path)"
             ),
+        ),
+        SectionSpec(
+            "windows",
+            texts={"later": _WINDOW, "earlier": _WINDOW, "unchanged": _WINDOW},
+            optional_texts={
+                "intro": COMMON, "progress": _WINDOW, "revision": _WINDOW, "path_moved": _WINDOW,
+                "path_same": _WINDOW, "concurrent": _WINDOW, "parties": _WINDOW,
+            },
+            options={"scope": _SCOPE, "table": OptionSpec(bool, True), "contributors": OptionSpec(bool, True)},
+            protocol=(
+                "Observational / dynamic / contemporaneous split: windows analysis with the half-step "
+                "split of each window into progress and revision (AACE RP 29R-03, MIP 3.4; SCL Delay and "
+                "Disruption Protocol 2nd ed., time slice windows analysis)"
+            ),
+        ),
+        SectionSpec(
+            "slip-by-party",
+            texts={"text": (*COMMON, "total", "total_unit", "parties", "concurrent", "windows")},
+            optional_texts={"caption": COMMON},
+            protocol=(
+                "Each window's slip attributed through the contributing activities to events and parties; "
+                "concurrency by a but-for test within the window (SCL Protocol 2nd ed., core principle 10; "
+                "AACE RP 29R-03, sec. 4.2)"
+            ),
+        ),
+        SectionSpec(
+            "ledger",
+            texts={"balanced": _LEDGER, "unbalanced": _LEDGER},
+            optional_texts={"intro": COMMON, "unexplained": _LEDGER},
+            options={"cumulative": OptionSpec(bool, True)},
+        ),
+        SectionSpec(
+            "time-impact",
+            texts={"delayed": _IMPACT, "no_delay": _IMPACT},
+            optional_texts={
+                "intro": COMMON,
+                "cumulative": (*COMMON, "into", "impact", "impact_unit", "sum", "sum_unit", "non_additivity", "events"),
+                "none": COMMON,
+            },
+            options={"table": OptionSpec(bool, True)},
+            protocol=(
+                "Modelled / additive: time impact analysis, each event's fragnet inserted into the "
+                "unimpacted update, alone and cumulatively (AACE RP 29R-03, MIP 3.6 and 3.7; AACE RP 52R-06)"
+            ),
+        ),
+        SectionSpec(
+            "acceleration",
+            texts={"text": _RECOVERY},
+            optional_texts={"intro": COMMON, "caption": COMMON, "not_asked": COMMON},
+            options={"curve": OptionSpec(bool, True)},
+            protocol="Time-cost trade-off of the remaining work (Kelley 1961; Fulkerson 1961)",
         ),
         SectionSpec(
             "inputs",
