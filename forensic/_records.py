@@ -235,9 +235,12 @@ def read_links(
             problems.add(rel, line, "succ", f"{pred} -> {succ} {ltype}", f"duplicate link; first on line {seen[key]}")
             continue
         seen[key] = line
-        if succ in finished:
+        # A link between two finished activities is history and says nothing;
+        # one into finished work from unfinished work has no effect and shows
+        # progress out of sequence, so it is worth a warning.
+        if succ in finished and pred not in finished:
             warnings.append(f"{rel}, line {line}: link {pred} -> {succ} has no effect, "
-                            f"because {succ} is finished")
+                            f"because {succ} is finished and {pred} is not")
         links.append(Link(pred, succ, ltype, lag, line))
     return links
 

@@ -90,8 +90,18 @@ def test_valid_casefile_lands_every_field_in_the_model(root):
     assert set(cf.inputs) == set(FILES)
     for rel, digest in cf.inputs.items():
         assert digest == hashlib.sha256((root / rel).read_bytes()).hexdigest()  # hashlib
-    # M100 -> A110 in U01 runs into a finished activity: a warning, not an error.
-    assert cf.warnings == (f"{U01_LINKS}, line 2: link M100 -> A110 has no effect, because A110 is finished",)
+    # M100 -> A110 in U01 joins two finished activities: history, no warning.
+    assert cf.warnings == ()
+
+
+def test_link_from_unfinished_into_finished_work_is_a_warning(tmp_path):
+    """A finished successor of unfinished work is out of sequence: the link has no effect (a warning)."""
+    root = write_casefile(tmp_path)
+    edit(root, U01_ACT, "Notice to proceed,start-milestone,0,,,2026-01-05,", "Notice to proceed,start-milestone,0,,,,")
+    cf = load_casefile(root)
+    assert cf.warnings == (
+        f"{U01_LINKS}, line 2: link M100 -> A110 has no effect, because A110 is finished and M100 is not",
+    )
 
 
 def test_manifest_path_is_accepted_in_place_of_the_folder(root):
