@@ -317,3 +317,16 @@ def test_demo_report_prints_time_impacts_and_the_recovery_plan(demo, demo_text):
 def test_demo_monthly_review_is_byte_identical_twice(demo):
     """Two builds of the demo's monthly review give the same bytes."""
     assert build_report(demo, "monthly") == build_report(demo, "monthly")
+
+
+def test_demo_report_prints_the_quality_scorecard(demo, demo_text):
+    """Each snapshot's passed / failed count is the tally of assess_casefile's checks (DCMA-EA PAM 200.1)."""
+    from forensic.quality import assess_casefile
+
+    for q in assess_casefile(demo):
+        assessed = sum(1 for c in q.checks if c.passed is not None)
+        passed = sum(1 for c in q.checks if c.passed)
+        if q.failed:
+            assert f"{q.snapshot_id} (data date {long_date(q.data_date)}) passed {passed} of the {assessed} checks" in demo_text
+        else:
+            assert f"{q.snapshot_id} (data date {long_date(q.data_date)}) passed all {assessed} checks" in demo_text

@@ -17,8 +17,10 @@ from pathlib import Path
 
 from .. import __version__
 from ..attribution import analyse_delay
+from ..compare import compare_snapshots
 from ..impact import time_impacts
 from ..model import Casefile
+from ..quality import assess_casefile
 from ..recovery import recover
 from ..trend import completion_trend
 from .narrative import ReportContext, long_date
@@ -83,6 +85,11 @@ def build_report(
         delay = analyse_delay(casefile, casefile.windows or None)
     if "time-impact" in kinds and any(e.fragnet or e.activities for e in casefile.events):
         impacts = time_impacts(casefile)
+    quality = assess_casefile(casefile) if "quality" in kinds else None
+    comparisons = None
+    if "changes" in kinds and len(casefile.snapshots) > 1:
+        snaps = casefile.snapshots
+        comparisons = tuple(compare_snapshots(casefile, a.id, b.id) for a, b in zip(snaps, snaps[1:], strict=False))
     if "acceleration" in kinds and recover_days is not None:
         recovery = recover(casefile, casefile.snapshots[-1].id, days=recover_days)
     left_out = set()
@@ -90,10 +97,12 @@ def build_report(
         left_out |= _NEEDS_DELAY
     if recovery is None:
         left_out.add("acceleration")
+    if comparisons is None:
+        left_out.add("changes")
     ctx = ReportContext(
         casefile=casefile, template=tpl, trend=trend, command=command, font=family.source,
         delay=delay, impacts=impacts, recovery=recovery, recover_days=recover_days,
-        left_out=frozenset(left_out),
+        quality=quality, comparisons=comparisons, left_out=frozenset(left_out),
     )
     story = []
     number = 0

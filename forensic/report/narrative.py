@@ -56,6 +56,8 @@ class ReportContext:
     impacts: Any = None  # forensic.impact.ImpactSeries
     recovery: Any = None  # forensic.recovery.RecoveryResult, when --recover-days was given
     recover_days: int | None = None
+    quality: Any = None  # tuple of forensic.quality.QualityReport, one per snapshot
+    comparisons: Any = None  # tuple of forensic.compare.Comparison, one per consecutive pair
     left_out: frozenset[str] = frozenset()  # section kinds with nothing to show for this casefile
 
 

@@ -30,6 +30,7 @@ from .narrative import (
     unit_words,
 )
 from .pdf import FRAME_WIDTH, Heading, boxed, data_table, paragraphs, styles
+from .record_sections import RECORD_RENDERERS
 from .specs import SPECS
 from .templates import Section, fill
 
@@ -439,6 +440,7 @@ RENDERERS: dict[str, Renderer] = {
     "longest-path": longest_path,
     "inputs": inputs,
     **DELAY_RENDERERS,
+    **RECORD_RENDERERS,
 }
 
 

@@ -206,6 +206,33 @@ SPECS: dict[str, SectionSpec] = {
             protocol="Time-cost trade-off of the remaining work (Kelley 1961; Fulkerson 1961)",
         ),
         SectionSpec(
+            "quality",
+            texts={
+                "passed_all": (*COMMON, "snapshot", "data_date", "passed", "failed", "assessed", "failed_checks"),
+                "failed_some": (*COMMON, "snapshot", "data_date", "passed", "failed", "assessed", "failed_checks"),
+            },
+            optional_texts={"intro": COMMON},
+            options={
+                "scope": OptionSpec(str, "latest", ("all", "latest", "last-two")),
+                "details": OptionSpec(bool, False),
+                "scorecard": OptionSpec(bool, True),
+            },
+            protocol=(
+                "Source validation: schedule quality checks of each snapshot (DCMA-EA PAM 200.1 14-point "
+                "assessment and practitioners' checks; AACE RP 29R-03, sec. 2.1)"
+            ),
+        ),
+        SectionSpec(
+            "changes",
+            texts={
+                "sentence": (*COMMON, "old", "new", "old_data_date", "new_data_date", "count", "path_count", "kinds"),
+                "no_changes": (*COMMON, "old", "new", "old_data_date", "new_data_date", "count", "path_count", "kinds"),
+            },
+            optional_texts={"intro": COMMON},
+            options={"scope": _SCOPE, "longest_path_only": OptionSpec(bool, True), "rows": OptionSpec(int, 40)},
+            protocol="Changes between consecutive updates: logic, durations, progress and the longest path (AACE RP 29R-03, sec. 2.3)",
+        ),
+        SectionSpec(
             "inputs",
             texts={"text": (*COMMON, "version", "command", "template", "font", "files")},
         ),
