@@ -22,7 +22,7 @@ def casefile_argument(func: Callable) -> Callable:
 def format_options(func: Callable) -> Callable:
     """``--json`` and ``--csv``: machine-readable output instead of the readable text."""
 
-    @click.option("--json", "as_json", is_flag=True, help="Print JSON (keys documented in README.md).")
+    @click.option("--json", "as_json", is_flag=True, help="Print JSON (stable keys, documented in README.md and docs/).")
     @click.option("--csv", "as_csv", is_flag=True, help="Print CSV (one table).")
     @functools.wraps(func)
     def wrapper(*args, **kwargs):
