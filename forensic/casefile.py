@@ -19,7 +19,10 @@ Decisions the format leaves open, made here:
   event's own fragnet (error): a slip there would drop the event from the
   attribution without a word.
 - Fragnets are the sub-folders of ``fragnets/``; an event names one by its
-  folder name.
+  folder name. A fragnet activity may reuse the id of a snapshot activity
+  (the same work, once a later update incorporates the change); a clash
+  with the snapshot a fragnet is inserted into is refused when it is
+  inserted (:func:`forensic.impact.insert_fragnet`), not on loading.
 - The baseline must be the first (oldest) snapshot.
 """
 
@@ -253,9 +256,10 @@ def _read_fragnets(root: Path, limits: Limits, hashes, snapshot_ids: set[str], s
             continue
         table = read_activities(rows, rel, data_date=None, calendars=ctx["calendars"],
                                 parties=ctx["parties"], problems=problems, warnings=ctx["warnings"])
-        for aid, line in table.ids.items():
-            if aid in snapshot_ids:
-                problems.add(rel, line, "id", aid, "a fragnet activity needs a new id; this one is already in a snapshot")
+        # A fragnet activity may share its id with activities of snapshots: the
+        # same work once a later update takes the change in (so but-for and
+        # windows can recognise it). Only a clash with the snapshot it is
+        # inserted into is refused, at insertion time (forensic.impact.insert_fragnet).
         lrel, lfull = found["links"]
         text = read_text(lfull, lrel, limits.max_file_bytes, problems, hashes)
         rows = None if text is None else read_table(text, lrel, *LINK_COLUMNS, limits.max_links, problems)

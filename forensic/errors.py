@@ -25,6 +25,7 @@ __all__ = [
     "OutputError",
     "RecoveryError",
     "ScheduleError",
+    "TemplateError",
     "WindowSpecError",
 ]
 
@@ -116,6 +117,14 @@ class NotFoundError(ForensicError, LookupError):
 
 class OutputError(ForensicError, OSError):
     """Raised when an output cannot be written, or would overwrite a casefile input."""
+
+
+class TemplateError(ForensicError, ValueError):
+    """Raised when a report template is missing or invalid.
+
+    The message names the template file, the section (by number and kind)
+    and the key or placeholder at fault, and says what was expected.
+    """
 
 
 class WindowSpecError(ForensicError, ValueError):

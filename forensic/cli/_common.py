@@ -31,7 +31,7 @@ def format_options(func: Callable) -> Callable:
     ``--csv``.
     """
 
-    @click.option("--json", "as_json", is_flag=True, help="Print JSON (keys documented in README.md).")
+    @click.option("--json", "as_json", is_flag=True, help="Print JSON (stable keys, documented in README.md and docs/).")
     @click.option("--csv", "as_csv", is_flag=True, help="Print CSV (one table).")
     @click.option("--out", type=click.Path(dir_okay=False, path_type=Path), metavar="FILE",
                   help="Write the JSON or CSV to FILE (atomically; never over a casefile file).")

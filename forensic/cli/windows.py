@@ -7,7 +7,14 @@ from pathlib import Path
 import click
 
 from ..asbuilt import as_planned_vs_as_built, asbuilt_table
-from ..attribution import analyse_delay, contributors_table, delay_json, ledger_table
+from ..attribution import (
+    CONCURRENCY_RULE,
+    analyse_delay,
+    concurrency_table,
+    contributors_table,
+    delay_json,
+    ledger_table,
+)
 from ..tables import dumps_json, to_csv, to_text
 from ..windows import windows_table
 from ._base import main
@@ -63,6 +70,13 @@ def windows_command(casefile: Path, bounds: str | None, table: str, as_json: boo
     emit(to_text(tables["windows"]()))
     click.echo("\nContributors (progress) and revision shares:")
     emit(to_text(tables["contributors"]()))
+    conc = concurrency_table(an)
+    click.echo("\nConcurrency (but-for in each window):")
+    if conc.rows:
+        emit(to_text(conc))
+    else:
+        click.echo("no concurrent days in any window")
+    click.echo(f"Rule: {CONCURRENCY_RULE}.")
     click.echo("\nLedger per window:")
     emit(to_text(tables["ledger"]()))
     click.echo("\nLedger cumulative:")
