@@ -304,8 +304,8 @@ def check_fragnet_loops(
     """Report a loop that a fragnet's ties close with a snapshot's own logic.
 
     The fragnet is checked against every snapshot that has all the
-    activities it ties to (the snapshots it could be inserted into, AACE
-    RP 52R-06); a loop there would stop the time impact analysis, so the
+    activities it ties to and none of its own ids (the snapshots it could
+    be inserted into, AACE RP 52R-06); a loop there would stop the time impact analysis, so the
     casefile is refused now, naming the loop, the fragnet link lines in it
     and the snapshots where it closes.
     """
@@ -314,8 +314,8 @@ def check_fragnet_loops(
     where: list[str] = []
     found: tuple[str, list[int]] | None = None
     for snap in snapshots:
-        if not ties <= set(snap.activities):
-            continue
+        if not ties <= set(snap.activities) or own & set(snap.activities):
+            continue  # cannot be inserted here (forensic.impact.insert_fragnet refuses it)
         if _has_loop(list(snap.activities), snap.links):
             continue  # the snapshot's own loop is reported with the snapshot
         if not _has_loop([*snap.activities, *own], [*snap.links, *fragnet_links]):

@@ -96,6 +96,8 @@ COMMANDS = [
     ["impact", "--all"],
     ["but-for"],
     ["recover", "--snapshot", "U01", "--days", "1"],
+    ["report", "--out", "report.pdf"],
+    ["compare", "BL", "U01"],
 ]
 SOME = [c for c in CASES if c.name in ("nan-duration", "loop-only-the-fragnet-creates", "dot-dot-path")]
 

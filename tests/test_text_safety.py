@@ -96,3 +96,21 @@ def test_no_casefile_text_is_evaluated_or_formatted_as_a_template():
     hits = [f"{p.relative_to(src)}:{n}" for p in sorted(src.rglob("*.py"))
             for n, line in enumerate(p.read_text(encoding="utf-8").splitlines(), 1) if pattern.search(line)]
     assert hits == []
+
+
+def test_report_pdf_prints_markup_and_formulas_verbatim(tmp_path, monkeypatch):
+    """forensic report on hostile names and titles: the PDF shows the text as written, no markup applied."""
+    from pypdf import PdfReader
+
+    root = _hostile_casefile(tmp_path)
+    events = root / "events.csv"
+    title = '<img src="/etc/passwd"/> <a href="javascript:alert(1)">site</a> & <b>access</b>'
+    text = events.read_text(encoding="utf-8").replace("Late site access", '"' + title.replace('"', '""') + '"')
+    events.write_text(text, encoding="utf-8")
+    monkeypatch.chdir(tmp_path)
+    result = CliRunner().invoke(main, ["report", str(root), "--out", "report.pdf"])
+    assert result.exit_code == 0, result.output
+    pdf = "".join(page.extract_text() for page in PdfReader(tmp_path / "report.pdf").pages)  # pypdf (reference library)
+    flat = " ".join(pdf.split())
+    assert title in flat  # the tags print as text: no image read, no link made
+    assert HOSTILE["M900"] in flat and "&lt;" not in flat and "&amp;" not in flat  # escaped once, not twice
