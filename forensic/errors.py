@@ -18,6 +18,7 @@ __all__ = [
     "CasefileError",
     "ForensicError",
     "FragnetError",
+    "ImportMappingError",
     "InputProblem",
     "LimitExceeded",
     "LogicLoopError",
@@ -75,6 +76,15 @@ class CasefileError(ForensicError, ValueError):
                 f"  {p}" for p in self.problems
             )
         super().__init__(msg)
+
+
+class ImportMappingError(CasefileError):
+    """Raised when an import mapping, or the source tables it describes, cannot be read.
+
+    Each problem names the mapping file and key, or the source file (a
+    workbook sheet as ``book.xlsx[sheet]``), the row, the user's column name
+    and the value; a missing column's message lists the columns found.
+    """
 
 
 class LimitExceeded(CasefileError):
