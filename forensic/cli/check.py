@@ -9,7 +9,7 @@ import click
 from ..tables import Table, dumps_json, to_csv, to_text
 from ..validation import validate_casefile
 from ._base import main
-from ._common import casefile_argument, emit, format_options, load, pick_format
+from ._common import casefile_argument, emit, emit_xlsx, format_options, load, pick_format
 
 
 @main.command()
@@ -34,6 +34,7 @@ def check(casefile: Path, as_json: bool, as_csv: bool) -> None:
             for s in result.snapshots
         ),
     )
+    emit_xlsx([table], cf)
     fmt = pick_format(as_json, as_csv)
     if fmt == "json":
         emit(dumps_json({"valid": True, "snapshots": table.records(), "warnings": list(result.warnings)}))
