@@ -86,6 +86,7 @@ _DURATION_FIELDS = ("duration", "remaining", "crash_days")
 _DATE_FIELDS = ("actual_start", "actual_finish", "constraint_date", "start", "finish")
 _CODE_FIELDS = {"kind": ("kinds", ACTIVITY_KINDS), "type": ("link_types", LINK_TYPES),
                 "constraint": ("constraints", CONSTRAINT_KINDS), "category": ("categories", CATEGORIES)}
+_FORMULA_LEADS = ("=", "+", "-", "@", "\t", "\r")
 _DEFAULTS = {  # what the casefile format does with a blank optional field
     ("activities", "kind"): "read as task",
     ("activities", "remaining"): "the duration if not started, 0 if finished",
@@ -416,6 +417,10 @@ class _Converter:
             self.flagged.add((label, line, field))
             return text
 
+        if text.startswith("'") and text[1:2] in _FORMULA_LEADS:
+            # our own exports neutralise such text (OWASP); read it back as written
+            self.counts[f"{table}: leading apostrophe removed before a formula character"] += 1
+            text = text[1:]
         if field in _DATE_FIELDS:
             d = _parse_date(text, self.v.date_formats)
             if d is None:
@@ -432,7 +437,7 @@ class _Converter:
             return ours
         if field in _DURATION_FIELDS or field == "lag":
             unit = self.v.lags if field == "lag" else self.v.durations
-            return self._days(field, unit, text, bad)
+            return self._days(table, field, unit, text, bad)
         if field == "percent_complete":
             number = text.removesuffix("%").strip()
             try:
@@ -448,7 +453,7 @@ class _Converter:
             return " ".join(text.replace(",", " ").replace(";", " ").split())
         return text
 
-    def _days(self, field: str, unit: str, text: str, bad) -> str:
+    def _days(self, table: str, field: str, unit: str, text: str, bad) -> str:
         try:
             value = float(text)
         except ValueError:
@@ -459,14 +464,14 @@ class _Converter:
         whole = round(days)
         if abs(days - whole) < 1e-9:
             if unit == "hours":
-                self.counts[f"{field} converted from hours to days ({self.v.hours_per_day:g} hours a day)"] += 1
+                self.counts[f"{table}: {field} converted from hours to days ({self.v.hours_per_day:g} hours a day)"] += 1
             return str(whole)
         if self.v.rounding == "refuse":
             return bad(f"{text} {unit} is {days:g} days, not a whole number of working days; "
                        "set [values] rounding = \"up\" or \"nearest\" to round it")
         rounded = math.floor(abs(days) + 0.5) if self.v.rounding == "nearest" else math.ceil(abs(days))
         rounded = int(math.copysign(rounded, days))
-        self.counts[f"{field} rounded {self.v.rounding} to whole working days"] += 1
+        self.counts[f"{table}: {field} rounded {self.v.rounding} to whole working days"] += 1
         return str(rounded)
 
 
@@ -576,8 +581,8 @@ def read_mapping(path: str | os.PathLike[str]) -> tuple[Casefile, tuple[str, ...
     for table_name, cols in conv.unused.items():
         if cols:
             notes.append(f"{table_name}: source columns not used (dropped): {', '.join(sorted(cols))}")
-    notes += [f"{what} ({n} cells)" if "rows" not in what else f"{what} ({n})"
-              for what, n in conv.counts.items() if n]
+    notes += [f"{what} ({n} {'rows' if 'no column' in what else 'cells'})" if "rows" not in what
+              else f"{what} ({n})" for what, n in conv.counts.items() if n]
     return cf, tuple(notes)
 
 
