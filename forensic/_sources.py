@@ -17,7 +17,7 @@ from pathlib import Path
 
 from ._csvread import Problems
 
-__all__ = ["SourceTable", "read_source"]
+__all__ = ["SourceTable", "close_books", "read_source"]
 
 _MAX_BYTES = 64 * 1024 * 1024  # the loader's default ceiling, for the same reason
 _WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
@@ -55,9 +55,11 @@ def _workbook_value(value) -> tuple[str | date, bool]:
 
 
 def read_source(path: Path, label: str, sheet: str | None, encoding: str, delimiter: str,
-                problems: Problems) -> SourceTable | None:
+                problems: Problems, books: dict | None = None) -> SourceTable | None:
     """Read a CSV file, or a sheet of a workbook (``sheet`` ``None``: its first sheet).
 
+    ``books`` caches open workbooks by path, so that a workbook with a sheet
+    per table is opened once; the caller closes them (:func:`close_books`).
     Problems (file not found, not decodable, no such sheet, duplicate
     column names, no header) go to ``problems``; the result is then ``None``.
     """
@@ -68,7 +70,7 @@ def read_source(path: Path, label: str, sheet: str | None, encoding: str, delimi
         problems.add(label, None, None, path.stat().st_size, f"file is over the limit of {_MAX_BYTES} bytes")
         return None
     if path.suffix.lower() in _WORKBOOK_SUFFIXES:
-        raw = _read_sheet(path, label, sheet, problems)
+        raw = _read_sheet(path, label, sheet, problems, {} if books is None else books)
     else:
         if sheet is not None:
             problems.add(label, None, "sheet", sheet, "a sheet can only be named for a workbook (.xlsx)")
@@ -127,32 +129,40 @@ def _read_csv(path: Path, label: str, encoding: str, delimiter: str, problems: P
     return out, 0
 
 
-def _read_sheet(path: Path, label: str, sheet: str | None, problems: Problems):
+def close_books(books: dict) -> None:
+    """Close the workbooks :func:`read_source` opened."""
+    for wb in books.values():
+        wb.close()
+    books.clear()
+
+
+def _read_sheet(path: Path, label: str, sheet: str | None, problems: Problems, books: dict):
     from openpyxl import load_workbook
 
-    try:
-        wb = load_workbook(path, read_only=True, data_only=True)
-    except Exception as exc:  # openpyxl raises several types for a damaged file
-        problems.add(label, None, None, None, f"cannot open the workbook: {exc}")
-        return None
-    try:
-        if sheet is None:
-            ws = wb.worksheets[0]
-        elif sheet in wb.sheetnames:
-            ws = wb[sheet]
-        else:
-            problems.add(label, None, "sheet", sheet,
-                         f"no such sheet; the workbook has {', '.join(repr(s) for s in wb.sheetnames)}")
+    key = path.resolve()
+    wb = books.get(key)
+    if wb is None:
+        try:
+            wb = load_workbook(path, read_only=True, data_only=True)
+        except Exception as exc:  # openpyxl raises several types for a damaged file
+            problems.add(label, None, None, None, f"cannot open the workbook: {exc}")
             return None
-        out = []
-        times = 0
-        for number, row in enumerate(ws.iter_rows(values_only=True), 1):
-            cells = []
-            for v in row:
-                value, dropped = _workbook_value(v)
-                times += dropped
-                cells.append(value)
-            out.append((number, cells))
-        return out, times
-    finally:
-        wb.close()
+        books[key] = wb
+    if sheet is None:
+        ws = wb.worksheets[0]
+    elif sheet in wb.sheetnames:
+        ws = wb[sheet]
+    else:
+        problems.add(label, None, "sheet", sheet,
+                     f"no such sheet; the workbook has {', '.join(repr(s) for s in wb.sheetnames)}")
+        return None
+    out = []
+    times = 0
+    for number, row in enumerate(ws.iter_rows(values_only=True), 1):
+        cells = []
+        for v in row:
+            value, dropped = _workbook_value(v)
+            times += dropped
+            cells.append(value)
+        out.append((number, cells))
+    return out, times

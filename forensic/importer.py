@@ -49,7 +49,7 @@ from ._records import (
     read_events,
     read_links,
 )
-from ._sources import SourceTable, read_source
+from ._sources import SourceTable, close_books, read_source
 from .casefile import _CALENDAR_KEYS, _PARTY_KEYS, _PROJECT_KEYS, load_casefile
 from .errors import CasefileError, ImportMappingError, InputProblem, OutputError
 from .model import (
@@ -532,11 +532,19 @@ def read_mapping(path: str | os.PathLike[str]) -> tuple[Casefile, tuple[str, ...
     conv = _Converter(m, problems)
     warnings: list[str] = []
     cal_ids = tuple(calendars)
+    books: dict = {}
+    try:
+        return _read_all(m, conv, project, parties, calendars, cal_ids, books, problems, warnings)
+    finally:
+        close_books(books)
+
+
+def _read_all(m, conv, project, parties, calendars, cal_ids, books, problems, warnings):
 
     def table(ref, what: str) -> list[Row] | None:
         if ref is None:
             return None
-        src = read_source(ref[0], ref[2], ref[1], m.values.encoding, m.values.delimiter, problems)
+        src = read_source(ref[0], ref[2], ref[1], m.values.encoding, m.values.delimiter, problems, books)
         return None if src is None else conv.rows(what, src)
 
     snapshots: list[Snapshot] = []

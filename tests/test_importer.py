@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import shutil
+from dataclasses import replace
 from datetime import date, datetime
 from pathlib import Path
 
@@ -79,7 +80,9 @@ def test_round_trip_riverside_through_csv_export(tmp_path: Path) -> None:
 
 def test_round_trip_riverside_through_one_workbook(tmp_path: Path) -> None:
     """Casefile -> XLSX export (a sheet per table, date cells) -> import gives the same schedules."""
-    cf = load_casefile(RIVERSIDE)
+    full = load_casefile(RIVERSIDE)
+    # three snapshots keep the test fast; the CSV round trip above takes all eleven
+    cf = replace(full, snapshots=tuple(full.snapshot(s) for s in ("BL", "U05", "U10")))
     (tmp_path / "all.xlsx").write_bytes(to_xlsx(input_tables(cf)))
     text = 'workbook = "all.xlsx"\n' + _identity_mapping(cf, tmp_path, lambda name: f'{{ sheet = "{name}" }}')
     mapping = tmp_path / "map.toml"
