@@ -3,7 +3,8 @@
 :func:`casefile_tables` runs the analyses over a casefile and gathers their
 tables (:class:`~forensic.tables.Table`) in a fixed order: the input tables
 (activities and links of each snapshot, events, fragnets), then the
-schedule of each snapshot, the windows analysis, its contributors and
+schedule of each snapshot, the quality scorecard, the comparison of each
+update with the one before, the windows analysis, its contributors and
 ledger, the as-planned versus as-built comparison, the time impact of each
 event, the but-for cases, and a recovery plan when asked for.
 
@@ -137,13 +138,16 @@ def casefile_tables(
     References
     ----------
     AACE International Recommended Practice 29R-03, Forensic Schedule
-    Analysis (protocols 3.1-3.8: the analyses whose results are exported).
+    Analysis (protocols 3.1-3.8: the analyses whose results are exported);
+    DCMA-EA PAM 200.1 (the quality scorecard).
     """
     from .asbuilt import as_planned_vs_as_built, asbuilt_table
     from .attribution import analyse_delay, contributors_table, ledger_table
     from .butfor import as_built_table, but_for, but_for_table
+    from .compare import compare_snapshots, compare_table
     from .engine import schedule_snapshot
     from .impact import float_table, milestones_table, series_table, time_impact, time_impacts
+    from .quality import assess_casefile, quality_table
     from .recovery import recover, recovery_curve_table, recovery_plan_table
     from .windows import windows_table
 
@@ -158,6 +162,10 @@ def casefile_tables(
 
     for snap in cf.snapshots:
         tables.append(schedule_table(schedule_snapshot(cf, snap.id), snap))
+    attempt("schedule quality", lambda: [quality_table(assess_casefile(cf))])
+    for old, new in zip(cf.snapshots, cf.snapshots[1:], strict=False):
+        attempt(f"comparison {old.id} -> {new.id}",
+                lambda old=old, new=new: [compare_table(compare_snapshots(cf, old.id, new.id))])
     if len(cf.snapshots) >= 2:
         def delay() -> list[Table]:
             an = analyse_delay(cf)

@@ -47,13 +47,13 @@ def small(tmp_path_factory) -> tuple:
 
 
 def test_every_analysis_has_its_tables(small) -> None:
-    """Inputs, schedules, windows, contributors, ledger, as-built, impact per event and but-for are all there."""
+    """Inputs, schedules, quality, comparisons, windows, contributors, ledger, as-built, impact per event and but-for are all there."""
     _cf, export = small
     names = [t.name for t in export.tables]
     # Expected names: each analysis's own table function (forensic/windows.py, attribution.py, ...).
     assert names[:7] == ["activities-BL", "links-BL", "activities-U01", "links-U01", "events",
                          "fragnet-EV02-activities", "fragnet-EV02-links"]
-    for name in ("schedule-BL", "schedule-U01", "windows", "contributors", "ledger", "ledger-cumulative",
+    for name in ("schedule-BL", "schedule-U01", "quality", "compare-BL-U01", "windows", "contributors", "ledger", "ledger-cumulative",
                  "as-planned-vs-as-built", "impact-EV01-milestones", "impact-EV02-milestones",
                  "impact-EV02-float", "impact-series", "but-for", "but-for-events"):
         assert name in names
@@ -66,7 +66,7 @@ def test_recovery_that_cannot_be_met_is_listed_as_skipped(small) -> None:
     export = casefile_tables(cf, recover_days=1, inputs=False)
     assert len(export.skipped) == 1 and export.skipped[0].startswith("recovery of 1 days on U01: ")
     assert "cannot be met" in export.skipped[0]
-    assert export.tables[0].name == "schedule-BL"
+    assert [t.name for t in export.tables][:4] == ["schedule-BL", "schedule-U01", "quality", "compare-BL-U01"]
 
 
 def test_workbook_has_a_sheet_per_table_with_real_dates(small, tmp_path: Path) -> None:
@@ -178,6 +178,8 @@ def test_cli_export_needs_an_output_and_never_writes_over_an_input(small, tmp_pa
     [
         (["schedule", "--snapshot", "BL"], ["schedule-BL"]),
         (["check"], ["snapshots"]),
+        (["check", "--quality"], ["quality"]),
+        (["compare", "BL", "U01"], ["compare-BL-U01"]),
         (["but-for"], ["but-for", "but-for-events"]),
         (["impact", "--event", "EV02"], ["impact-EV02-milestones", "impact-EV02-float"]),
     ],

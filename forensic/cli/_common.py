@@ -59,7 +59,7 @@ def format_options(func: Callable) -> Callable:
     """``--json``, ``--csv`` (machine-readable output instead of the text) and ``--xlsx FILE``."""
 
     @xlsx_option
-    @click.option("--json", "as_json", is_flag=True, help="Print JSON (keys documented in README.md).")
+    @click.option("--json", "as_json", is_flag=True, help="Print JSON (stable keys, documented in README.md and docs/).")
     @click.option("--csv", "as_csv", is_flag=True, help="Print CSV (one table).")
     @functools.wraps(func)
     def wrapper(*args, **kwargs):

@@ -29,7 +29,8 @@ def export_command(casefile: Path, xlsx: Path | None, csv_dir: Path | None, json
     """Run every analysis on CASEFILE and write all their tables.
 
     Tables: the inputs (activities and links per snapshot, events,
-    fragnets), the schedule of each snapshot, windows, contributors, the
+    fragnets), the schedule of each snapshot, the quality scorecard, the
+    comparison of each update with the one before, windows, contributors, the
     ledger, as-planned vs as-built, the time impact of each event, but-for,
     and a recovery plan with --recover-days. Analyses that cannot run on this
     casefile are listed and skipped. Text cells are neutralised against
