@@ -86,6 +86,12 @@ class ImportMappingError(CasefileError):
     and the value; a missing column's message lists the columns found.
     """
 
+    def __init__(self, problems: Sequence[InputProblem]):
+        super().__init__(problems)
+        if len(self.problems) > 1:
+            listing = "\n".join(f"  {p}" for p in self.problems)
+            self.args = (f"{len(self.problems)} problems in the import:\n{listing}",)
+
 
 class LimitExceeded(CasefileError):
     """Raised when an input exceeds a configured ceiling (file size, activities, links)."""

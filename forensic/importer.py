@@ -539,45 +539,60 @@ def read_mapping(path: str | os.PathLike[str]) -> tuple[Casefile, tuple[str, ...
         close_books(books)
 
 
-def _read_all(m, conv, project, parties, calendars, cal_ids, books, problems, warnings):
+def _read_all(m: _Mapping, conv: _Converter, project, parties, calendars, cal_ids, books, problems, warnings):
+    """Read every source table; cross-table checks only when every table could be read.
+
+    A table that cannot be read at all (a missing column) leaves its ids
+    unknown, so the checks that look ids up across tables (fragnet ties,
+    the activities an event hit) wait for the next run rather than report a
+    cascade of unknown ids.
+    """
+    complete = True
 
     def table(ref, what: str) -> list[Row] | None:
+        nonlocal complete
         if ref is None:
+            complete = False
             return None
         src = read_source(ref[0], ref[2], ref[1], m.values.encoding, m.values.delimiter, problems, books)
-        return None if src is None else conv.rows(what, src)
+        rows = None if src is None else conv.rows(what, src)
+        complete = complete and rows is not None
+        return rows
 
     snapshots: list[Snapshot] = []
     all_ids: set[str] = set()
     for spec in m.snapshots:
         rows = table(spec["activities"], "activities")
         lrows = table(spec["links"], "links")
-        if rows is None or lrows is None or spec["data_date"] is None:
+        if rows is None:
             continue
-        label = spec["activities"][2]
-        acts = read_activities(rows, label, calendars=cal_ids, parties=tuple(parties),
+        acts = read_activities(rows, spec["activities"][2], calendars=cal_ids, parties=tuple(parties),
                                data_date=spec["data_date"], problems=problems, warnings=warnings)
+        all_ids.update(acts.ids)
+        if lrows is None or spec["data_date"] is None:
+            continue
         finished = {a.id for a in acts.activities.values() if a.actual_finish is not None}
         links = read_links(lrows, spec["links"][2], known=acts.ids, finished=finished,
                            problems=problems, warnings=warnings)
-        all_ids.update(acts.ids)
         snapshots.append(Snapshot(spec["id"], spec["data_date"], frozen_mapping(acts.activities),
                                   tuple(links), spec["role"]))
     fragnets: dict[str, Fragnet] = {}
     for spec in m.fragnets:
         rows = table(spec["activities"], "activities")
         lrows = table(spec["links"], "links")
-        if rows is None or lrows is None:
+        if rows is None:
             continue
         acts = read_activities(rows, spec["activities"][2], calendars=cal_ids, parties=tuple(parties),
                                data_date=None, problems=problems, warnings=warnings)
+        if lrows is None or not complete:
+            continue
         links = read_links(lrows, spec["links"][2], known=set(acts.ids) | all_ids, finished=(),
                            problems=problems, warnings=warnings,
                            unknown_hint="no activity with this id in the fragnet or in any snapshot")
         fragnets[spec["id"]] = Fragnet(spec["id"], frozen_mapping(acts.activities), tuple(links))
     events = ()
-    erows = table(m.events, "events")
-    if erows is not None:
+    erows = table(m.events, "events") if m.events is not None else None
+    if erows is not None and complete:
         events = tuple(read_events(erows, m.events[2], parties=parties, snapshot_ids=all_ids, problems=problems,
                                    fragnets={k: tuple(f.activities) for k, f in fragnets.items()}))
     conv.drop_echoes()

@@ -254,6 +254,8 @@ def test_mapped_column_not_found_lists_the_columns_found(example: Path, tmp_path
     assert ("tasks-baseline.csv, line 1, duration: column for duration not found; the columns found are "
             "'Task Code', 'Task Title', 'Type', 'Planned Dur (h)', 'Left Dur (h)', 'Began', 'Ended', "
             "'Cal', 'Resp', 'Done', 'Notes' (value: 'Plan Dur (h)')") in str(err)
+    assert str(err).startswith("2 problems in the import:")  # one per tasks file
+    assert "delays.csv" not in str(err)  # no cascade of unknown ids from the unread tables
 
 
 def test_required_field_without_a_column_lists_the_columns_found(example: Path, tmp_path: Path) -> None:
