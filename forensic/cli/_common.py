@@ -11,7 +11,7 @@ import click
 from ..model import Casefile
 from ..outputs import atomic_write
 
-__all__ = ["casefile_argument", "emit", "format_options", "load", "pick_format"]
+__all__ = ["casefile_argument", "emit", "emit_xlsx", "format_options", "load", "pick_format", "xlsx_option"]
 
 
 def casefile_argument(func: Callable) -> Callable:
@@ -19,9 +19,46 @@ def casefile_argument(func: Callable) -> Callable:
     return click.argument("casefile", metavar="CASEFILE", type=click.Path(path_type=Path))(func)
 
 
-def format_options(func: Callable) -> Callable:
-    """``--json`` and ``--csv``: machine-readable output instead of the readable text."""
+_XLSX_KEY = "forensic.xlsx"
 
+
+def _remember_xlsx(ctx: click.Context, _param, value):
+    if value is not None:
+        ctx.meta[_XLSX_KEY] = value
+    return value
+
+
+def xlsx_option(func: Callable) -> Callable:
+    """``--xlsx FILE``: also write the command's tables to one formatted workbook.
+
+    The option is not passed to the command; the command hands its tables
+    to :func:`emit_xlsx`, which writes them only when the option was given.
+    """
+    return click.option(
+        "--xlsx", type=click.Path(path_type=Path, dir_okay=False), metavar="FILE", expose_value=False,
+        callback=_remember_xlsx, help="Also write the tables to FILE, a workbook with a sheet per table.",
+    )(func)
+
+
+def emit_xlsx(tables, casefile: Casefile | None = None) -> None:
+    """Write ``tables`` to the ``--xlsx`` workbook when one was asked for (atomically, never over an input)."""
+    ctx = click.get_current_context(silent=True)
+    out = None if ctx is None else ctx.meta.get(_XLSX_KEY)
+    if out is None:
+        return
+    from ..export import to_xlsx
+
+    protected = []
+    if casefile is not None and casefile.root is not None:
+        protected = [casefile.root / rel for rel in casefile.inputs]
+    atomic_write(out, to_xlsx(list(tables)), protected)
+    click.echo(f"wrote {out}", err=True)
+
+
+def format_options(func: Callable) -> Callable:
+    """``--json``, ``--csv`` (machine-readable output instead of the text) and ``--xlsx FILE``."""
+
+    @xlsx_option
     @click.option("--json", "as_json", is_flag=True, help="Print JSON (stable keys, documented in README.md and docs/).")
     @click.option("--csv", "as_csv", is_flag=True, help="Print CSV (one table).")
     @functools.wraps(func)

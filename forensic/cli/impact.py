@@ -19,7 +19,7 @@ from ..impact import (
 )
 from ..tables import dumps_json, to_text
 from ._base import main
-from ._common import casefile_argument, emit, load
+from ._common import casefile_argument, emit, emit_xlsx, load, xlsx_option
 
 _PROGRESS_NOTE = (
     "Progress to the event's start is assumed as planned in the unimpacted schedule "
@@ -60,6 +60,7 @@ def _warn(warnings) -> None:
 @click.option("--progress-to-event", is_flag=True,
               help="First bring the unimpacted schedule to the event's start, as planned.")
 @click.option("--json", "as_json", is_flag=True, help="Print JSON (keys in docs/impact-and-butfor.md).")
+@xlsx_option
 def impact_command(
     casefile: Path,
     events: tuple[str, ...],
@@ -89,6 +90,7 @@ def impact_command(
     if cumulative:
         series = time_impacts(cf, ids, into=into, progress_to_event=progress_to_event)
         _warn(w for r in series.individual for w in r.warnings)
+        emit_xlsx([series_table(series)], cf)
         if as_json:
             emit(dumps_json(series_json(series)))
             return
@@ -109,6 +111,7 @@ def impact_command(
             raise click.ClickException("no event with a fragnet or with activities it hit")
     results = [time_impact(cf, e, into=into, progress_to_event=progress_to_event) for e in ids]
     _warn(w for r in results for w in r.warnings)
+    emit_xlsx([t for r in results for t in (milestones_table(r), float_table(r))], cf)
     if as_json:
         if len(results) == 1 and not all_events:
             emit(dumps_json(impact_json(results[0])))
@@ -124,6 +127,7 @@ def impact_command(
 @click.option("--event", metavar="ID", help="Remove this one event.")
 @click.option("--snapshot", "snapshot_id", metavar="ID", help="Build the as-built from this snapshot (default: the last).")
 @click.option("--json", "as_json", is_flag=True, help="Print JSON (keys in docs/impact-and-butfor.md).")
+@xlsx_option
 def but_for_command(casefile: Path, party: str | None, event: str | None, snapshot_id: str | None, as_json: bool) -> None:
     """But-for analysis: collapse the as-built schedule (AACE RP 29R-03, MIP 3.8).
 
@@ -140,6 +144,7 @@ def but_for_command(casefile: Path, party: str | None, event: str | None, snapsh
     cf = load(casefile)
     report = but_for(cf, party=party, event=event, snapshot_id=snapshot_id)
     _warn(report.as_built.warnings)
+    emit_xlsx([but_for_table(report), as_built_table(report)], cf)
     if as_json:
         emit(dumps_json(but_for_json(report)))
         return

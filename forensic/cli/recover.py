@@ -10,7 +10,7 @@ import click
 from ..recovery import OBJECTIVES, recover, recovery_curve_table, recovery_json, recovery_plan_table
 from ..tables import dumps_json, to_text
 from ._base import main
-from ._common import casefile_argument, emit, load
+from ._common import casefile_argument, emit, emit_xlsx, load, xlsx_option
 
 
 @main.command("recover")
@@ -23,6 +23,7 @@ from ._common import casefile_argument, emit, load
 @click.option("--objective", type=click.Choice(OBJECTIVES), default="cost", show_default=True,
               help="cost: least total cost; count: fewest activities shortened, then least cost.")
 @click.option("--json", "as_json", is_flag=True, help="Print JSON (keys documented in docs/recovery.md).")
+@xlsx_option
 def recover_command(
     casefile: Path, snapshot_id: str, target, days: int | None, objective: str, as_json: bool
 ) -> None:
@@ -42,6 +43,7 @@ def recover_command(
     cf = load(casefile)
     wanted: date | None = target.date() if target is not None else None
     result = recover(cf, snapshot_id, target=wanted, days=days, objective=objective)
+    emit_xlsx([recovery_plan_table(result), recovery_curve_table(result)], cf)
     if as_json:
         emit(dumps_json(recovery_json(result)))
         return
