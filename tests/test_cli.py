@@ -90,3 +90,19 @@ def test_demo_copies_the_casefile_and_never_overwrites_a_changed_copy(tmp_path):
     assert again.exit_code == 1
     assert "not an unchanged copy" in again.output
     assert (copy / "events.csv").read_text(encoding="utf-8") == "changed\n"
+
+
+@pytest.mark.parametrize(
+    ("args", "header"),
+    [
+        (["impact", str(DEMO), "--event", "EV03", "--csv"], "event,into,id,name,before,after,impact"),
+        (["but-for", str(DEMO), "--party", "OWN", "--csv"], "case,events_removed,not_represented"),
+        (["recover", str(DEMO), "--snapshot", "U08", "--days", "2", "--csv"], "id,name,status,days"),
+    ],
+)
+def test_analysis_commands_print_csv(args, header):
+    """impact, but-for and recover print their main table as CSV with --csv (issue contract: --csv on each command)."""
+    result = CliRunner().invoke(main, args)
+    assert result.exit_code == 0, result.output
+    assert result.output.startswith(header)
+    assert len(result.output.strip().split("\n")) >= 2
