@@ -18,6 +18,7 @@ __all__ = [
     "CasefileError",
     "ForensicError",
     "FragnetError",
+    "ImportMappingError",
     "InputProblem",
     "LimitExceeded",
     "LogicLoopError",
@@ -76,6 +77,21 @@ class CasefileError(ForensicError, ValueError):
                 f"  {p}" for p in self.problems
             )
         super().__init__(msg)
+
+
+class ImportMappingError(CasefileError):
+    """Raised when an import mapping, or the source tables it describes, cannot be read.
+
+    Each problem names the mapping file and key, or the source file (a
+    workbook sheet as ``book.xlsx[sheet]``), the row, the user's column name
+    and the value; a missing column's message lists the columns found.
+    """
+
+    def __init__(self, problems: Sequence[InputProblem]):
+        super().__init__(problems)
+        if len(self.problems) > 1:
+            listing = "\n".join(f"  {p}" for p in self.problems)
+            self.args = (f"{len(self.problems)} problems in the import:\n{listing}",)
 
 
 class LimitExceeded(CasefileError):

@@ -11,7 +11,7 @@ import click
 from ..model import Casefile
 from ..outputs import atomic_write
 
-__all__ = ["casefile_argument", "emit", "format_options", "load", "pick_format"]
+__all__ = ["casefile_argument", "emit", "emit_xlsx", "format_options", "load", "pick_format", "xlsx_option"]
 
 
 def casefile_argument(func: Callable) -> Callable:
@@ -21,16 +21,52 @@ def casefile_argument(func: Callable) -> Callable:
 
 _OUT = "forensic.out"
 _CASEFILE = "forensic.casefile"
+_XLSX_KEY = "forensic.xlsx"
+
+
+def _remember_xlsx(ctx: click.Context, _param, value):
+    if value is not None:
+        ctx.meta[_XLSX_KEY] = value
+    return value
+
+
+def xlsx_option(func: Callable) -> Callable:
+    """``--xlsx FILE``: also write the command's tables to one formatted workbook.
+
+    The option is not passed to the command; the command hands its tables
+    to :func:`emit_xlsx`, which writes them only when the option was given.
+    """
+    return click.option(
+        "--xlsx", type=click.Path(path_type=Path, dir_okay=False), metavar="FILE", expose_value=False,
+        callback=_remember_xlsx, help="Also write the tables to FILE, a workbook with a sheet per table.",
+    )(func)
+
+
+def emit_xlsx(tables, casefile: Casefile | None = None) -> None:
+    """Write ``tables`` to the ``--xlsx`` workbook when one was asked for (atomically, never over an input)."""
+    ctx = click.get_current_context(silent=True)
+    out = None if ctx is None else ctx.meta.get(_XLSX_KEY)
+    if out is None:
+        return
+    casefile = casefile if casefile is not None else ctx.meta.get(_CASEFILE)
+    from ..export import to_xlsx
+
+    protected = []
+    if casefile is not None and casefile.root is not None:
+        protected = [casefile.root / rel for rel in casefile.inputs]
+    atomic_write(out, to_xlsx(list(tables)), protected)
+    click.echo(f"wrote {out}", err=True)
 
 
 def format_options(func: Callable) -> Callable:
-    """``--json``, ``--csv`` and ``--out``: machine-readable output, printed or written to a file.
+    """``--json``, ``--csv`` (machine-readable output instead of the text), ``--out FILE`` and ``--xlsx FILE``.
 
     ``--out FILE`` writes the JSON or CSV atomically to FILE instead of
     printing it (never over a file of the casefile); it needs ``--json`` or
     ``--csv``.
     """
 
+    @xlsx_option
     @click.option("--json", "as_json", is_flag=True, help="Print JSON (stable keys, documented in README.md and docs/).")
     @click.option("--csv", "as_csv", is_flag=True, help="Print CSV (one table).")
     @click.option("--out", type=click.Path(dir_okay=False, path_type=Path), metavar="FILE",

@@ -11,7 +11,7 @@ from ..quality import QualityCheck, assess_casefile, quality_json, quality_table
 from ..tables import Table, dumps_json, to_csv, to_text
 from ..validation import validate_casefile
 from ._base import main
-from ._common import casefile_argument, emit, format_options, load, pick_format
+from ._common import casefile_argument, emit, emit_xlsx, format_options, load, pick_format
 
 
 @main.command()
@@ -56,6 +56,7 @@ def check(casefile: Path, quality: bool, snapshot_ids: tuple[str, ...], as_json:
             for s in result.snapshots
         ),
     )
+    emit_xlsx([table], cf)
     if fmt == "json":
         emit(dumps_json({"valid": True, "snapshots": table.records(), "warnings": list(result.warnings)}))
         return
@@ -86,6 +87,7 @@ def _shown(c: QualityCheck) -> str:
 
 def _quality(cf: Casefile, snapshot_ids: tuple[str, ...], fmt: str) -> None:
     reports = assess_casefile(cf, snapshot_ids or None)
+    emit_xlsx([quality_table(reports)], cf)
     if fmt == "json":
         emit(dumps_json(quality_json(reports)))
         return

@@ -18,7 +18,7 @@ from ..attribution import (
 from ..tables import dumps_json, to_csv, to_text
 from ..windows import windows_table
 from ._base import main
-from ._common import casefile_argument, emit, format_options, load, pick_format
+from ._common import casefile_argument, emit, emit_xlsx, format_options, load, pick_format
 
 _TABLES = ("windows", "contributors", "ledger", "cumulative", "as-built")
 
@@ -47,10 +47,6 @@ def windows_command(casefile: Path, bounds: str | None, table: str, as_json: boo
     cf = load(casefile)
     ids = [s.strip() for s in bounds.split(",") if s.strip()] if bounds else None
     an = analyse_delay(cf, ids)
-    fmt = pick_format(as_json, as_csv)
-    if fmt == "json":
-        emit(dumps_json(delay_json(an)))
-        return
     tables = {
         "windows": lambda: windows_table(an.windows),
         "contributors": lambda: contributors_table(an),
@@ -58,6 +54,11 @@ def windows_command(casefile: Path, bounds: str | None, table: str, as_json: boo
         "cumulative": lambda: ledger_table(an, cumulative=True),
         "as-built": lambda: asbuilt_table(as_planned_vs_as_built(cf)),
     }
+    emit_xlsx((make() for make in tables.values()), cf)
+    fmt = pick_format(as_json, as_csv)
+    if fmt == "json":
+        emit(dumps_json(delay_json(an)))
+        return
     if fmt == "csv":
         emit(to_csv(tables[table]()))
         return
