@@ -114,3 +114,19 @@ def test_report_pdf_prints_markup_and_formulas_verbatim(tmp_path, monkeypatch):
     flat = " ".join(pdf.split())
     assert title in flat  # the tags print as text: no image read, no link made
     assert HOSTILE["M900"] in flat and "&lt;" not in flat and "&amp;" not in flat  # escaped once, not twice
+
+
+def test_schedule_xlsx_holds_hostile_names_as_inert_text(tmp_path):
+    """forensic schedule --xlsx: formula-like names are text cells with the apostrophe, never formulas."""
+    from openpyxl import load_workbook
+
+    root = _hostile_casefile(tmp_path)
+    out = tmp_path / "schedule.xlsx"
+    result = CliRunner().invoke(main, ["schedule", str(root), "--snapshot", "BL", "--xlsx", str(out)])
+    assert result.exit_code == 0, result.output
+    ws = load_workbook(out).worksheets[0]  # openpyxl (reference library)
+    header = [c.value for c in ws[1]]
+    names = {row[0].value: row[header.index("name")] for row in ws.iter_rows(min_row=2)}
+    for aid, name in HOSTILE.items():
+        cell = names[aid]
+        assert cell.data_type == "s" and cell.value == "'" + name  # a string, not a formula ("f")
