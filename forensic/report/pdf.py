@@ -173,13 +173,16 @@ def data_table(
     tiny: Sequence[int] = (),
     keep: bool = True,
     small_head: bool = False,
+    fit: Sequence[int] = (),
 ) -> Flowable:
     """A table whose header repeats on every page it breaks across.
 
     Cells are escaped text wrapped in paragraphs (so long names wrap instead
     of running off the page); columns listed in ``numeric`` are right-aligned,
-    those in ``tiny`` set smaller (digests). A short table is kept on one
-    page unless ``keep`` is false (the caller keeps it with its lead-in).
+    those in ``tiny`` set smaller (digests); those in ``fit`` (identifiers)
+    are made as wide as their widest cell, so an id never wraps, and the
+    others share the rest in proportion to ``widths``. A short table is kept
+    on one page unless ``keep`` is false (the caller keeps it with its lead-in).
     """
     st = styles()
     hs = ("tiny_head_right", "tiny_head") if small_head else ("cell_head_right", "cell_head")
@@ -192,11 +195,18 @@ def data_table(
             style = st["small_right"] if i in numeric else st["tiny"] if i in tiny else st["small"]
             cells.append(Paragraph(escape(text), style))
         body.append(cells)
-    if widths is None:
-        widths = [FRAME_WIDTH / len(columns)] * len(columns)
-    else:
-        scale = FRAME_WIDTH / sum(widths)
-        widths = [w * scale for w in widths]
+    widths = [1.0] * len(columns) if widths is None else list(widths)
+    fixed: dict[int, float] = {}
+    for i in fit:
+        cell = st["tiny"] if i in tiny else st["small"]
+        texts = ["" if row[i] is None else str(row[i]) for row in rows]
+        widest = max((pdfmetrics.stringWidth(t, cell.fontName, cell.fontSize) for t in texts), default=0.0)
+        head_word = max((pdfmetrics.stringWidth(w, st[hs[1]].fontName, st[hs[1]].fontSize)
+                         for w in str(columns[i]).split()), default=0.0)
+        fixed[i] = min(max(widest, head_word) + 7.0, FRAME_WIDTH / 3)
+    free = sum(w for i, w in enumerate(widths) if i not in fixed)
+    scale = (FRAME_WIDTH - sum(fixed.values())) / free if free else 0.0
+    widths = [fixed[i] if i in fixed else w * scale for i, w in enumerate(widths)]
     table = Table([head, *body], colWidths=list(widths), repeatRows=1, hAlign="LEFT")
     commands: list[tuple] = [
         ("BACKGROUND", (0, 0), (-1, 0), HEADER_FILL),

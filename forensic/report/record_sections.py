@@ -128,7 +128,7 @@ def changes(ctx: ReportContext, section: Section) -> list[Flowable]:
                      "yes" if ch.longest_path else "") for ch in picked[:limit]]
             if len(picked) > limit:
                 rows.append(("…", "", f"{len(picked) - limit} more changes (see forensic compare)", "", "", "", ""))
-            out += [data_table(cols, rows, (1.9, 1.3, 2.4, 1.1, 1, 1, 0.6), small_head=True), Spacer(1, 6)]
+            out += [data_table(cols, rows, (1.9, 1.3, 2.4, 1.1, 1, 1, 0.6), small_head=True, fit=(0, 1)), Spacer(1, 6)]
     return out
 
 
