@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from reportlab.platypus import Flowable, Spacer
+from reportlab.platypus import Flowable, KeepTogether, Spacer
 
 from .narrative import (
     ReportContext,
@@ -70,13 +70,13 @@ def _case_words(ctx: ReportContext, case: Any) -> str:
         return party_words(ctx.casefile, pid)
     if case.label == "all owner delays":
         owners = [p.name for p in ctx.casefile.parties.values() if p.role == "owner"]
-        return f"every owner delay together ({join_words(owners)})"
+        return f"every owner delay together, those of {join_words(owners)}"
     return case.label
 
 
 def _event_words(ctx: ReportContext, ids: Any) -> str:
     events = {e.id: e for e in ctx.casefile.events}
-    return join_words([f"{i} ({events[i].title})" if i in events else i for i in ids])
+    return join_words([f"{i}, {events[i].title}" if i in events else i for i in ids], "none")
 
 
 def but_for(ctx: ReportContext, section: Section) -> list[Flowable]:
@@ -107,10 +107,11 @@ def but_for(ctx: ReportContext, section: Section) -> list[Flowable]:
         return out + paragraphs(text_or_none(ctx, section, "none"))
     for c in rep.cases:
         fields = dict(
-            case=_case_words(ctx, c), events=_event_words(ctx, c.removed), count=len(c.removed),
+            case=_case_words(ctx, c), events=join_words(list(c.removed)), event_titles=_event_words(ctx, c.removed),
+            count=len(c.removed),
             as_built_completion=long_date(c.as_built_completion), but_for_completion=long_date(c.but_for_completion),
             days=abs(c.difference), days_unit=unit_words(_unit_key(c.unit), c.difference),
-            not_represented=_event_words(ctx, c.not_represented), source=b.source,
+            not_represented=join_words(list(c.not_represented)), source=b.source,
         )
         key = "earlier" if c.difference > 0 else "later" if c.difference < 0 else "unchanged"
         text = section.texts.get(key)
@@ -128,7 +129,7 @@ def but_for(ctx: ReportContext, section: Section) -> list[Flowable]:
                 for c in rep.cases]
         out += [Spacer(1, 4), data_table(cols, body, (2.6, 1.8, 1.2, 1.3, 1.3, 1.1), numeric=(5,), small_head=True)]
     if section.options["notes"]:
-        out += paragraphs(text_or_none(ctx, section, "notes_intro"))
+        lead = paragraphs(text_or_none(ctx, section, "notes_intro"))
         how = {"fragnet": _col(section, "fragnet", "its fragnet's activities, deleted"),
                "hold-up": _col(section, "hold_up", "days held up, taken off the work"),
                "none": _col(section, "none", "not represented")}
@@ -139,7 +140,7 @@ def but_for(ctx: ReportContext, section: Section) -> list[Flowable]:
             days = dict(e.days)
             acts = ", ".join(f"{a} ({days[a]})" if a in days else a for a in e.activities) or "—"
             body.append((e.event, party_words(cf, e.party), how.get(e.how, e.how), acts))
-        out += [Spacer(1, 4), data_table(cols, body, (0.7, 2.2, 2, 3.6), small_head=True)]
+        out += [Spacer(1, 4), KeepTogether([*lead, data_table(cols, body, (0.7, 2.2, 2, 3.6), small_head=True, keep=False)])]
         if b.relinked:
             cols = (_col(section, "pred", "Predecessor"), _col(section, "succ", "Successor"),
                     _col(section, "was", "Was"), _col(section, "now", "Now"), _col(section, "lag", "Lag (wd)"))
@@ -200,21 +201,18 @@ def as_built(ctx: ReportContext, section: Section) -> list[Flowable]:
     out += paragraphs(text_or_none(ctx, section, "subset", fields))
     path = set(latest.longest_path)
     u = "wd" if unit == "working-days" else "cd"
-    cols = (_col(section, "activity", "Activity"), _col(section, "name", "Name"), _col(section, "status", "Status"),
+    cols = (_col(section, "activity", "Activity"), _col(section, "name", "Name"),
             _col(section, "planned_start", "Planned start"), _col(section, "planned_finish", "Planned finish"),
-            _col(section, "actual_start", "Actual start"), _col(section, "actual_finish", "Actual / forecast finish"),
-            _col(section, "start_variance", f"Start var. ({u})"), _col(section, "finish_variance", f"Finish var. ({u})"),
-            _col(section, "duration_variance", "Dur. var. (wd)"))
+            _col(section, "actual_start", "Actual start"), _col(section, "actual_finish", "Actual finish"),
+            _col(section, "start_variance", f"Start var. ({u})"), _col(section, "finish_variance", f"Finish var. ({u})"))
     body = []
     for r in shown:
         finish = short_date(r.actual_finish) + (" (f)" if r.forecast else "")
         started = short_date(r.actual_start) + (" (f)" if r.actual_start and r.status == "not-started" else "")
-        body.append((r.id + (" *" if r.id in path else ""), r.name, r.status.replace("-", " "),
-                     short_date(r.planned_start), short_date(r.planned_finish), started, finish,
-                     _signed(r.start_variance), _signed(r.finish_variance), _signed(r.duration_variance)))
+        body.append((r.id + (" *" if r.id in path else ""), r.name, short_date(r.planned_start),
+                     short_date(r.planned_finish), started, finish, _signed(r.start_variance), _signed(r.finish_variance)))
     if body:
-        out += [data_table(cols, body, (1.1, 2.6, 0.9, 1, 1, 1.15, 1.25, 0.75, 0.75, 0.7),
-                           numeric=(7, 8, 9), small_head=True, fit=(0,))]
+        out += [data_table(cols, body, (1, 3, 1, 1, 1, 1, 0.9, 0.9), numeric=(6, 7), small_head=True, fit=(0, 2, 3, 4, 5))]
     out += paragraphs(text_or_none(ctx, section, "legend", fields), "caption")
     return out
 

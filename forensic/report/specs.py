@@ -77,7 +77,7 @@ _RECOVERY = (
 
 _AS_BUILT = (*COMMON, "source", "data_date", "completion", "pins", "pin_list", "relinked", "relinked_list", "warnings")
 _BUTFOR = (
-    *COMMON, "case", "events", "count", "as_built_completion", "but_for_completion", "days", "days_unit",
+    *COMMON, "case", "events", "event_titles", "count", "as_built_completion", "but_for_completion", "days", "days_unit",
     "not_represented", "source",
 )
 _ASPLANNED = (
@@ -249,7 +249,11 @@ SPECS: dict[str, SectionSpec] = {
                 "passed_all": (*COMMON, "snapshot", "data_date", "passed", "failed", "assessed", "failed_checks"),
                 "failed_some": (*COMMON, "snapshot", "data_date", "passed", "failed", "assessed", "failed_checks"),
             },
-            optional_texts={"intro": COMMON},
+            optional_texts={
+                "intro": COMMON,
+                "same": (*COMMON, "snapshot", "data_date", "passed", "failed", "assessed", "previous"),
+                "changed": (*COMMON, "snapshot", "data_date", "passed", "failed", "assessed", "previous", "changes"),
+            },
             options={
                 "scope": OptionSpec(str, "latest", ("all", "latest", "last-two")),
                 "details": OptionSpec(bool, False),
