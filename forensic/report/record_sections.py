@@ -98,7 +98,7 @@ def quality(ctx: ReportContext, section: Section) -> list[Flowable]:
             _col(section, "passed", "Passed"), _col(section, "failed", "Failed"),
             _col(section, "not_assessed", "Not assessed"), _col(section, "failed_checks", "Checks failed"))
     body = []
-    for q in reports:
+    for q in shown:  # the scorecard follows the scope, like the sentences
         t = _tally(q)
         body.append((q.snapshot_id, short_date(q.data_date), t["passed"], t["failed"],
                      sum(1 for c in q.checks if c.passed is None), ", ".join(short_title(c.title) for c in q.failed) or "none"))
@@ -112,8 +112,8 @@ def quality(ctx: ReportContext, section: Section) -> list[Flowable]:
         fields.update(snapshot=q.snapshot_id, data_date=long_date(q.data_date), **_tally(q),
                       failed_checks=join_words([c.title for c in q.failed]))
         i = index[q.snapshot_id]
-        if summarise and n > 0 and i > 0:
-            # After the first snapshot shown, say only what changed from the one before.
+        if summarise and i > 0 and (n > 0 or scope == "latest"):
+            # Say only what changed from the snapshot before (the scorecard lists every failure).
             prev = reports[i - 1]
             words = _change_words(prev, q)
             fields.update(previous=prev.snapshot_id, changes=words or "")
