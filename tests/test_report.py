@@ -330,3 +330,120 @@ def test_demo_report_prints_the_quality_scorecard(demo, demo_text):
             assert f"{q.snapshot_id} (data date {long_date(q.data_date)}) passed {passed} of the {assessed} checks" in demo_text
         else:
             assert f"{q.snapshot_id} (data date {long_date(q.data_date)}) passed all {assessed} checks" in demo_text
+
+
+# --- but-for, as-planned versus as-built, paths per window, summary parts, quality changes ---------
+
+
+def test_demo_report_quotes_each_but_for_case_as_computed(demo, demo_text):
+    """Each but-for case's completion and difference are those of butfor.but_for (AACE RP 29R-03, MIP 3.8)."""
+    from forensic.butfor import but_for
+
+    rep = but_for(demo)
+    assert "But-for analysis (collapsed as-built)" in demo_text
+    assert f"completes on {long_date(rep.as_built.completion)}, as recorded" in demo_text
+    assert f"no link explains when they started ({len(rep.as_built.pins)})" in demo_text
+    for c in rep.cases:
+        assert f"(events {', '.join(c.removed[:-1])}" in demo_text or f"(events {c.removed[0]})" in demo_text
+        if c.difference > 0:
+            assert (f"would have completed on {long_date(c.but_for_completion)} rather than "
+                    f"{long_date(c.as_built_completion)}: {c.difference} calendar days earlier") in demo_text
+        else:
+            assert f"would still have completed on {long_date(c.as_built_completion)}" in demo_text
+        assert f"{short_date(c.but_for_completion)} {c.difference:+d}" in demo_text or c.difference == 0
+    # The demo's story (casefiles/riverside/story.toml, [but_for]): the employer 9 days, the contractor 25.
+    assert {c.label: c.difference for c in rep.cases}["party CON"] == 25
+
+
+def test_demo_report_as_built_summary_counts_the_comparison_rows(demo, demo_text):
+    """The as-planned versus as-built sentence tallies asbuilt.as_planned_vs_as_built's rows (AACE RP 29R-03, 3.1/3.2)."""
+    from forensic.asbuilt import as_planned_vs_as_built
+
+    rows = as_planned_vs_as_built(demo)
+    compared = [r for r in rows if r.finish_variance is not None]
+    late = sum(1 for r in compared if r.finish_variance > 0)
+    finished = sum(1 for r in rows if r.status == "finished")
+    worst = max(compared, key=lambda r: r.finish_variance)
+    comp = next(r for r in rows if r.id == "M900")
+    assert "Appendix: as-planned versus as-built" in demo_text
+    assert f"Of the {len(compared)} activities that are both in the baseline and in U10" in demo_text
+    assert f"{finished} are finished" in demo_text
+    assert f"{late} finish (or are forecast to finish) later than planned" in demo_text
+    assert f"{worst.name} ({worst.id}), {worst.finish_variance} calendar days late" in demo_text
+    assert (f"was planned for {long_date(comp.planned_finish)} and is forecast for "
+            f"{long_date(comp.actual_finish)}, {comp.finish_variance} calendar days later") in demo_text
+
+
+def test_as_built_subset_takes_the_longest_path_then_the_largest_finish_variances():
+    """The report's subset: the final path in path order, then the latest finishes, late only (our rule, docs/report.md)."""
+    from forensic.asbuilt import AsBuiltRow
+    from forensic.report.asbuilt_sections import asbuilt_subset
+
+    def row(aid, fv):
+        return AsBuiltRow(aid, aid, "finished", None, None, None, None, None, None, False, 0, fv, 0)
+
+    rows = (row("A", 1), row("B", 9), row("C", 4), row("D", -2), row("E", None), row("F", 7))
+    assert [r.id for r in asbuilt_subset(rows, ("C", "A", "E"), 4)] == ["C", "A", "B", "F"]
+    assert [r.id for r in asbuilt_subset(rows, ("C", "A"), 10)] == ["C", "A", "B", "F"]  # D is early, E has no variance
+    assert [r.id for r in asbuilt_subset(rows, ("C", "A", "B"), 2)] == ["C", "A"]
+
+
+def test_demo_windows_set_the_critical_path_before_and_after_side_by_side(demo, demo_text):
+    """Each window's path table is headed by its two updates and starts with windows' own critical_path_before/after."""
+    from forensic.attribution import analyse_delay
+
+    for w in analyse_delay(demo).windows.windows:
+        assert f"Critical path at {w.from_id} Name Critical path at {w.to_id} Name" in demo_text
+        first_before, first_after = w.critical_path_before[0], w.critical_path_after[0]
+        mark_b = "" if first_before in w.critical_path_after else " −"
+        mark_a = "" if first_after in w.critical_path_before else " +"
+        name_a = demo.snapshot(w.to_id).activities[first_after].name
+        assert f"{first_before}{mark_b} " in demo_text and f"{first_after}{mark_a} {name_a}" in demo_text
+
+
+def test_demo_summary_parts_add_up_to_the_slip(demo, demo_text):
+    """The summary's categories, less the gains, add up to the ledger's total slip (attribution.Ledger)."""
+    import re
+
+    from forensic.attribution import analyse_delay
+
+    led = analyse_delay(demo).ledger
+    m = re.search(r"Of the (\d+) calendar days of slip, the windows analysis attributes (\d+) to .*? compensable, (\d+) "
+                  r"to .*? not compensable and (\d+) to .*? not excusable; (\d+) are concurrent, (\d+) have no party "
+                  r"and (\d+) come from revisions that no recorded event explains\. Less (\d+) gained back", demo_text)
+    assert m, "summary sentence"
+    total, *parts, gains = (int(g) for g in m.groups())
+    assert total == led.total_slip == 43  # the demo's story: 43 days (casefiles/riverside/story.toml)
+    assert gains == -led.total.gains == 2
+    assert sum(parts) - gains == total
+
+
+def test_demo_quality_sentences_say_what_changed_since_the_snapshot_before(demo, demo_text):
+    """After the baseline, each snapshot's sentence names only the checks that changed (from assess_casefile's results)."""
+    from forensic.quality import assess_casefile
+    from forensic.report.record_sections import short_title
+
+    reports = assess_casefile(demo)
+    for prev, q in zip(reports, reports[1:], strict=False):
+        was = {c.key for c in prev.checks if c.passed is False}
+        now = {c.key for c in q.checks if c.passed is False}
+        head = f"{q.snapshot_id} (data date {long_date(q.data_date)}) passed"
+        at = demo_text.index(head)
+        sentence = demo_text[at: demo_text.index(".", demo_text.index(" checks ", at) + 20) + 1]
+        newly = [short_title(c.title) for c in q.checks if c.key in now - was]
+        if now == was and all((c.passed is None) == (d.passed is None) for c, d in zip(prev.checks, q.checks, strict=True)):
+            assert f"with the same results as {prev.snapshot_id}" in sentence
+        for title in newly:
+            assert title in sentence
+    assert demo_text.count("Lags: links with a positive lag") <= 2  # the full list once, not once per snapshot
+
+
+def test_id_columns_are_as_wide_as_their_widest_id():
+    """An identifier column sized with fit never wraps (widths measured with reportlab's stringWidth)."""
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    from forensic.report.pdf import data_table, styles
+
+    t = data_table(("Activity", "Name"), [("HALL-ENV-CLD-N-EXTRA", "x" * 200)], (1, 5), fit=(0,), keep=False)
+    st = styles()["small"]
+    assert t._colWidths[0] >= stringWidth("HALL-ENV-CLD-N-EXTRA", st.fontName, st.fontSize) + 6

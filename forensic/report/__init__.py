@@ -16,7 +16,9 @@ from __future__ import annotations
 from pathlib import Path
 
 from .. import __version__
+from ..asbuilt import as_planned_vs_as_built
 from ..attribution import analyse_delay
+from ..butfor import but_for
 from ..compare import compare_snapshots
 from ..impact import time_impacts
 from ..model import Casefile
@@ -90,6 +92,8 @@ def build_report(
     if "changes" in kinds and len(casefile.snapshots) > 1:
         snaps = casefile.snapshots
         comparisons = tuple(compare_snapshots(casefile, a.id, b.id) for a, b in zip(snaps, snaps[1:], strict=False))
+    butfor = but_for(casefile) if "but-for" in kinds and len(casefile.snapshots) > 1 else None
+    asbuilt = as_planned_vs_as_built(casefile) if "as-built" in kinds and len(casefile.snapshots) > 1 else None
     if "acceleration" in kinds and recover_days is not None:
         recovery = recover(casefile, casefile.snapshots[-1].id, days=recover_days)
     left_out = set()
@@ -99,10 +103,14 @@ def build_report(
         left_out.add("acceleration")
     if comparisons is None:
         left_out.add("changes")
+    if butfor is None:
+        left_out.add("but-for")
+    if asbuilt is None:
+        left_out.add("as-built")
     ctx = ReportContext(
         casefile=casefile, template=tpl, trend=trend, command=command, font=family.source,
         delay=delay, impacts=impacts, recovery=recovery, recover_days=recover_days,
-        quality=quality, comparisons=comparisons, left_out=frozenset(left_out),
+        quality=quality, comparisons=comparisons, butfor=butfor, asbuilt=asbuilt, left_out=frozenset(left_out),
     )
     story = []
     number = 0

@@ -29,6 +29,7 @@ from .narrative import (
     text_or_none,
     unit_words,
 )
+from .paths import path_chart, paths_table
 from .pdf import FRAME_WIDTH, Heading, data_table, paragraphs, styles
 from .templates import Section, fill
 
@@ -178,6 +179,17 @@ def windows(ctx: ReportContext, section: Section) -> list[Flowable]:
             more += _paras(text_or_none(ctx, section, "concurrent", f))
         out.append(KeepTogether(block + more[:1]))
         out += more[1:]
+        if section.options["paths"]:
+            names_b = {a: x.name for a, x in run.earlier.activities.items()}
+            names_a = {a: x.name for a, x in run.later.activities.items()}
+            heads = (_col(section, "path_before", f"Critical path at {w.from_id}"),
+                     _col(section, "path_after", f"Critical path at {w.to_id}"))
+            out += [paths_table(section, w.critical_path_before, w.critical_path_after, names_b, names_a, heads,
+                                max(2, int(section.options["path_rows"]))), Spacer(1, 6)]
+        if section.options["path_chart"]:
+            out.append(path_chart(section, w.critical_path_after, run.after, run.later, w.end,
+                                  max(1, int(section.options["path_rows"]))))
+            out += _paras(text_or_none(ctx, section, "path_caption", f), "caption")
         if section.options["contributors"] and att.contributors:
             events = {e.id: e for e in ctx.casefile.events}
             cols = (
@@ -190,7 +202,7 @@ def windows(ctx: ReportContext, section: Section) -> list[Flowable]:
                  party_words(ctx.casefile, c.party), CATEGORY_WORDS.get(c.category, c.category))
                 for c in att.contributors
             ]
-            out += [data_table(cols, body, (1.3, 2.2, 0.8, 2.4, 1.8, 1.4), numeric=(2,)), Spacer(1, 6)]
+            out += [data_table(cols, body, (1.3, 2.2, 0.8, 2.4, 1.8, 1.4), numeric=(2,), fit=(0,)), Spacer(1, 6)]
     return out
 
 
@@ -231,7 +243,7 @@ def ledger(ctx: ReportContext, section: Section) -> list[Flowable]:
         total_slip=abs(led.total_slip), total_unit=unit_words(unit, led.total_slip),
         baseline_completion=long_date(led.baseline_completion), last_completion=long_date(led.last_completion),
         compensable=t.excusable_compensable, noncompensable=t.excusable_noncompensable, nonexcusable=t.non_excusable,
-        concurrent=t.concurrent, gains=t.gains, unassigned=t.unassigned, unattributed=t.unattributed_revision,
+        concurrent=t.concurrent, gains=abs(t.gains), unassigned=t.unassigned, unattributed=t.unattributed_revision,
         unexplained=t.unexplained,
     )
     out = _paras(text_or_none(ctx, section, "intro"))

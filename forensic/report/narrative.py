@@ -58,6 +58,8 @@ class ReportContext:
     recover_days: int | None = None
     quality: Any = None  # tuple of forensic.quality.QualityReport, one per snapshot
     comparisons: Any = None  # tuple of forensic.compare.Comparison, one per consecutive pair
+    butfor: Any = None  # forensic.butfor.ButForReport
+    asbuilt: Any = None  # tuple of forensic.asbuilt.AsBuiltRow
     left_out: frozenset[str] = frozenset()  # section kinds with nothing to show for this casefile
 
 

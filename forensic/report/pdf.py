@@ -65,6 +65,7 @@ INK = colors.HexColor("#1d2630")
 RULE = colors.HexColor("#8c96a0")
 HEADER_FILL = colors.HexColor("#dfe4e8")
 ZEBRA = colors.HexColor("#f3f5f7")
+MARK = colors.HexColor("#c4ccd4")
 
 
 @dataclass(frozen=True, slots=True)
@@ -173,30 +174,44 @@ def data_table(
     tiny: Sequence[int] = (),
     keep: bool = True,
     small_head: bool = False,
+    fit: Sequence[int] = (),
+    marked: Sequence[tuple[int, int]] = (),
 ) -> Flowable:
     """A table whose header repeats on every page it breaks across.
 
     Cells are escaped text wrapped in paragraphs (so long names wrap instead
     of running off the page); columns listed in ``numeric`` are right-aligned,
-    those in ``tiny`` set smaller (digests). A short table is kept on one
-    page unless ``keep`` is false (the caller keeps it with its lead-in).
+    those in ``tiny`` set smaller (digests); those in ``fit`` (identifiers)
+    are made as wide as their widest cell, so an id never wraps, and the
+    others share the rest in proportion to ``widths``. A short table is kept
+    on one page unless ``keep`` is false (the caller keeps it with its lead-in).
+    Cells in ``marked`` (body row, column) are set bold on a darker fill, which
+    survives greyscale print (a failed check).
     """
     st = styles()
     hs = ("tiny_head_right", "tiny_head") if small_head else ("cell_head_right", "cell_head")
     head = [Paragraph(escape(str(c)), st[hs[0]] if i in numeric else st[hs[1]]) for i, c in enumerate(columns)]
     body = []
-    for row in rows:
+    marks = set(marked)
+    for r, row in enumerate(rows):
         cells = []
         for i, v in enumerate(row):
-            text = "" if v is None else str(v)
+            text = escape("" if v is None else str(v))
             style = st["small_right"] if i in numeric else st["tiny"] if i in tiny else st["small"]
-            cells.append(Paragraph(escape(text), style))
+            cells.append(Paragraph(f"<b>{text}</b>" if (r, i) in marks else text, style))
         body.append(cells)
-    if widths is None:
-        widths = [FRAME_WIDTH / len(columns)] * len(columns)
-    else:
-        scale = FRAME_WIDTH / sum(widths)
-        widths = [w * scale for w in widths]
+    widths = [1.0] * len(columns) if widths is None else list(widths)
+    fixed: dict[int, float] = {}
+    for i in fit:
+        cell = st["tiny"] if i in tiny else st["small"]
+        texts = ["" if row[i] is None else str(row[i]) for row in rows]
+        widest = max((pdfmetrics.stringWidth(t, cell.fontName, cell.fontSize) for t in texts), default=0.0)
+        head_word = max((pdfmetrics.stringWidth(w, st[hs[1]].fontName, st[hs[1]].fontSize)
+                         for w in str(columns[i]).split()), default=0.0)
+        fixed[i] = min(max(widest, head_word) + 7.0, FRAME_WIDTH / 3)
+    free = sum(w for i, w in enumerate(widths) if i not in fixed)
+    scale = (FRAME_WIDTH - sum(fixed.values())) / free if free else 0.0
+    widths = [fixed[i] if i in fixed else w * scale for i, w in enumerate(widths)]
     table = Table([head, *body], colWidths=list(widths), repeatRows=1, hAlign="LEFT")
     commands: list[tuple] = [
         ("BACKGROUND", (0, 0), (-1, 0), HEADER_FILL),
@@ -210,6 +225,8 @@ def data_table(
     ]
     for r in range(2, len(body) + 1, 2):
         commands.append(("BACKGROUND", (0, r), (-1, r), ZEBRA))
+    for r, i in sorted(marks):
+        commands.append(("BACKGROUND", (i, r + 1), (i, r + 1), MARK))
     table.setStyle(TableStyle(commands))
     return KeepTogether([table]) if keep and len(body) <= 12 else table
 

@@ -24,7 +24,7 @@ from .narrative import (
 from .pdf import Heading, data_table, paragraphs, styles
 from .templates import Section, fill
 
-__all__ = ["RECORD_RENDERERS"]
+__all__ = ["RECORD_RENDERERS", "short_title"]
 
 
 def _where(ctx: ReportContext, section: Section, key: str) -> str:
@@ -49,6 +49,46 @@ def _limit(c: Any) -> str:
     return f"{c.comparison} {lim}"
 
 
+def short_title(title: str) -> str:
+    """A check's title for a list: the words before its colon, without a wordy parenthesis.
+
+    ``"Lags: links with a positive lag"`` reads ``"Lags"``; ``"Links to or from
+    summary-like milestones (2+ predecessors and 2+ successors)"`` reads
+    ``"Links to or from summary-like milestones"``; an abbreviation in
+    brackets (``"(CPLI)"``) is kept.
+    """
+    head = title.split(":", 1)[0].strip()
+    if head.endswith(")") and "(" in head:
+        inner = head[head.rindex("(") + 1:-1]
+        if " " in inner:
+            head = head[: head.rindex("(")].rstrip()
+    return head
+
+
+def _tally(q: Any) -> dict[str, Any]:
+    return {
+        "passed": sum(1 for c in q.checks if c.passed is True),
+        "failed": len(q.failed),
+        "assessed": sum(1 for c in q.checks if c.passed is not None),
+    }
+
+
+def _change_words(prev: Any, q: Any) -> str | None:
+    """What changed in the checks' results from ``prev`` to ``q`` (``None``: nothing)."""
+    before = {c.key: c.passed for c in prev.checks}
+    newly = [short_title(c.title) for c in q.checks if c.passed is False and before.get(c.key) is not False]
+    fixed = [short_title(c.title) for c in q.checks if c.passed is True and before.get(c.key) is False]
+    lost = [short_title(c.title) for c in q.checks if c.passed is None and before.get(c.key) is not None]
+    parts = []
+    if newly:
+        parts.append(f"newly fails {join_words(newly)}")
+    if fixed:
+        parts.append(f"passes {join_words(fixed)} again")
+    if lost:
+        parts.append(f"can no longer assess {join_words(lost)}")
+    return "; ".join(parts) if parts else None
+
+
 def quality(ctx: ReportContext, section: Section) -> list[Flowable]:
     reports = ctx.quality
     scope = section.options["scope"]
@@ -58,36 +98,69 @@ def quality(ctx: ReportContext, section: Section) -> list[Flowable]:
             _col(section, "passed", "Passed"), _col(section, "failed", "Failed"),
             _col(section, "not_assessed", "Not assessed"), _col(section, "failed_checks", "Checks failed"))
     body = []
-    for q in reports:
-        passed = sum(1 for c in q.checks if c.passed is True)
-        failed = q.failed
-        body.append((q.snapshot_id, short_date(q.data_date), passed, len(failed),
-                     sum(1 for c in q.checks if c.passed is None), ", ".join(c.title for c in failed) or "none"))
+    for q in shown:  # the scorecard follows the scope, like the sentences
+        t = _tally(q)
+        body.append((q.snapshot_id, short_date(q.data_date), t["passed"], t["failed"],
+                     sum(1 for c in q.checks if c.passed is None), ", ".join(short_title(c.title) for c in q.failed) or "none"))
     if section.options["scorecard"]:
-        out += [data_table(cols, body, (1, 1.2, 0.8, 0.8, 1, 5), numeric=(2, 3, 4), small_head=True), Spacer(1, 6)]
-    for q in shown:
-        failed = q.failed
+        out += [data_table(cols, body, (1, 1.2, 0.8, 0.8, 1, 5), numeric=(2, 3, 4), small_head=True, fit=(0, 1)),
+                Spacer(1, 6)]
+    index = {q.snapshot_id: i for i, q in enumerate(reports)}
+    summarise = "same" in section.texts and "changed" in section.texts
+    for n, q in enumerate(shown):
         fields = common_fields(ctx)
-        fields.update(
-            snapshot=q.snapshot_id, data_date=long_date(q.data_date),
-            passed=sum(1 for c in q.checks if c.passed is True), failed=len(failed),
-            assessed=sum(1 for c in q.checks if c.passed is not None),
-            failed_checks=join_words([c.title for c in failed]),
-        )
-        key = "failed_some" if failed else "passed_all"
+        fields.update(snapshot=q.snapshot_id, data_date=long_date(q.data_date), **_tally(q),
+                      failed_checks=join_words([c.title for c in q.failed]))
+        i = index[q.snapshot_id]
+        if summarise and i > 0 and (n > 0 or scope == "latest"):
+            # Say only what changed from the snapshot before (the scorecard lists every failure).
+            prev = reports[i - 1]
+            words = _change_words(prev, q)
+            fields.update(previous=prev.snapshot_id, changes=words or "")
+            key = "changed" if words else "same"
+        else:
+            key = "failed_some" if q.failed else "passed_all"
         out += paragraphs(fill(section.texts[key], fields, _where(ctx, section, key)))
     if section.options["details"]:
-        st = styles()
-        for q in shown:
-            cols = (_col(section, "number", "No."), _col(section, "check", "Check"), _col(section, "value", "Value"),
-                    _col(section, "limit", "Limit"), _col(section, "status", "Result"), _col(section, "source", "Source"))
-            rows = [("—" if c.number is None else c.number, c.title, _value(c), _limit(c), c.status, c.source) for c in q.checks]
-            head = Heading(escape(f"Quality details: {q.snapshot_id}, data date {long_date(q.data_date)}"), st["h2"],
-                           f"quality-{section.number}-{q.snapshot_id}", 1)
-            out += [KeepTogether([head, data_table(rows=rows[:8], columns=cols, widths=(0.5, 3, 1, 1, 1, 2), keep=False)])]
-            if len(rows) > 8:
-                out.append(data_table(cols, rows[8:], (0.5, 3, 1, 1, 1, 2)))
-            out.append(Spacer(1, 6))
+        out += _details(ctx, section, shown)
+    return out
+
+
+_MATRIX_COLUMNS = 8  # snapshots per details table, so the cells stay readable
+
+
+def _details(ctx: ReportContext, section: Section, shown: Any) -> list[Flowable]:
+    """Every check's measure in every snapshot shown: one row per check, one column per snapshot."""
+    st = styles()
+    out: list[Flowable] = []
+    first = shown[0]
+    sources: dict[str, list[str]] = {}
+    for c in first.checks:
+        sources.setdefault(c.source, []).append(str(c.number) if c.number is not None else short_title(c.title))
+    tables = -(-len(shown) // _MATRIX_COLUMNS)
+    size = -(-len(shown) // tables)  # as even as the split can be: 11 snapshots as 6 and 5
+    for k in range(0, len(shown), size):
+        part = shown[k:k + size]
+        cols = [_col(section, "number", "No."), _col(section, "check", "Check"), _col(section, "limit", "Limit"),
+                *(q.snapshot_id for q in part)]
+        rows, marked = [], []
+        for r, c in enumerate(first.checks):
+            cells = ["—" if c.number is None else c.number, short_title(c.title), _limit(c).replace(" ", "\u00a0")]
+            for j, q in enumerate(part):
+                x = next((y for y in q.checks if y.key == c.key), None)
+                cells.append("—" if x is None else _value(x) if x.passed is not None else "n/a")
+                if x is not None and x.passed is False:
+                    marked.append((r, 3 + j))
+            rows.append(tuple(cells))
+        span = f"{part[0].snapshot_id} to {part[-1].snapshot_id}" if len(part) > 1 else part[0].snapshot_id
+        head = Heading(escape(f"{_col(section, 'details_heading', 'Quality measures')}: {span}"), st["h2"],
+                       f"quality-{section.number}-{part[0].snapshot_id}", 1)
+        table = data_table(cols, rows, (0.4, 2.4, 0.9, *([0.72] * len(part))), numeric=tuple(range(3, len(cols))),
+                           small_head=True, marked=marked, keep=False)
+        out += [KeepTogether([head, table]), Spacer(1, 4)]
+    legend = _col(section, "details_legend", "Shaded bold: the check failed; n/a: not assessed in that snapshot.")
+    src = "; ".join(f"{', '.join(ids) if len(ids) < 4 else f'{ids[0]} to {ids[-1]}'}: {source}" for source, ids in sources.items())
+    out += paragraphs(escape(f"{legend} Sources: {src}."), "caption")
     return out
 
 
@@ -128,7 +201,7 @@ def changes(ctx: ReportContext, section: Section) -> list[Flowable]:
                      "yes" if ch.longest_path else "") for ch in picked[:limit]]
             if len(picked) > limit:
                 rows.append(("…", "", f"{len(picked) - limit} more changes (see forensic compare)", "", "", "", ""))
-            out += [data_table(cols, rows, (1.9, 1.3, 2.4, 1.1, 1, 1, 0.6), small_head=True), Spacer(1, 6)]
+            out += [data_table(cols, rows, (1.9, 1.3, 2.4, 1.1, 1, 1, 0.6), small_head=True, fit=(0, 1)), Spacer(1, 6)]
     return out
 
 

@@ -9,13 +9,13 @@ sentences, charts and tables. Numbers are read from the result objects
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
-from datetime import timedelta
 from xml.sax.saxutils import escape
 
 from reportlab.platypus import CondPageBreak, Flowable, KeepTogether, PageBreak, Paragraph, Spacer
 
 from ..trend import SnapshotTrend
 from . import charts
+from .asbuilt_sections import ASBUILT_RENDERERS
 from .delay_sections import DELAY_RENDERERS, parties_words, party_totals
 from .narrative import (
     ReportContext,
@@ -29,6 +29,7 @@ from .narrative import (
     text_or_none,
     unit_words,
 )
+from .paths import path_chart
 from .pdf import FRAME_WIDTH, Heading, boxed, data_table, paragraphs, styles
 from .record_sections import RECORD_RENDERERS
 from .specs import SPECS
@@ -161,6 +162,8 @@ def summary(ctx: ReportContext, section: Section) -> list[Flowable]:
             "nonexcusable": led.total.non_excusable,
             "concurrent": led.total.concurrent,
             "unattributed": led.total.unattributed_revision,
+            "gains": abs(led.total.gains),
+            "unassigned": led.total.unassigned,
             "total_slip": abs(led.total_slip),
             "total_unit": unit_words(ctx.delay.unit, led.total_slip),
         }))
@@ -391,28 +394,7 @@ def longest_path(ctx: ReportContext, section: Section) -> list[Flowable]:
             Heading(escape(f"{r.snapshot_id}: data date {long_date(r.data_date)}"), st["h2"], f"path-{section.number}-{r.snapshot_id}", 1),
         ]
         block += _paras(fill(section.texts["sentence"], fields, _where(ctx, section, "sentence")))
-        shown = list(r.longest_path)
-        if len(shown) > limit:
-            # Keep the remaining work, which is what the reader acts on; drop the oldest finished bars.
-            done = [a for a in shown if res.activities[a].status == "finished"]
-            shown = (done[len(done) - max(0, limit - len(remaining)):] if limit > len(remaining) else []) + remaining[:limit]
-        bars = []
-        for aid in shown:
-            x = res.activities[aid]
-            act = snap.activities[aid]
-            if x.status == "finished":
-                until = x.early_finish + timedelta(days=1)
-            elif x.status == "in-progress":
-                until = r.data_date
-            else:
-                until = None
-            kind = None if not act.is_milestone else "start" if act.kind == "start-milestone" else "finish"
-            bars.append(charts.Bar(f"{aid} {act.name}", x.early_start, x.early_finish, until, kind))
-        chart = charts.bars_on_time_scale(
-            bars, width=FRAME_WIDTH, data_date=r.data_date,
-            done_label=_col(section, "done", "done"), to_do_label=_col(section, "to_do", "to do"),
-            milestone_label=_col(section, "milestone", "milestone"), data_date_label=_col(section, "data_date", "data date"),
-        )
+        chart = path_chart(section, r.longest_path, res, snap, r.data_date, limit)
         block.append(chart)
         caption = text_or_none(ctx, section, "caption", {"snapshot": r.snapshot_id, "data_date": long_date(r.data_date)})
         block += _paras(caption, "caption")
@@ -441,6 +423,7 @@ RENDERERS: dict[str, Renderer] = {
     "inputs": inputs,
     **DELAY_RENDERERS,
     **RECORD_RENDERERS,
+    **ASBUILT_RENDERERS,
 }
 
 

@@ -75,6 +75,17 @@ _RECOVERY = (
     "recovered", "recovered_unit", "cost", "count", "activities", "earliest_completion", "max_working_days",
 )
 
+_AS_BUILT = (*COMMON, "source", "data_date", "completion", "pins", "pin_list", "relinked", "relinked_list", "warnings")
+_BUTFOR = (
+    *COMMON, "case", "events", "event_titles", "count", "as_built_completion", "but_for_completion", "days", "days_unit",
+    "not_represented", "source",
+)
+_ASPLANNED = (
+    *COMMON, "snapshot", "data_date", "compared", "finished", "in_progress", "not_started", "added", "deleted",
+    "late", "early", "on_time", "worst", "worst_name", "worst_days", "completion_id", "completion_name",
+    "planned_completion", "completion", "completion_variance", "shown", "path_count",
+)
+
 SPECS: dict[str, SectionSpec] = {
     s.kind: s
     for s in (
@@ -99,7 +110,7 @@ SPECS: dict[str, SectionSpec] = {
                 "float": (*COMMON, "float", "completion_id", "completion_name", "critical"),
                 "caption": COMMON,
                 "parties": (*COMMON, "parties", "compensable", "noncompensable", "nonexcusable", "concurrent",
-                            "unattributed", "total_slip", "total_unit"),
+                            "gains", "unassigned", "unattributed", "total_slip", "total_unit"),
             },
             options={"chart": OptionSpec(bool, True)},
         ),
@@ -159,9 +170,11 @@ SPECS: dict[str, SectionSpec] = {
             texts={"later": _WINDOW, "earlier": _WINDOW, "unchanged": _WINDOW},
             optional_texts={
                 "intro": COMMON, "progress": _WINDOW, "revision": _WINDOW, "path_moved": _WINDOW,
-                "path_same": _WINDOW, "concurrent": _WINDOW, "parties": _WINDOW,
+                "path_same": _WINDOW, "concurrent": _WINDOW, "parties": _WINDOW, "path_caption": _WINDOW,
             },
-            options={"scope": _SCOPE, "table": OptionSpec(bool, True), "contributors": OptionSpec(bool, True)},
+            options={"scope": _SCOPE, "table": OptionSpec(bool, True), "contributors": OptionSpec(bool, True),
+                     "paths": OptionSpec(bool, True), "path_rows": OptionSpec(int, 12),
+                     "path_chart": OptionSpec(bool, False)},
             protocol=(
                 "Observational / dynamic / contemporaneous split: windows analysis with the half-step "
                 "split of each window into progress and revision (AACE RP 29R-03, MIP 3.4; SCL Delay and "
@@ -206,12 +219,41 @@ SPECS: dict[str, SectionSpec] = {
             protocol="Time-cost trade-off of the remaining work (Kelley 1961; Fulkerson 1961)",
         ),
         SectionSpec(
+            "but-for",
+            texts={"earlier": _BUTFOR, "unchanged": _BUTFOR},
+            optional_texts={
+                "intro": COMMON, "as_built": _AS_BUILT, "pins": _AS_BUILT, "relinked": _AS_BUILT,
+                "warnings": _AS_BUILT, "later": _BUTFOR, "not_represented": _BUTFOR, "notes_intro": COMMON,
+                "none": COMMON,
+            },
+            options={"table": OptionSpec(bool, True), "notes": OptionSpec(bool, True)},
+            protocol=(
+                "Modelled / subtractive / single simulation: but-for analysis on the collapsed as-built "
+                "schedule, each party's delays removed alone and all owner delays together (AACE RP 29R-03, "
+                "MIP 3.8; SCL Delay and Disruption Protocol 2nd ed., collapsed as-built)"
+            ),
+        ),
+        SectionSpec(
+            "as-built",
+            texts={"text": _ASPLANNED},
+            optional_texts={"intro": COMMON, "subset": _ASPLANNED, "legend": _ASPLANNED},
+            options={"rows": OptionSpec(int, 30)},
+            protocol=(
+                "Observational / static logic: as-planned versus as-built, the baseline against the last "
+                "update activity by activity (AACE RP 29R-03, MIP 3.1 gross and 3.2 periodic)"
+            ),
+        ),
+        SectionSpec(
             "quality",
             texts={
                 "passed_all": (*COMMON, "snapshot", "data_date", "passed", "failed", "assessed", "failed_checks"),
                 "failed_some": (*COMMON, "snapshot", "data_date", "passed", "failed", "assessed", "failed_checks"),
             },
-            optional_texts={"intro": COMMON},
+            optional_texts={
+                "intro": COMMON,
+                "same": (*COMMON, "snapshot", "data_date", "passed", "failed", "assessed", "previous"),
+                "changed": (*COMMON, "snapshot", "data_date", "passed", "failed", "assessed", "previous", "changes"),
+            },
             options={
                 "scope": OptionSpec(str, "latest", ("all", "latest", "last-two")),
                 "details": OptionSpec(bool, False),
