@@ -495,11 +495,14 @@ def _fragnet_ev07() -> _Net:
 
 
 # Which update each fragnet is analysed in (time impact analysis: inserted
-# into the last update before the event), and the update that first carries
-# its activities as part of the programme.
+# into the update whose data date is the last on or before the event's start,
+# AACE RP 52R-06), the update that first carries its activities as part of
+# the programme, and the delay to completion the story states for it.
 FRAGNETS = {
-    "EV03": {"build": _fragnet_ev03, "tia_update": "U04", "in_programme_from": "U05"},
-    "EV07": {"build": _fragnet_ev07, "tia_update": "U08", "in_programme_from": "U09"},
+    "EV03": {"build": _fragnet_ev03, "tia_update": "U04", "in_programme_from": "U05",
+             "tia_days": 7},
+    "EV07": {"build": _fragnet_ev07, "tia_update": "U07", "in_programme_from": "U09",
+             "tia_days": 0},
 }
 
 
@@ -513,33 +516,41 @@ MONTHS = (
     ("U01", date(2026, 4, 7), "Site set up; the old boat store came down faster than planned "
      "(7 days instead of 10) and the hall steelwork design was early. No delay."),
     ("U02", date(2026, 5, 5), "The Sallow flooded the site from 14 to 24 April (EV02, "
-     "exceptional weather): all piling stopped, the hall path slips two weeks. The "
-     "employer's review of the facade design ran long (EV01), absorbed by float."),
+     "exceptional weather): all piling stopped, the hall path slips two weeks (+14, all the "
+     "flood's). The employer's review of the facade design ran long (EV01), absorbed by "
+     "float."),
     ("U03", date(2026, 6, 1), "The contractor poured the library ground slab while the lift "
      "pits were still being built (out-of-sequence progress). River wall piling started "
      "slowly (EV06) and the river terrace starts to lose float."),
     ("U04", date(2026, 7, 6), "The library frame gang is short of formwork (EV09) and the "
-     "library float is nearly gone. On 8 July (after this data date) the council orders the "
-     "archive room, change order CO-01: fragnet fragnets/EV03 is inserted here for the "
-     "time impact analysis."),
+     "library float is nearly gone; completion holds. On 8 July (after this data date) the "
+     "council orders the archive room, change order CO-01: fragnet fragnets/EV03 goes into "
+     "this update for the time impact analysis (7 days)."),
     ("U05", date(2026, 8, 3), "Concurrency: the council's archive redesign (EV03) holds the "
      "library level 3 frame while the contractor's tower crane failure (EV04) stops the hall "
-     "roof deck, both from 16 July to 7 August. CO-01 is now in the programme. The roof "
-     "trusses' actual finish is reported two days early."),
-    ("U06", date(2026, 9, 7), "Hall and library paths both critical. Logic revision: a second "
-     "drylining gang lets library level 3 follow level 1 instead of level 2. The trusses' "
-     "actual finish is corrected."),
+     "roof deck, both from 16 July to 7 August. CO-01 is now in the programme. Slip +14: the "
+     "crane costs the hall 13 days (progress), the archive work the library 14 (revision); "
+     "13 days are concurrent, 1 is the council's alone. The roof trusses' actual finish is "
+     "reported two days early."),
+    ("U06", date(2026, 9, 7), "Hall and library paths both critical. The archive slab "
+     "strengthening (EV03) runs a day late (+1, council). Logic revision: the contractor puts "
+     "on a second drylining gang (EV10) so library level 3 follows level 1 instead of level "
+     "2, gaining 2 days. The trusses' actual finish is corrected."),
     ("U07", date(2026, 10, 5), "Duration revision: the contractor re-plans the library "
-     "curtain wall (15 to 20 days an elevation) and HVAC commissioning (15 to 20). The "
-     "critical path now runs through the library wing alone."),
+     "curtain wall (15 to 20 days an elevation) and HVAC commissioning (15 to 20) (EV11): "
+     "+14, all revision, the contractor's. The critical path now runs through the library "
+     "wing alone."),
     ("U08", date(2026, 11, 2), "The utility gives notice (26 October) that the incoming cable "
-     "route is blocked (EV07, neutral): fragnet fragnets/EV07 is inserted here for the time "
-     "impact analysis. The curtain wall installer is short of labour (EV05)."),
-    ("U09", date(2026, 12, 7), "Cable re-routing in the programme. Frost stops the terrace "
-     "drainage (EV08, exceptional weather). The river terrace path has lost its float."),
+     "route is blocked (EV07, neutral): fragnet fragnets/EV07 goes into U07, the last update "
+     "before the notice, for the time impact analysis, and float absorbs it. The curtain "
+     "wall installer is short of labour (EV05): +1, the contractor's."),
+    ("U09", date(2026, 12, 7), "Cable re-routing in the programme (no effect on completion). "
+     "The curtain wall is still short of labour (EV05): +1, the contractor's. Frost stops the "
+     "terrace drainage (EV08, exceptional weather). The river terrace path has lost its "
+     "float."),
     ("U10", date(2027, 1, 4), "After the Christmas shutdown: the library curtain wall still "
-     "late; practical completion is forecast 43 days after the contract date, and the river "
-     "terrace is behind its key date."),
+     "late but no further slip; practical completion is forecast 43 days after the contract "
+     "date, and the river terrace is behind its key date."),
 )
 UPDATES = tuple(m[0] for m in MONTHS[1:])
 
@@ -570,6 +581,15 @@ EVENTS = (
      "Utility notice SVPN-2231"),
     ("EV08", "Prolonged frost: external drainage and concrete stopped", "WX",
      date(2026, 11, 23), date(2026, 12, 4), ("RIV-DRN",), None, "Weather station record"),
+    # The contractor's own re-plans (programme revisions), recorded as its events so that
+    # the windows analysis attributes the revision effect to the party who made it.
+    ("EV10", "Contractor's re-sequencing: a second drylining gang takes library level 3 "
+     "straight after level 1", "CON", date(2026, 8, 24), date(2026, 9, 4), ("LIB-L3-DRY",),
+     None, "Revised programme narrative, rev. C"),
+    ("EV11", "Contractor's re-plan: library curtain wall 20 days an elevation, HVAC "
+     "commissioning 20 days", "CON", date(2026, 9, 21), date(2026, 10, 2),
+     ("LIB-ENV-CW-N", "LIB-ENV-CW-E", "LIB-ENV-CW-S", "LIB-ENV-CW-W", "SYS-COM-ME"), None,
+     "Revised programme narrative, rev. D"),
 )
 
 EVENTS = tuple(sorted(EVENTS))
@@ -626,6 +646,34 @@ CONCURRENCY = {
     "start": date(2026, 7, 16), "finish": date(2026, 8, 7),  # both events running
     "window": ("U04", "U05"), "critical_in": "U06",  # both paths critical together
 }
+# What the windows analysis should find in each window (forensic.attribution):
+# the slip and its half-step split, the days by party (concurrent days apart),
+# the concurrent days and the events behind the window's slip.
+WINDOW_FINDINGS = {
+    "BL-U01": {"slip": 0, "progress": 0, "revision": 0, "parties": {}, "concurrent": 0, "events": []},
+    "U01-U02": {"slip": 14, "progress": 14, "revision": 0, "parties": {"WX": 14}, "concurrent": 0,
+                "events": ["EV02"]},
+    "U02-U03": {"slip": 0, "progress": 0, "revision": 0, "parties": {}, "concurrent": 0, "events": []},
+    "U03-U04": {"slip": 0, "progress": 0, "revision": 0, "parties": {}, "concurrent": 0, "events": []},
+    "U04-U05": {"slip": 14, "progress": 13, "revision": 1, "parties": {"OWN": 1}, "concurrent": 13,
+                "events": ["EV03", "EV04"]},
+    "U05-U06": {"slip": -1, "progress": 1, "revision": -2, "parties": {"OWN": 1, "CON": -2},
+                "concurrent": 0, "events": ["EV03", "EV10"]},
+    "U06-U07": {"slip": 14, "progress": 0, "revision": 14, "parties": {"CON": 14}, "concurrent": 0,
+                "events": ["EV11"]},
+    "U07-U08": {"slip": 1, "progress": 1, "revision": 0, "parties": {"CON": 1}, "concurrent": 0,
+                "events": ["EV05"]},
+    "U08-U09": {"slip": 1, "progress": 1, "revision": 0, "parties": {"CON": 1}, "concurrent": 0,
+                "events": ["EV05"]},
+    "U09-U10": {"slip": 0, "progress": 0, "revision": 0, "parties": {}, "concurrent": 0, "events": []},
+}
+CONCURRENCY_PARTIES = ["CON", "OWN"]
+# The delay ledger over the whole record (calendar days).
+LEDGER_TOTAL = {"excusable_compensable": 2, "excusable_noncompensable": 14, "non_excusable": 16,
+                "concurrent": 13, "gains": -2, "unexplained": 0, "total": FINAL_SLIP_DAYS}
+# But-for (collapsed as-built from U10, forensic.butfor): days by which completion
+# would have been earlier without each party's delays.
+BUT_FOR_DAYS = {"OWN": 9, "CON": 25, "WX": 0, "UTL": 0, "all owner delays": 9}
 AREAS = {
     "GEN": "general milestones", "PRE": "design, reviews and off-site fabrication",
     "SITE": "site establishment and enabling works", "HALL": "civic hall",
@@ -840,19 +888,15 @@ def _events_csv() -> str:
 
 
 def fragnet_as_filed(eid: str) -> _Net:
-    """The fragnet as written to ``fragnets/<eid>/``: its activities renamed ``<eid>-...``.
+    """The fragnet as written to ``fragnets/<eid>/``.
 
-    A fragnet models the event prospectively, so its activities carry ids of
-    their own; the work the programme later takes in (``CO1-...``, ``UTL-...``)
-    keeps the contractor's ids.
+    Its activities carry the ids that the same work has in the updates that
+    later take the change into the programme (``CO1-...`` from U05,
+    ``UTL-...`` from U09), so the time impact, windows and but-for analyses
+    follow one piece of work under one id. Inserting it into an update that
+    already has those ids is refused by the time impact analysis.
     """
-    frag = FRAGNETS[eid]["build"]()
-    rename = {aid: f"{eid}-{aid.split('-', 1)[1]}" for aid in frag.acts}
-    out = _Net()
-    for aid, spec in frag.acts.items():
-        out.acts[rename[aid]] = {**spec, "id": rename[aid]}
-    out.links = [(rename.get(p, p), rename.get(q, q), t, lag) for p, q, t, lag in frag.links]
-    return out
+    return FRAGNETS[eid]["build"]()
 
 
 def _fragnet_files(eid: str) -> dict[str, str]:
@@ -920,10 +964,19 @@ def _check(snaps: dict[str, Snapshot], res: dict[str, ScheduleResult]) -> None:
     aid, wrong_in, fixed_in, _ = ACTUAL_CORRECTION
     if snaps[wrong_in].activities[aid].actual_finish == snaps[fixed_in].activities[aid].actual_finish:
         problems.append(f"{aid}: actual finish not corrected")
-    for eid, expect_delay in (("EV03", True), ("EV07", False)):
+    for eid, spec in FRAGNETS.items():
         gain = tia_delay(snaps, eid)
-        if (gain > 0) != expect_delay:
-            problems.append(f"fragnet {eid} delays completion by {gain} days")
+        if gain != spec["tia_days"]:
+            problems.append(f"fragnet {eid} delays completion by {gain} days, not {spec['tia_days']}")
+    slips = facts["slip_days"]
+    for a, b in zip(SNAPSHOT_IDS, SNAPSHOT_IDS[1:], strict=False):
+        told = WINDOW_FINDINGS[f"{a}-{b}"]
+        if told["slip"] != slips[b] - slips[a]:
+            problems.append(f"window {a}-{b} slips {slips[b] - slips[a]}, the story says {told['slip']}")
+        if told["progress"] + told["revision"] != told["slip"]:
+            problems.append(f"window {a}-{b}: progress + revision is not the slip")
+        if sum(told["parties"].values()) + told["concurrent"] != told["slip"]:
+            problems.append(f"window {a}-{b}: parties + concurrent is not the slip")
     for r in res.values():
         if r.warnings:
             problems.append("; ".join(r.warnings))
@@ -963,6 +1016,8 @@ def _story_toml(facts: dict) -> str:
         f"finish = {CONCURRENCY['finish'].isoformat()}",
         f'window = ["{CONCURRENCY["window"][0]}", "{CONCURRENCY["window"][1]}"]',
         f'critical_in = "{CONCURRENCY["critical_in"]}"',
+        f"days = {WINDOW_FINDINGS['-'.join(CONCURRENCY['window'])]['concurrent']}",
+        "parties = " + _toml_list(f'"{x}"' for x in CONCURRENCY_PARTIES),
         'owner_path_area = "LIB"',
         'contractor_path_area = "HALL"',
         "",
@@ -990,7 +1045,19 @@ def _story_toml(facts: dict) -> str:
     for eid, spec in FRAGNETS.items():
         out += ["", f"[fragnets.{eid}]", f'folder = "fragnets/{eid}"',
                 f'tia_update = "{spec["tia_update"]}"',
-                f'in_programme_from = "{spec["in_programme_from"]}"']
+                f'in_programme_from = "{spec["in_programme_from"]}"',
+                f"tia_days = {spec['tia_days']}"]
+    out += ["", "# What the windows analysis finds in each window: slip, half-step split,",
+            "# days by party (concurrent days apart), concurrent days, events behind the slip."]
+    for label, f in WINDOW_FINDINGS.items():
+        parties = "{" + ", ".join(f"{k} = {v}" for k, v in f["parties"].items()) + "}"
+        out += ["", f"[windows.{label}]", f"slip = {f['slip']}", f"progress_slip = {f['progress']}",
+                f"revision_slip = {f['revision']}", f"by_party = {parties}",
+                f"concurrent = {f['concurrent']}",
+                "events = " + _toml_list(f'"{e}"' for e in f["events"])]
+    out += ["", "[ledger_total]", *(f"{k} = {v}" for k, v in LEDGER_TOTAL.items())]
+    out += ["", "# But-for (collapsed as-built from the last update): days earlier without each",
+            "# party's delays.", "[but_for]", *(f'"{k}" = {v}' for k, v in BUT_FOR_DAYS.items())]
     out += table("slip_days", facts["slip_days"], str)
     out += table("forecast_completion", facts["completion"], lambda d: d.isoformat())
     out += table("secondary_float", facts["secondary_float"], str)
@@ -1059,23 +1126,61 @@ def _readme(snaps: dict[str, Snapshot], facts: dict) -> str:
         lines.append(f"| {eid} | {party} | {start.isoformat()} | {finish.isoformat()} | "
                      f"{title} | {frag or '-'} |")
     c = CONCURRENCY
+    def findings(label: str) -> str:
+        f = WINDOW_FINDINGS[label]
+        parts = [f"{p} {d:+d}" for p, d in f["parties"].items()]
+        if f["concurrent"]:
+            parts.append(f"concurrent {f['concurrent']}")
+        who = ", ".join(parts) or "-"
+        evs = " ".join(f["events"]) or "-"
+        return (f"| {label} | {f['slip']:+d} | {f['progress']:+d} | {f['revision']:+d} | {who} | "
+                f"{evs} |")
+
+    lt = LEDGER_TOTAL
     lines += [
         "",
         "## What the analyses should find",
         "",
-        "- **Windows** (slip of the forecast completion per window, calendar days): "
-        + "; ".join(windows) + f". Total {slips[SNAPSHOT_IDS[-1]]:+d} at "
-        f"{SNAPSHOT_IDS[-1]}.",
+        "**Windows** (`forensic windows`; slip of the forecast completion per window, calendar "
+        "days; the half-step splits it into progress and revision; days by party, with "
+        "concurrent days apart):",
+        "",
+        "| window | slip | progress | revision | days by party | events |",
+        "|---|---|---|---|---|---|",
+        *(findings(label) for label in WINDOW_FINDINGS),
+        "",
+        f"Total {slips[SNAPSHOT_IDS[-1]]:+d} at {SNAPSHOT_IDS[-1]}. The ledger: "
+        f"excusable and compensable {lt['excusable_compensable']}, excusable not compensable "
+        f"{lt['excusable_noncompensable']}, not excusable {lt['non_excusable']}, concurrent "
+        f"{lt['concurrent']}, gains {lt['gains']}; {lt['unexplained']} days unexplained; total "
+        f"{lt['total']}.",
+        "",
         "- **Critical path moves**: through the civic hall (`HALL`) up to U04, through the "
         "library wing (`LIB`) in U05 and from U07 on; both together in U06.",
         f"- **Concurrency**: {c['owner_event']} (employer's change, library path) and "
         f"{c['contractor_event']} (contractor's crane failure, hall path) both run from "
         f"{c['start'].isoformat()} to {c['finish'].isoformat()}, in window "
-        f"{c['window'][0]}-{c['window'][1]}; the two paths are critical together in "
-        f"{c['critical_in']}.",
-        "- **Time impact**: fragnet `fragnets/EV03` (change order CO-01) goes into U04 and "
-        "should show a delay to completion; fragnet `fragnets/EV07` (utility cable) goes into "
-        "U08 and should be absorbed by float (no delay to completion).",
+        f"{c['window'][0]}-{c['window'][1]}. The employer's delay reaches U05 as a revision "
+        "(the archive work taken into the programme), the contractor's as lost progress. "
+        "Removing the contractor's delays alone recovers nothing (the library path holds "
+        "completion), removing the employer's alone 1 day, both 14: "
+        f"{WINDOW_FINDINGS['-'.join(c['window'])]['concurrent']} concurrent days and 1 day the "
+        f"employer's alone. The two paths are critical together in {c['critical_in']}.",
+        "- **Time impact** (`forensic impact`; the unimpacted schedule is the update whose "
+        "data date is the last on or before the event's start, AACE RP 52R-06): "
+        "fragnet `fragnets/EV03` (change order CO-01) goes into "
+        f"{FRAGNETS['EV03']['tia_update']} and delays completion "
+        f"{FRAGNETS['EV03']['tia_days']} days; fragnet `fragnets/EV07` (utility cable) goes "
+        f"into {FRAGNETS['EV07']['tia_update']} and float absorbs it "
+        f"({FRAGNETS['EV07']['tia_days']} days). The fragnets' activities carry the ids the "
+        "work has once the updates take it in (`CO1-...` from U05, `UTL-...` from U09), so "
+        "the windows and but-for analyses recognise it.",
+        "- **But-for** (`forensic but-for`, collapsed as-built from U10): without the "
+        f"employer's delays completion would have been {BUT_FOR_DAYS['OWN']} days earlier, "
+        f"without the contractor's {BUT_FOR_DAYS['CON']}, without the weather's "
+        f"{BUT_FOR_DAYS['WX']} and the utility's {BUT_FOR_DAYS['UTL']} (by the end the library "
+        "path controls, so the flood on the hall no longer counts). The collapsed as-built "
+        "and the contemporaneous windows answer different questions and differ here.",
         f"- **Float erosion**: `{SECONDARY_PATH}` on the river terrace path loses float month "
         f"by month against its key date and is critical from {SECONDARY_CRITICAL_FROM}.",
         f"- **Out-of-sequence progress** in {OUT_OF_SEQUENCE[0]}: `{OUT_OF_SEQUENCE[1]}` "
@@ -1087,8 +1192,8 @@ def _readme(snaps: dict[str, Snapshot], facts: dict) -> str:
         "wall and HVAC commissioning), so the half-step split shows revision effects apart "
         "from progress effects.",
         "- **Parties**: EV01, EV03 employer (excusable, compensable); EV04, EV05, EV06, EV09 "
-        "contractor (not excusable); EV02, EV08 weather and EV07 utility (excusable, not "
-        "compensable).",
+        "contractor (not excusable), and EV10, EV11 the contractor's own re-plans; EV02, EV08 "
+        "weather and EV07 utility (excusable, not compensable).",
         "",
         "The numbers the tests pin are in `story.toml`.",
     ]

@@ -26,6 +26,7 @@ __all__ = [
     "Problems",
     "Row",
     "check_year",
+    "find_unsafe_char",
     "parse_date",
     "parse_int",
     "parse_number",
@@ -43,9 +44,25 @@ MAX_YEAR = 2200
 # 2000000 from sending the engine over a horizon of millennia.
 MAX_DURATION = 36_500
 
+# Characters refused anywhere in casefile text: C0 controls other than tab,
+# line feed and carriage return (an escape sequence could rewrite the
+# terminal), DEL and the C1 controls, a byte-order mark inside the text (a
+# sign of files pasted together), and the bidirectional embedding, override
+# and isolate controls that can make text display in another order than it
+# reads (Unicode TR36, CVE-2021-42574 "Trojan Source"; common practice).
+_UNSAFE = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f\ufeff\u202a-\u202e\u2066-\u2069]")
+
 _ISO_DATE = re.compile(r"^\d{4}-\d{2}-\d{2}$")
 _WHOLE = re.compile(r"^[+-]?\d+$")
 _DECIMAL = re.compile(r"^[+-]?(\d+(\.\d*)?|\.\d+)$")
+
+
+def find_unsafe_char(text: str) -> tuple[int, str] | None:
+    """The index and ``U+XXXX`` name of the first refused character of ``text``, or ``None``."""
+    hit = _UNSAFE.search(text)
+    if hit is None:
+        return None
+    return hit.start(), f"U+{ord(hit.group()):04X}"
 
 
 class Problems:
@@ -53,7 +70,16 @@ class Problems:
 
     def __init__(self) -> None:
         self.items: list[InputProblem] = []
-        self.limit_hit = False
+        self.limits: list[InputProblem] = []  # the ceilings reached, also in ``items``
+
+    @property
+    def limit_hit(self) -> bool:
+        return bool(self.limits)
+
+    def add_limit(self, file: str, line: int | None, value: object, message: str) -> None:
+        """Record that a file or table is over a ceiling (see ``forensic.casefile.Limits``)."""
+        self.add(file, line, None, value, message)
+        self.limits.append(self.items[-1])
 
     def add(
         self,
@@ -78,6 +104,10 @@ def resolve_inside(root: Path, rel: object, problems: Problems, manifest: str, k
     """
     if not isinstance(rel, str) or not rel.strip():
         problems.add(manifest, None, key, rel, "expected a path relative to the casefile folder, as a string")
+        return None
+    bad = find_unsafe_char(rel)
+    if bad is not None:
+        problems.add(manifest, None, key, bad[1], "a path may not contain control characters")
         return None
     if "\\" in rel:
         problems.add(manifest, None, key, rel, "use forward slashes (/) in paths")
@@ -114,18 +144,17 @@ def read_text(path: Path, rel: str, max_bytes: int, problems: Problems, hashes: 
         return None
     size = path.stat().st_size
     if size > max_bytes:
-        problems.limit_hit = True
-        problems.add(rel, None, None, size, f"file is {size} bytes, over the limit of {max_bytes} bytes")
+        problems.add_limit(rel, None, size, f"file is {size} bytes, over the limit of {max_bytes} bytes; it is not read")
         return None
     with open(path, "rb") as fh:  # read-only; never written
         data = fh.read(max_bytes + 1)
     if len(data) > max_bytes:  # grew while we looked
-        problems.limit_hit = True
-        problems.add(rel, None, None, len(data), f"file is over the limit of {max_bytes} bytes")
+        problems.add_limit(rel, None, len(data), f"file is over the limit of {max_bytes} bytes")
         return None
     hashes[rel] = hashlib.sha256(data).hexdigest()
     if data.startswith((b"\xff\xfe", b"\xfe\xff")):
-        problems.add(rel, None, None, None, "file is UTF-16; save it as UTF-8")
+        problems.add(rel, 1, None, f"0x{data[:2].hex()} at byte 0",
+                     "file starts with a UTF-16 byte-order mark; save it as UTF-8")
         return None
     nul = data.find(b"\x00")
     if nul >= 0:
@@ -133,12 +162,20 @@ def read_text(path: Path, rel: str, max_bytes: int, problems: Problems, hashes: 
         problems.add(rel, line, None, f"byte {nul}", "file contains a NUL byte; expected UTF-8 text (is it UTF-16 or binary?)")
         return None
     try:
-        return data.decode("utf-8-sig")
+        text = data.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
         line = data.count(b"\n", 0, exc.start) + 1
         bad = data[exc.start : exc.start + 1].hex()
         problems.add(rel, line, None, f"0x{bad} at byte {exc.start}", "file is not UTF-8; save it as UTF-8")
         return None
+    unsafe = find_unsafe_char(text)
+    if unsafe is not None:
+        at, name = unsafe
+        line = text.count("\n", 0, at) + 1
+        problems.add(rel, line, None, name,
+                     "file contains a control or text-direction character; expected printable text")
+        return None
+    return text
 
 
 @dataclass(slots=True, eq=False)  # not frozen: built once per CSV line, and frozen init is slower
@@ -190,8 +227,8 @@ def read_table(
                 problems.add(rel, first_line, None, len(cells), f"row has {len(cells)} cells, the header has {width}")
                 continue
             if len(rows) >= max_rows:
-                problems.limit_hit = True
-                problems.add(rel, first_line, None, None, f"more than {max_rows} rows, over the limit; the rest is not read")
+                problems.add_limit(rel, first_line, f"row {max_rows + 1}",
+                                   f"more than {max_rows} rows, over the limit; the rest is not read")
                 return None
             rows.append(Row(first_line, dict(zip(header, cells, strict=True))))
     except csv.Error as exc:

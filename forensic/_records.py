@@ -35,6 +35,7 @@ __all__ = [
     "EVENT_COLUMNS",
     "LINK_COLUMNS",
     "ActivityTable",
+    "check_fragnet_loops",
     "check_loops",
     "read_activities",
     "read_events",
@@ -332,6 +333,64 @@ def check_loops(ids: list[str], links: list[Link], rel: str, problems: Problems)
         problems.add(rel, min(lines), None, shown,
                      f"logic loop through the links on lines {', '.join(map(str, lines))}; "
                      "a loop has no schedule, break one of its links")
+
+
+def _has_loop(ids: list[str], links: list[Link]) -> bool:
+    pos = {a: i for i, a in enumerate(ids)}
+    succs: list[list[int]] = [[] for _ in ids]
+    for link in links:
+        if link.pred in pos and link.succ in pos:  # a bad row is reported with its table
+            succs[pos[link.pred]].append(pos[link.succ])
+    try:
+        topological_order(ids, succs)
+    except LogicLoopError:
+        return True
+    return False
+
+
+def check_fragnet_loops(
+    fragnet_ids: Collection[str],
+    fragnet_links: list[Link],
+    snapshots: list,
+    rel: str,
+    problems: Problems,
+) -> None:
+    """Report a loop that a fragnet's ties close with a snapshot's own logic.
+
+    The fragnet is checked against every snapshot that has all the
+    activities it ties to and none of its own ids (the snapshots it could
+    be inserted into, AACE RP 52R-06); a loop there would stop the time impact analysis, so the
+    casefile is refused now, naming the loop, the fragnet link lines in it
+    and the snapshots where it closes.
+    """
+    own = set(fragnet_ids)
+    ties = {a for link in fragnet_links for a in (link.pred, link.succ)} - own
+    where: list[str] = []
+    found: tuple[str, list[int]] | None = None
+    for snap in snapshots:
+        if not ties <= set(snap.activities) or own & set(snap.activities):
+            continue  # cannot be inserted here (forensic.impact.insert_fragnet refuses it)
+        if _has_loop(list(snap.activities), snap.links):
+            continue  # the snapshot's own loop is reported with the snapshot
+        if not _has_loop([*snap.activities, *own], [*snap.links, *fragnet_links]):
+            continue
+        where.append(snap.id)
+        if found is None:
+            graph = nx.DiGraph()
+            graph.add_edges_from((x.pred, x.succ) for x in snap.links)
+            graph.add_edges_from((x.pred, x.succ) for x in fragnet_links)
+            mine = {(x.pred, x.succ): x.line or 0 for x in reversed(fragnet_links)}
+            for comp in nx.strongly_connected_components(graph):
+                if len(comp) > 1 and comp & own:
+                    cycle = nx.find_cycle(graph.subgraph(comp))
+                    loop = [u for u, _ in cycle]
+                    found = (" -> ".join([*loop, loop[0]]), sorted(mine[e] for e in cycle if e in mine))
+                    break
+    if found is not None:
+        shown, lines = found
+        problems.add(rel, lines[0] if lines else None, None, shown,
+                     f"the fragnet's links (lines {', '.join(map(str, lines))}) close a logic loop with "
+                     f"the links of snapshot {', '.join(where)}; a loop has no schedule, break one of them")
 
 
 def read_events(

@@ -19,7 +19,13 @@ slip and walk back along the driving path:
   half-step start;
 * the driver *inherits* ``I = clamp(v(driver), 0, X)`` of the ``X`` days
   reaching ``a`` (for a gain, ``clamp(v(driver), X, 0)``), and ``a`` keeps
-  ``X - I`` as its own share; the walk continues with ``X = I``.
+  ``X - I`` as its own share; the walk continues with ``X = I``;
+* except that work not started at the later data date, placed by its
+  engine driving predecessor, keeps nothing when that driver's variance has
+  the sign of ``X``: the driver inherits all ``X``. Such work has no
+  progress of its own in the window (the half-step keeps its plan), so what
+  reaches it beyond its driver's variance is the same delay stretched by a
+  non-working period of the calendars (a holiday or a shutdown crossed).
 
 Each step hands on part of ``X`` and keeps the rest, so the shares add up to
 the progress slip exactly, with no rounding. The clamp means no share is
@@ -35,10 +41,17 @@ covered by several events is split in proportion to each one's days of
 overlap with the window (largest-remainder rounding, ties in file order, so
 the parts add up exactly). A share no event covers goes to the party that
 performs the activity and is *unexplained*; a gain (negative share) always
-goes to the performing party. Revision effects go to the events whose
-fragnet activities (or listed activities) the later update brought in,
-measured by taking those activities out of the later update one event at a
-time (durations set to zero, events in date order); the remainder is
+goes to the performing party.
+
+Revision effects go to the events that brought the revision in, measured by
+taking each event's revisions out of the later update, one event at a time
+in date order (:func:`_take_out`): the activities the later update added
+that are the event's (its fragnet's or its listed activities) are deleted,
+their links bridged as the but-for analysis does; and, for an event whose
+dates overlap the window, its listed activities not yet started get back
+the earlier update's durations, and the links into them that the later
+update added or removed are undone (a re-plan of the contractor's, say, is
+an event of the contractor naming the re-planned work). The remainder is
 *unattributed revision*.
 
 Concurrency
@@ -49,16 +62,24 @@ contractor's, whose effects are felt at the same time (SCL Delay and
 Disruption Protocol, 2nd ed., core principle 10 and paras. 10.3-10.4, paragraph numbers from memory); AACE
 RP 29R-03 (sec. 4.2) calls the test of it a but-for test of each party's
 delays. Here "at the same time" is the window, and the test is run on the
-half-step schedule: each party's delays are removed alone (every activity
-not finished at the later data date gives back the days of its own lateness
-owned by that party, its remaining duration shortened by that many working
-days), then all at once. With ``R(P)`` the days recovered by removing party
-``P`` alone and ``R(all)`` by removing all, the *concurrent* days are
-``max(0, R(all) - sum of R(P))``: days that removing either party's delays
-alone would not recover. The parties involved are those whose removal
-matters jointly but not alone (``R(all) - R(all but P) > R(P)``). The
-concurrent days are taken out of those parties' contributor shares (largest
-first) and reported with category ``concurrent``.
+whole window slip, progress and revision: on the later update, each party's
+delays are removed alone, then all parties' at once. A party's delays are
+(a) the days of lateness it owns on work not finished at the later data date
+(its remaining duration is shortened by that many working days), and
+(b) the revisions its events brought in (taken out as for the revision
+shares above: added fragnet work deleted and bridged, re-planned durations
+and links undone). With ``R(P)`` the days of the window's slip recovered by
+removing party ``P`` alone and ``R(all)`` by removing all, the *concurrent*
+days are ``max(0, R(all) - sum of max(0, R(P)))``: days that removing
+either party's delays alone would not recover but removing both does. The
+parties involved are those whose removal matters jointly but not alone
+(``R(all) - R(all but P) > R(P)``); the events named are those behind the
+involved parties' shares of the slip. The concurrent days are at most the
+involved parties' positive shares (progress contributors and revision
+shares); they are taken out of those shares, first out of each involved
+party's excess over ``R(P)`` (so each party keeps the days only its own
+delays explain), and reported with category ``concurrent``, so every sum
+still adds up.
 
 Ledger
 ------
@@ -87,6 +108,7 @@ from typing import Any
 
 import numpy as np
 
+from .butfor import bridge_links
 from .calendars import day_number, from_day_number, previous_workday, workdays_between
 from .engine import ScheduleResult, schedule
 from .model import CATEGORIES, DEFAULT_CATEGORY, Casefile, Event, Snapshot, frozen_mapping
@@ -104,6 +126,7 @@ __all__ = [
     "WindowAttribution",
     "analyse_delay",
     "attribute_window",
+    "concurrency_table",
     "contributors_table",
     "delay_json",
     "ledger_table",
@@ -113,9 +136,11 @@ UNASSIGNED = "unassigned"
 UNATTRIBUTED_REVISION = "unattributed-revision"
 CONCURRENT = "concurrent"
 CONCURRENCY_RULE = (
-    "concurrent days = days of the window's progress slip that removing either party's "
-    "delays alone would not recover (but-for test in the window; SCL Protocol 2nd ed., "
-    "core principle 10; AACE RP 29R-03 sec. 4.2)"
+    "concurrent days = days of the window's whole slip (progress and revision) that removing "
+    "either party's delays alone does not recover but removing both does: max(0, R(all) - sum "
+    "of R(party)), each party's delays being its lateness on unfinished work and the revisions "
+    "its events brought in (but-for test in the window; SCL Protocol 2nd ed., core principle 10; "
+    "AACE RP 29R-03 sec. 4.2)"
 )
 
 
@@ -326,6 +351,11 @@ def _split(ctx: _Ctx, a: str, x: int, local: bool) -> list[tuple[str, int]]:
             break
         vp = ctx.v[p]
         inherited = min(max(vp, 0), x) if x > 0 else max(min(vp, 0), x)
+        if inherited and ctx.half[a].status == "not-started" and p in ctx.half[a].driving_predecessors:
+            # Work not started keeps its plan: logic alone places it, so what
+            # reaches it beyond its driver's variance is the calendars' effect
+            # on that same delay (a non-working period crossed), not its own.
+            inherited = x
         out.append((a, x - inherited))
         if inherited == 0 or (local and ctx.half[p].status != "finished"):
             break
@@ -381,27 +411,120 @@ def _attribute(ctx: _Ctx, aid: str, days: int) -> list[Contributor]:
     return [Contributor(aid, days, None, party, category)]
 
 
+# --- revision-borne delay: what an event's changes to the plan brought in ----------
+
+
+def _event_ids(cf: Casefile, ev: Event) -> set[str]:
+    ids = set(ev.activities)
+    frag = cf.fragnets.get(ev.fragnet) if ev.fragnet else None
+    if frag is not None:
+        ids |= set(frag.activities)
+    return ids
+
+
+def _take_out(ctx: _Ctx, snap: Snapshot, events: Sequence[Event]) -> tuple[Snapshot, tuple[str, ...]]:
+    """``snap`` (a version of the later update) with these events' revisions taken out.
+
+    * Activities the later update added that are the events' (fragnet or
+      listed activities) are deleted, their links bridged as the but-for
+      analysis does (:func:`forensic.butfor.bridge_links`).
+    * For an event whose dates overlap the window: each activity it lists
+      that both updates have and the later one shows not started gets back
+      the earlier update's duration and remaining duration; links into the
+      activities it lists that the later update added are dropped, and
+      those it removed are put back.
+
+    Returns the new snapshot and the ids of the activities touched (empty
+    when the events changed nothing in this window).
+    """
+    run = ctx.run
+    w = run.window
+    earlier = run.earlier
+    added = set(w.added)
+    acts = dict(snap.activities)
+    links = list(snap.links)
+    drop: set[str] = set()
+    touched: list[str] = []
+    added_here = [a for a in acts if a in added] if added else []
+    for ev in events:
+        ids = _event_ids(ctx.casefile, ev) if added_here else set()
+        for aid in added_here:
+            if aid in ids and aid not in drop:
+                drop.add(aid)
+                touched.append(aid)
+        if _overlap(ev, w.start, w.end) == 0:
+            continue
+        listed = set(ev.activities)
+        for aid in ev.activities:
+            a, e = acts.get(aid), earlier.activities.get(aid)
+            if a is None or e is None or aid in drop or a.is_started:
+                continue
+            if (a.duration, a.remaining_duration) != (e.duration, e.remaining_duration):
+                acts[aid] = replace(a, duration=e.duration, remaining=e.remaining_duration)
+                touched.append(aid)
+        before_keys = {lk.key for lk in earlier.links}
+        after_keys = {lk.key for lk in links}
+        kept = []
+        for lk in links:
+            if lk.succ in listed and lk.key not in before_keys and lk.pred not in drop:
+                touched.append(lk.succ)
+                continue
+            kept.append(lk)
+        for lk in earlier.links:
+            if lk.succ in listed and lk.key not in after_keys and lk.pred in acts and lk.succ in acts:
+                kept.append(lk)
+                touched.append(lk.succ)
+        links = kept
+    if not touched:
+        return snap, ()
+    for aid in drop:
+        del acts[aid]
+    if drop:
+        links = bridge_links(links, drop)
+    out = replace(snap, activities=frozen_mapping(acts), links=tuple(links))
+    return out, tuple(dict.fromkeys(touched))
+
+
+def _revision(ctx: _Ctx) -> tuple[tuple[RevisionShare, ...], int]:
+    cf, run = ctx.casefile, ctx.run
+    count = unit_counter(cf)
+    current = run.later
+    c_prev = count(run.after.completion)
+    shares = []
+    for ev in sorted(cf.events, key=lambda e: (e.start, e.id)):
+        nxt, hit = _take_out(ctx, current, [ev])
+        if not hit:
+            continue
+        current = nxt
+        c = count(schedule(current, cf.calendars, cf.project).completion)
+        shares.append(RevisionShare(ev.id, c_prev - c, ev.party, ev.category, hit))
+        c_prev = c
+    return tuple(shares), run.window.revision_slip - sum(s.days for s in shares)
+
+
 # --- concurrency: but-for inside the window ----------------------------------------
 
 
-def _restored(ctx: _Ctx, give_back: Mapping[str, int]) -> Snapshot:
-    """The half-step with each activity's remaining duration shortened by its given-back days."""
-    acts = dict(ctx.run.half.activities)
+def _given_back(ctx: _Ctx, snap: Snapshot, give_back: Mapping[str, int]) -> Snapshot:
+    """``snap`` (the later update) with each activity's remaining duration shortened by its given-back days."""
+    acts = dict(snap.activities)
+    res = ctx.run.after
     for aid, days in give_back.items():
-        a = acts[aid]
-        if days <= 0 or a.is_milestone or a.duration == 0:
+        a = acts.get(aid)
+        if a is None or days <= 0 or a.is_milestone or a.duration == 0 or a.is_finished:
             continue
-        finish = ctx.half[aid].early_finish
+        finish = res[aid].early_finish
         target = unit_shift(ctx.casefile, finish, days)
-        r = workdays_between(_calendar(ctx, aid), target + timedelta(days=1), finish + timedelta(days=1))
+        cal = ctx.casefile.calendars[a.calendar or ctx.casefile.project.default_calendar]
+        r = workdays_between(cal, target + timedelta(days=1), finish + timedelta(days=1))
         acts[aid] = replace(a, remaining=max(0, a.remaining_duration - r))
-    return replace(ctx.run.half, id=ctx.run.half.id + "-butfor", activities=frozen_mapping(acts))
+    return replace(snap, id=snap.id + "-butfor", activities=frozen_mapping(acts))
 
 
-def _concurrency(ctx: _Ctx, chain: list[Contributor]) -> Concurrency:
-    count = unit_counter(ctx.casefile)
+def _concurrency(ctx: _Ctx, chain: list[Contributor], revision: Sequence[RevisionShare]) -> Concurrency:
+    cf = ctx.casefile
+    count = unit_counter(cf)
     own: dict[str, dict[str, int]] = {}  # activity -> {party: days of its lateness}
-    events_of: dict[str, set[str]] = {}  # party -> events behind those days
     status = _column(ctx.half, "status").tolist()
     for aid, st in zip(ctx.half.activities, status, strict=True):
         if st == 2 or ctx.v.get(aid, 0) <= 0:  # 2: finished
@@ -412,80 +535,80 @@ def _concurrency(ctx: _Ctx, chain: list[Contributor]) -> Concurrency:
             for c in _attribute(ctx, owner, d):
                 own.setdefault(aid, {}).setdefault(c.party, 0)
                 own[aid][c.party] += c.days
-                if c.event:
-                    events_of.setdefault(c.party, set()).add(c.event)
-    parties = sorted({p for m in own.values() for p in m})
-    slip = ctx.run.window.progress_slip
+    revising: dict[str, list[Event]] = {}  # party -> its events that revised the plan here
+    for ev in sorted(cf.events, key=lambda e: (e.start, e.id)):
+        if _take_out(ctx, ctx.run.later, [ev])[1]:
+            revising.setdefault(ev.party, []).append(ev)
+    parties = sorted({p for m in own.values() for p in m} | set(revising))
+    slip = ctx.run.window.slip
     if len(parties) < 2:
         return Concurrency(0, (), (), frozen_mapping({}), 0)
 
     def recovered(group: set[str]) -> int:
         give = {a: sum(d for p, d in m.items() if p in group) for a, m in own.items()}
-        res = schedule(_restored(ctx, give), ctx.casefile.calendars, ctx.casefile.project)
+        snap = _given_back(ctx, ctx.run.later, give)
+        snap, _ = _take_out(ctx, snap, [ev for p in sorted(group) for ev in revising.get(p, ())])
+        res = schedule(snap, cf.calendars, cf.project)
         return slip - (count(res.completion) - count(ctx.before.completion))
 
     alone = {p: recovered({p}) for p in parties}
     together = recovered(set(parties))
     involved = tuple(p for p in parties if together - recovered(set(parties) - {p}) > alone[p])
-    days = max(0, together - sum(alone.values()))
-    days = min(days, sum(c.days for c in chain if c.party in involved and c.days > 0))
-    events = tuple(sorted({e for p in involved for e in events_of.get(p, ())}))
+    days = max(0, together - sum(max(0, r) for r in alone.values()))
+    held = sum(c.days for c in chain if c.party in involved and c.days > 0)
+    held += sum(s.days for s in revision if s.party in involved and s.days > 0)
+    days = min(days, held)
+    # The events named are those behind the involved parties' shares of this
+    # window's slip (on the controlling path, or revision), not every event
+    # of theirs that made some path late.
+    shares = [(c.party, c.event, c.days) for c in chain] + [(s.party, s.event, s.days) for s in revision]
+    events = tuple(sorted({e for p, e, d in shares if p in involved and e and d > 0}))
     return Concurrency(days, involved if days else (), events if days else (), frozen_mapping(alone), together)
 
 
-def _take_concurrent(chain: list[Contributor], conc: Concurrency) -> list[Contributor]:
+def _take_concurrent(
+    chain: list[Contributor], revision: Sequence[RevisionShare], conc: Concurrency
+) -> tuple[list[Contributor], list[RevisionShare]]:
+    """Move the concurrent days out of the involved parties' shares (rule in the module notes).
+
+    Each involved party ``P`` should keep ``R(P)``, the days only its own
+    delays explain; so the days come first out of each party's excess over
+    ``R(P)`` (largest excess first, within a party its largest share first,
+    progress before revision on a tie), then, if any are left, out of the
+    remaining shares largest first.
+    """
+    items = [(c.party, c.days, 0, i) for i, c in enumerate(chain) if c.party in conc.parties and c.days > 0]
+    items += [(s.party, s.days, 1, i) for i, s in enumerate(revision) if s.party in conc.parties and s.days > 0]
+    held: dict[str, int] = {}
+    for party, d, _, _ in items:
+        held[party] = held.get(party, 0) + d
+    excess = {p: max(0, d - max(0, conc.recovered_alone.get(p, 0))) for p, d in held.items()}
+    order = sorted(items, key=lambda t: (-excess[t[0]], t[0], -t[1], t[2], t[3]))
     left = conc.days
-    idx = sorted(
-        (i for i, c in enumerate(chain) if c.party in conc.parties and c.days > 0),
-        key=lambda i: (-chain[i].days, i),
-    )
-    out = list(chain)
-    extra: dict[int, Contributor] = {}
-    for i in idx:
-        if left == 0:
-            break
-        c = chain[i]
-        t = min(left, c.days)
-        left -= t
-        out[i] = replace(c, days=c.days - t)
-        extra[i] = replace(c, days=t, category=CONCURRENT)
-    result = []
-    for i, c in enumerate(out):
-        if c.days:
-            result.append(c)
-        if i in extra:
-            result.append(extra[i])
-    return result
+    taken: dict[tuple[int, int], int] = {}
+    for party, d, kind, i in order:  # first out of each party's excess
+        t = min(left, d, excess[party])
+        if t:
+            taken[(kind, i)] = t
+            excess[party] -= t
+            left -= t
+    for _, d, kind, i in sorted(items, key=lambda t: (-t[1], t[2], t[3])):  # then largest first
+        t = min(left, d - taken.get((kind, i), 0))
+        if t > 0:
+            taken[(kind, i)] = taken.get((kind, i), 0) + t
+            left -= t
 
+    def split(seq, kind):
+        out = []
+        for i, x in enumerate(seq):
+            t = taken.get((kind, i), 0)
+            if x.days - t:
+                out.append(replace(x, days=x.days - t))
+            if t:
+                out.append(replace(x, days=t, category=CONCURRENT))
+        return out
 
-# --- revision ----------------------------------------------------------------------
-
-
-def _revision(ctx: _Ctx) -> tuple[tuple[RevisionShare, ...], int]:
-    cf, run = ctx.casefile, ctx.run
-    count = unit_counter(cf)
-    added = set(run.window.added)
-    current = run.later
-    c_prev = count(run.after.completion)
-    shares = []
-    in_order = [a for a in current.activities if a in added] if added else []
-    for ev in sorted(cf.events, key=lambda e: (e.start, e.id)):
-        ids = set(ev.activities)
-        frag = cf.fragnets.get(ev.fragnet) if ev.fragnet else None
-        if frag is not None:
-            ids |= set(frag.activities)
-        hit = tuple(a for a in in_order if a in ids)
-        if not hit:
-            continue
-        acts = dict(current.activities)
-        for a in hit:
-            if not acts[a].is_finished:
-                acts[a] = replace(acts[a], duration=0, remaining=0)
-        current = replace(current, activities=frozen_mapping(acts))
-        c = count(schedule(current, cf.calendars, cf.project).completion)
-        shares.append(RevisionShare(ev.id, c_prev - c, ev.party, ev.category, hit))
-        c_prev = c
-    return tuple(shares), run.window.revision_slip - sum(s.days for s in shares)
+    return split(chain, 0), split(revision, 1)
 
 
 # --- one window, all windows, the ledger -------------------------------------------
@@ -514,15 +637,20 @@ def attribute_window(casefile: Casefile, run: WindowRun) -> WindowAttribution:
     w = run.window
     steps = _split(ctx, run.half_result.completion_id, w.progress_slip, local=False)
     chain = [c for aid, d in reversed(steps) if d for c in _attribute(ctx, aid, d)]
-    conc = _concurrency(ctx, chain)
-    contributors = _take_concurrent(chain, conc) if conc.days else chain
     revision, unattributed = _revision(ctx)
+    conc = _concurrency(ctx, chain, revision)
+    if conc.days:
+        contributors, shares = _take_concurrent(chain, revision, conc)
+        revision = tuple(shares)
+    else:
+        contributors = chain
     by_party: dict[str, int] = {}
     for c in contributors:
         if c.category != CONCURRENT:
             by_party[c.party] = by_party.get(c.party, 0) + c.days
     for s in revision:
-        by_party[s.party] = by_party.get(s.party, 0) + s.days
+        if s.category != CONCURRENT:
+            by_party[s.party] = by_party.get(s.party, 0) + s.days
     if unattributed:
         by_party[UNATTRIBUTED_REVISION] = unattributed
     by_party = {k: d for k, d in by_party.items() if d}
@@ -618,6 +746,21 @@ def contributors_table(analysis: DelayAnalysis) -> Table:
         if att.unattributed_revision:
             rows.append((att.window_label, "revision", None, att.unattributed_revision, None, UNATTRIBUTED_REVISION, None))
     return Table("contributors", ("window", "effect", "activity", "days", "event", "party", "category"), tuple(rows))
+
+
+def concurrency_table(analysis: DelayAnalysis) -> Table:
+    """One row per window with concurrent days: the days, parties, events and the but-for figures."""
+    rows = []
+    for att in analysis.attributions:
+        c = att.concurrent
+        if c.days:
+            alone = " ".join(f"{p}:{d}" for p, d in sorted(c.recovered_alone.items()))
+            rows.append((att.window_label, c.days, c.parties, c.events, alone, c.recovered_together))
+    return Table(
+        "concurrency",
+        ("window", "concurrent_days", "parties", "events", "recovered_alone", "recovered_together"),
+        tuple(rows),
+    )
 
 
 LEDGER_COLUMNS = tuple(LedgerEntry.__slots__)

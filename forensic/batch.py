@@ -83,16 +83,14 @@ def run_one(path: str | os.PathLike[str], report_dir: str | None = None) -> Batc
 
 
 def _report(cf, folder: Path) -> str:
-    """Write the casefile's full report with the report module (when it is installed)."""
-    try:
-        from . import report  # noqa: F401
-    except ImportError:
-        msg = "the report module (forensic.report) is not available in this version"
-        raise ForensicError(msg) from None
-    from .report import write_report  # type: ignore[attr-defined]
+    """Write the casefile's full report (the default template) into ``folder``, atomically."""
+    from .outputs import atomic_write
+    from .report import build_report
 
-    target = folder / f"{Path(str(cf.root)).name}-report.pdf"
-    write_report(cf, target)
+    name = cf.root.name if cf.root is not None else "casefile"
+    target = folder / f"{name}-report.pdf"
+    protected = [cf.root / rel for rel in cf.inputs] if cf.root is not None else []
+    atomic_write(target, build_report(cf), protected)
     return str(target)
 
 

@@ -90,6 +90,7 @@ __all__ = [
     "EventDelay",
     "as_built",
     "as_built_table",
+    "bridge_links",
     "but_for",
     "but_for_json",
     "but_for_table",
@@ -311,8 +312,13 @@ def _held_days(casefile: Casefile, src: Snapshot, ev: Event) -> dict[str, set[da
 # --- removing delays ---------------------------------------------------------
 
 
-def _bridge(links: Sequence[Link], removed: set[str]) -> list[Link]:
-    """Delete ``removed`` activities' links, joining each predecessor to each successor through them."""
+def bridge_links(links: Sequence[Link], removed: set[str]) -> list[Link]:
+    """Delete ``removed`` activities' links, joining each predecessor to each successor through them.
+
+    The new link takes the predecessor's end of the link into the removed
+    activity and the successor's end of the link out of it, the lags added,
+    as if the removed activity took no time (see the module notes).
+    """
     current = list(links)
     for r in removed:
         ins = [lk for lk in current if lk.succ == r and lk.pred != r]
@@ -361,7 +367,7 @@ def remove_events(casefile: Casefile, built: AsBuilt, event_ids: Iterable[str]) 
             acts[aid] = replace(acts[aid], duration=max(1, acts[aid].duration - len(days)))
     for aid in drop:
         del acts[aid]
-    links = _bridge(snap.links, drop) if drop else list(snap.links)
+    links = bridge_links(snap.links, drop) if drop else list(snap.links)
     return replace(snap, activities=frozen_mapping(acts), links=tuple(links)), tuple(missing)
 
 

@@ -19,7 +19,10 @@ Decisions the format leaves open, made here:
   event's own fragnet (error): a slip there would drop the event from the
   attribution without a word.
 - Fragnets are the sub-folders of ``fragnets/``; an event names one by its
-  folder name.
+  folder name. A fragnet activity may reuse the id of a snapshot activity
+  (the same work, once a later update incorporates the change); a clash
+  with the snapshot a fragnet is inserted into is refused when it is
+  inserted (:func:`forensic.impact.insert_fragnet`), not on loading.
 - The baseline must be the first (oldest) snapshot.
 """
 
@@ -31,11 +34,20 @@ from dataclasses import dataclass
 from datetime import date, datetime
 from pathlib import Path
 
-from ._csvread import MAX_DURATION, Problems, check_year, read_table, read_text, resolve_inside
+from ._csvread import (
+    MAX_DURATION,
+    Problems,
+    check_year,
+    find_unsafe_char,
+    read_table,
+    read_text,
+    resolve_inside,
+)
 from ._records import (
     ACTIVITY_COLUMNS,
     EVENT_COLUMNS,
     LINK_COLUMNS,
+    check_fragnet_loops,
     check_loops,
     read_activities,
     read_events,
@@ -141,6 +153,9 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None)
     except tomllib.TOMLDecodeError as exc:
         problems.add(MANIFEST, None, None, None, f"not valid TOML: {exc}")
         _raise(problems)
+    except RecursionError:  # arrays or tables nested thousands deep: hostile, not a manifest
+        problems.add(MANIFEST, None, None, None, "not valid TOML: nested too deeply")
+        _raise(problems)
     m = _Manifest(doc, root, problems)
     ctx = {"calendars": tuple(m.calendars), "parties": tuple(m.parties),
            "problems": problems, "warnings": warnings, "memo": {}}
@@ -152,7 +167,7 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None)
         snapshot_ids.update(ids)
         if snap is not None:
             snapshots.append(snap)
-    fragnets = _read_fragnets(root, limits, hashes, snapshot_ids, ctx)
+    fragnets = _read_fragnets(root, limits, hashes, snapshot_ids, snapshots, ctx)
     events = ()
     if m.events_path is not None:
         rel, full = m.events_path
@@ -176,8 +191,11 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None)
 
 
 def _raise(problems: Problems):
-    cls = LimitExceeded if problems.limit_hit else CasefileError
-    raise cls(problems.items)
+    # Over a ceiling, the tables were not read whole, so other problems may
+    # only be echoes of the missing rows: report the ceilings alone.
+    if problems.limit_hit:
+        raise LimitExceeded(problems.limits)
+    raise CasefileError(problems.items)
 
 
 def _read_snapshot(spec, root: Path, limits: Limits, hashes, ctx) -> tuple[Snapshot | None, set[str]]:
@@ -215,7 +233,8 @@ def _read_snapshot(spec, root: Path, limits: Limits, hashes, ctx) -> tuple[Snaps
     return snap, ids
 
 
-def _read_fragnets(root: Path, limits: Limits, hashes, snapshot_ids: set[str], ctx) -> dict[str, Fragnet]:
+def _read_fragnets(root: Path, limits: Limits, hashes, snapshot_ids: set[str], snapshots: list[Snapshot],
+                   ctx) -> dict[str, Fragnet]:
     problems = ctx["problems"]
     folder = root / "fragnets"
     fragnets: dict[str, Fragnet] = {}
@@ -239,9 +258,10 @@ def _read_fragnets(root: Path, limits: Limits, hashes, snapshot_ids: set[str], c
             continue
         table = read_activities(rows, rel, data_date=None, calendars=ctx["calendars"],
                                 parties=ctx["parties"], problems=problems, warnings=ctx["warnings"])
-        for aid, line in table.ids.items():
-            if aid in snapshot_ids:
-                problems.add(rel, line, "id", aid, "a fragnet activity needs a new id; this one is already in a snapshot")
+        # A fragnet activity may share its id with activities of snapshots: the
+        # same work once a later update takes the change in (so but-for and
+        # windows can recognise it). Only a clash with the snapshot it is
+        # inserted into is refused, at insertion time (forensic.impact.insert_fragnet).
         lrel, lfull = found["links"]
         text = read_text(lfull, lrel, limits.max_file_bytes, problems, hashes)
         rows = None if text is None else read_table(text, lrel, *LINK_COLUMNS, limits.max_links, problems)
@@ -250,7 +270,10 @@ def _read_fragnets(root: Path, limits: Limits, hashes, snapshot_ids: set[str], c
         links = read_links(rows, lrel, known=set(table.ids) | snapshot_ids, finished=(),
                            problems=problems, warnings=ctx["warnings"],
                            unknown_hint="no activity with this id in the fragnet or in any snapshot")
+        before = len(problems)
         check_loops(list(table.ids), links, lrel, problems)
+        if len(problems) == before:
+            check_fragnet_loops(table.ids, links, snapshots, lrel, problems)
         fragnets[name] = Fragnet(name, frozen_mapping(table.activities), tuple(links),
                                  frozen_mapping({"activities": rel, "links": lrel}))
     return fragnets
@@ -322,6 +345,10 @@ class _Manifest:
             return None
         if not isinstance(value, str) or not value.strip():
             self._bad(f"{where}.{key}", value, "expected a non-empty string")
+            return None
+        unsafe = find_unsafe_char(value)
+        if unsafe is not None:
+            self._bad(f"{where}.{key}", unsafe[1], "contains a control or text-direction character; expected printable text")
             return None
         if choices is not None and value not in choices:
             self._bad(f"{where}.{key}", value, f"expected one of {', '.join(choices)}")

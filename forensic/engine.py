@@ -54,7 +54,6 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from datetime import date
 
-import networkx as nx
 import numpy as np
 
 from .calendars import _MAX_DAY, _MIN_DAY, WorkdayIndex, day_number, from_day_number, workday_index
@@ -151,6 +150,8 @@ def topological_order(ids: list[str], succs: list[list[int]], where: str = "") -
             if indeg[j] == 0:
                 ready.append(j)
     if len(order) < n:
+        import networkx as nx  # only to name the loop; imported late to keep start-up quick
+
         left = {i for i in range(n) if indeg[i] > 0}
         graph = nx.DiGraph((ids[i], ids[j]) for i in left for j in succs[i] if j in left)
         cycle = nx.find_cycle(graph)
@@ -315,6 +316,8 @@ def _levels(n: int, lp: np.ndarray, ls: np.ndarray, ids: list[str], where: str) 
             frontier = frontier[:0]
         depth += 1
     if (level < 0).any():
+        import networkx as nx  # only to name the loop
+
         left = set(np.flatnonzero(level < 0).tolist())
         graph = nx.DiGraph(
             (ids[p], ids[s]) for p, s in zip(lp.tolist(), ls.tolist(), strict=True) if p in left and s in left

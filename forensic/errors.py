@@ -18,6 +18,7 @@ __all__ = [
     "CasefileError",
     "ForensicError",
     "FragnetError",
+    "ImportMappingError",
     "InputProblem",
     "LimitExceeded",
     "LogicLoopError",
@@ -25,6 +26,7 @@ __all__ = [
     "OutputError",
     "RecoveryError",
     "ScheduleError",
+    "TemplateError",
     "WindowSpecError",
 ]
 
@@ -77,6 +79,21 @@ class CasefileError(ForensicError, ValueError):
         super().__init__(msg)
 
 
+class ImportMappingError(CasefileError):
+    """Raised when an import mapping, or the source tables it describes, cannot be read.
+
+    Each problem names the mapping file and key, or the source file (a
+    workbook sheet as ``book.xlsx[sheet]``), the row, the user's column name
+    and the value; a missing column's message lists the columns found.
+    """
+
+    def __init__(self, problems: Sequence[InputProblem]):
+        super().__init__(problems)
+        if len(self.problems) > 1:
+            listing = "\n".join(f"  {p}" for p in self.problems)
+            self.args = (f"{len(self.problems)} problems in the import:\n{listing}",)
+
+
 class LimitExceeded(CasefileError):
     """Raised when an input exceeds a configured ceiling (file size, activities, links)."""
 
@@ -116,6 +133,14 @@ class NotFoundError(ForensicError, LookupError):
 
 class OutputError(ForensicError, OSError):
     """Raised when an output cannot be written, or would overwrite a casefile input."""
+
+
+class TemplateError(ForensicError, ValueError):
+    """Raised when a report template is missing or invalid.
+
+    The message names the template file, the section (by number and kind)
+    and the key or placeholder at fault, and says what was expected.
+    """
 
 
 class WindowSpecError(ForensicError, ValueError):

@@ -74,8 +74,6 @@ from datetime import date, timedelta
 from typing import Any
 
 import numpy as np
-from scipy.optimize import Bounds, LinearConstraint, milp
-from scipy.sparse import coo_array
 
 from .calendars import WorkdayIndex, day_number, from_day_number, workday_index
 from .engine import ScheduleResult, schedule
@@ -372,6 +370,8 @@ class _Program:
                 data.append(c)
             lower.append(lb)
             upper.append(ub)
+        from scipy.sparse import coo_array  # imported here: scipy costs half a second at start-up
+
         self.A = coo_array((data, (ri, ci)), shape=(len(rows), self.n_vars)).tocsr()
         self.row_lb = np.array(lower)
         self.row_ub = np.array(upper)
@@ -391,6 +391,8 @@ class _Program:
     def _solve(self, c: np.ndarray, extra: list[tuple[np.ndarray, float]], t_ub: float) -> np.ndarray | None:
         var_ub = self.var_ub.copy()
         var_ub[self.t_var] = t_ub
+        from scipy.optimize import Bounds, LinearConstraint, milp
+
         constraints = [LinearConstraint(self.A, self.row_lb, self.row_ub)]
         for row, ub in extra:
             constraints.append(LinearConstraint(row.reshape(1, -1), -math.inf, ub))

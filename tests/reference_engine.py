@@ -10,10 +10,6 @@ with every link type, several calendars, progress and constraints.
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass
-from datetime import date
-
-import networkx as nx
 
 from forensic.calendars import (
     _MAX_DAY,
@@ -23,7 +19,8 @@ from forensic.calendars import (
     from_day_number,
     workday_index,
 )
-from forensic.errors import LogicLoopError, ScheduleError
+from forensic.engine import ScheduledActivity, ScheduleResult, topological_order
+from forensic.errors import ScheduleError
 from forensic.model import Calendar, Casefile, Project, Snapshot
 
 __all__ = [
@@ -38,89 +35,8 @@ _START_TYPES = ("SS", "SF")  # links timed from the predecessor's start
 _FINISH_ON_SUCC = ("FF", "SF")  # links that hold the successor's finish
 
 
-@dataclass(frozen=True, slots=True)
-class ScheduledActivity:
-    """The engine's result for one activity.
-
-    Dates are inclusive working days. For a finished activity the early dates
-    are its actual dates and the late dates, floats are ``None``. For an
-    activity in progress the start dates are its actual start and the finish
-    dates are those of its remaining work. Floats are whole working days of
-    the activity's own calendar.
-    """
-
-    id: str
-    status: str
-    early_start: date
-    early_finish: date
-    late_start: date | None
-    late_finish: date | None
-    total_float: int | None
-    free_float: int | None
-    critical: bool
-    driving_predecessors: tuple[str, ...]
-
-
-@dataclass(frozen=True, slots=True)
-class ScheduleResult:
-    """A scheduled snapshot.
-
-    ``completion_id`` is the completion milestone (the project's ``completion``
-    when the snapshot has it, else the activity that finishes last);
-    ``completion`` its finish date and ``completion_float`` its total float.
-    ``longest_path`` lists the activities reached back from the completion
-    through driving links, in date order. ``order`` is a topological order of
-    the activity ids.
-    """
-
-    snapshot_id: str
-    data_date: date
-    completion_id: str
-    completion: date
-    completion_float: int | None
-    activities: Mapping[str, ScheduledActivity]
-    longest_path: tuple[str, ...]
-    order: tuple[str, ...]
-    warnings: tuple[str, ...] = ()
-
-    def __getitem__(self, activity_id: str) -> ScheduledActivity:
-        return self.activities[activity_id]
-
-    @property
-    def critical_ids(self) -> tuple[str, ...]:
-        return tuple(a for a in self.order if self.activities[a].critical)
-
-
 class _HorizonTooShort(Exception):
     pass
-
-
-def topological_order(ids: list[str], succs: list[list[int]], where: str = "") -> list[int]:
-    """Kahn's algorithm over positions; a loop raises :class:`LogicLoopError` naming it.
-
-    Ties are broken by file order, so the order (and everything traced
-    through it) is deterministic.
-    """
-    n = len(ids)
-    indeg = [0] * n
-    for outs in succs:
-        for j in outs:
-            indeg[j] += 1
-    ready = [i for i in range(n - 1, -1, -1) if indeg[i] == 0]
-    order: list[int] = []
-    while ready:
-        i = ready.pop()
-        order.append(i)
-        for j in succs[i]:
-            indeg[j] -= 1
-            if indeg[j] == 0:
-                ready.append(j)
-    if len(order) < n:
-        left = {i for i in range(n) if indeg[i] > 0}
-        graph = nx.DiGraph((ids[i], ids[j]) for i in left for j in succs[i] if j in left)
-        cycle = nx.find_cycle(graph)
-        raise LogicLoopError([u for u, _ in cycle], where)
-    return order
 
 
 def _horizon(snapshot: Snapshot, pad_workdays: int) -> tuple[int, int]:

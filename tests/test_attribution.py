@@ -6,7 +6,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from forensic.attribution import analyse_delay, contributors_table, delay_json, ledger_table
-from forensic.model import Activity, Fragnet, frozen_mapping
+from forensic.model import Activity, Fragnet, Link, frozen_mapping
 
 from .delay_cases import D0, casefile, day, event, ms, snap, task
 from .test_windows import chain_case, logic_change_case, random_updates
@@ -255,4 +255,116 @@ def test_conservation_holds_with_events_and_several_parties(cf):
         assert sum(c.days for c in att.contributors) == w.progress_slip
         assert sum(att.by_party.values()) + att.concurrent.days == w.slip
         assert att.concurrent.days >= 0
+    assert an.ledger.balanced
+
+
+def revision_concurrency_case(a_left=3):
+    """A(10) -> M and B(10) -> M; at day 10 A (contractor, EV2) has ``a_left`` days left, and U01 takes in the owner's fragnet F1 (4 days) after B."""
+    bl = snap("BL", D0, [task("A", 10), task("B", 10), ms()], [("A", "M"), ("B", "M")], role="baseline")
+    u1 = snap(
+        "U01", day(10),
+        [task("A", 10, actual_start=D0, remaining=a_left), task("B", 10, actual_start=D0, actual_finish=day(9)),
+         task("F1", 4, party="OWN"), ms()],
+        [("A", "M"), ("B", "F1"), ("F1", "M")],
+    )
+    frag = Fragnet("EV1", frozen_mapping({"F1": Activity("F1", "owner's change", 4, party="OWN")}), ())
+    evs = [
+        event("EV1", "OWN", "excusable-compensable", day(8), day(13), ["F1"], fragnet="EV1"),
+        event("EV2", "CON", "non-excusable", day(2), day(9), ["A"]),
+    ]
+    return casefile([bl, u1], evs, fragnets={"EV1": frag})
+
+
+def test_concurrency_of_an_owner_revision_and_a_contractor_progress_delay():
+    """Owner's fragnet (revision, +4) and contractor's slow A (progress, +3) on parallel paths: 3 concurrent, 1 owner (SCL core principle 10; worked by hand)."""
+    an = analyse_delay(revision_concurrency_case())
+    w, att = an.windows.windows[0], an.attributions[0]
+    # BL: M on day 9. Half-step: A days 10-12, M day 12 (progress 3). U01: F1 days 10-13, M day 13 (revision 1).
+    assert (w.slip, w.progress_slip, w.revision_slip) == (4, 3, 1)
+    # Without EV2 alone the owner's F1 still holds M to day 13; without EV1 alone A holds it to day 12.
+    assert dict(att.concurrent.recovered_alone) == {"CON": 0, "OWN": 1}
+    assert att.concurrent.recovered_together == 4
+    assert (att.concurrent.days, att.concurrent.parties, att.concurrent.events) == (3, ("CON", "OWN"), ("EV1", "EV2"))
+    assert dict(att.by_party) == {"OWN": 1}
+    assert [(c.activity, c.days, c.category) for c in att.contributors] == [("A", 3, "concurrent")]
+    assert [(s.event, s.days, s.category) for s in att.revision] == [("EV1", 1, "excusable-compensable")]
+    assert an.ledger.total.concurrent == 3 and an.ledger.total.excusable_compensable == 1
+    assert an.ledger.balanced
+
+
+def test_owner_revision_longer_than_a_parallel_contractor_delay_keeps_its_excess():
+    """A only 1 day late inside the owner's 4-day fragnet delay: 1 concurrent day, the owner keeps the 3 only it explains (worked by hand)."""
+    att = analyse_delay(revision_concurrency_case(a_left=1)).attributions[0]
+    # Half-step: A day 10, M day 10 (progress 1); U01: M day 13 (revision 3). R(OWN) = 3, R(CON) = 0, R(all) = 4.
+    assert dict(att.concurrent.recovered_alone) == {"CON": 0, "OWN": 3}
+    assert att.concurrent.days == 1
+    assert dict(att.by_party) == {"OWN": 3}
+    assert [(c.activity, c.days, c.category) for c in att.contributors] == [("A", 1, "concurrent")]
+
+
+def replan_case(with_event=True):
+    """A(10) -> B(5) -> M; U01 at day 10: A finished on time, the contractor re-plans B to 8 days."""
+    links = [("A", "B"), ("B", "M")]
+    bl = snap("BL", D0, [task("A", 10), task("B", 5), ms()], links, role="baseline")
+    u1 = snap("U01", day(10), [task("A", 10, actual_start=D0, actual_finish=day(9)), task("B", 8), ms()], links)
+    evs = [event("EV3", "CON", "non-excusable", day(8), day(12), ["B"])] if with_event else []
+    return casefile([bl, u1], evs)
+
+
+def test_contractor_replan_event_takes_the_duration_revision():
+    """B re-planned 5 -> 8 days: the 3 revision days go to the contractor's re-plan event EV3, not to unattributed revision."""
+    att = analyse_delay(replan_case()).attributions[0]
+    # BL: B days 10-14; U01: B days 10-17: revision slip 3 (worked by hand).
+    assert [(s.event, s.days, s.party, s.activities) for s in att.revision] == [("EV3", 3, "CON", ("B",))]
+    assert att.unattributed_revision == 0
+    assert dict(att.by_party) == {"CON": 3}
+    assert analyse_delay(replan_case(with_event=False)).attributions[0].unattributed_revision == 3
+
+
+def test_weekend_after_a_delay_belongs_to_the_delay():
+    """5-day calendar: A loses 1 working day, so B (not started) slips over the weekend: all 3 calendar days go to A's event."""
+    bl = snap("BL", D0, [task("A", 4), task("B", 1), ms()], [("A", "B"), ("B", "M")], role="baseline")
+    u1 = snap(
+        "U01", day(2),
+        [task("A", 4, actual_start=D0, remaining=3), task("B", 1), ms()],
+        [("A", "B"), ("B", "M")],
+    )
+    cf = casefile([bl, u1], [event("EV2", "CON", "non-excusable", D0, day(3), ["A"])], cal="5d")
+    att = analyse_delay(cf).attributions[0]
+    # BL: A Mon 5 - Thu 8 Jan, B Fri 9 Jan. U01 (data date Wed 7): A 7-9 Jan (v = 1), B Mon 12 Jan (v = 3).
+    assert analyse_delay(cf).windows.windows[0].slip == 3
+    assert contributors(att) == [("A", 3, "EV2", "CON", "non-excusable")]
+
+
+@st.composite
+def revising_parties(draw):
+    """Mixed parties plus a contractor re-plan event on some tasks and, sometimes, an owner fragnet added by the later update."""
+    cf = draw(mixed_parties())
+    bl, u1 = cf.snapshots
+    named = draw(st.lists(st.sampled_from([a for a in u1.activities if a != "M"]), min_size=1, max_size=4, unique=True))
+    evs = [*cf.events, event("E3", "CON", "non-excusable", day(0), day(20), named)]
+    fragnets = {}
+    if draw(st.booleans()):
+        first = next(iter(u1.activities))
+        f1 = Activity("F1", "owner's change", draw(st.integers(1, 8)), party="OWN")
+        acts = {**u1.activities, "F1": f1}
+        links = (*u1.links, Link(first, "F1"), Link("F1", "M"))
+        u1 = replace(u1, activities=frozen_mapping(acts), links=links)
+        fragnets["E4"] = Fragnet("E4", frozen_mapping({"F1": f1}), ())
+        evs.append(event("E4", "OWN", "excusable-compensable", day(1), day(6), [], fragnet="E4"))
+    return replace(cf, snapshots=(bl, u1), events=tuple(evs), fragnets=frozen_mapping(fragnets))
+
+
+@settings(max_examples=60, deadline=None)
+@given(revising_parties())
+def test_conservation_holds_with_revision_events_and_whole_window_concurrency(cf):
+    """Conservation with re-plan and fragnet events: every sum exact, concurrent days only of involved parties, within the slip's positive shares."""
+    an = analyse_delay(cf)
+    for w, att in zip(an.windows.windows, an.attributions, strict=True):
+        assert sum(c.days for c in att.contributors) == w.progress_slip
+        assert sum(s.days for s in att.revision) + att.unattributed_revision == w.revision_slip
+        assert sum(att.by_party.values()) + att.concurrent.days == w.slip
+        conc = [x for x in (*att.contributors, *att.revision) if x.category == "concurrent"]
+        assert sum(x.days for x in conc) == att.concurrent.days >= 0
+        assert all(x.party in att.concurrent.parties and x.days > 0 for x in conc)
     assert an.ledger.balanced

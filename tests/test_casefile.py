@@ -15,7 +15,8 @@ from datetime import date
 import pytest
 
 from forensic.casefile import Limits, load_casefile
-from forensic.errors import CasefileError, LimitExceeded
+from forensic.errors import CasefileError, FragnetError, LimitExceeded
+from forensic.impact import insert_fragnet
 from tests.casefile_helpers import FILES, edit, find_problem, refused, write_casefile
 
 BL_ACT = "snapshots/BL/activities.csv"
@@ -234,7 +235,8 @@ def test_missing_file_is_refused(root):
 
 
 @pytest.mark.parametrize(("data", "line", "value", "says"), [
-    ("id,name\n".encode("utf-16"), None, None, "UTF-16"),  # with its BOM (Python codecs)
+    ("id,name\n".encode("utf-16-le"), 1, "byte 1", "NUL byte"),  # no BOM: NULs (Python codecs)
+    ("id,name\n".encode("utf-16"), 1, "0xfffe at byte 0", "UTF-16"),  # little-endian BOM (Python codecs)
     (b"id,name,duration\nA1,Dig\x00,3\n", 2, "byte 23", "NUL byte"),
     (b"id,name,duration\nA1,D\xe9blai,3\n", 2, "0xe9 at byte 21", "not UTF-8"),  # Latin-1 e-acute
 ])
@@ -397,13 +399,23 @@ def test_event_problem_names_file_line_column_and_value(root, row, key, value, s
     find_problem(refused(root), "events.csv", line=line, key=key, value=value, says=says)
 
 
-def test_fragnet_activity_colliding_with_a_snapshot_id_is_refused(root):
-    """A fragnet adds new activities; reusing a snapshot id is refused (AACE RP 52R-06: fragnet = new work)."""
-    edit(root, FRAG_ACT, "F10,", "A120,")
-    edit(root, FRAG_LINKS, "F10,A120", "A120,M900")
-    edit(root, FRAG_LINKS, "A110,F10", "A110,A120")
-    edit(root, "events.csv", "A120 F10", "A120")
-    find_problem(refused(root), FRAG_ACT, line=2, key="id", value="A120", says="already in a snapshot")
+def test_fragnet_activity_sharing_an_id_with_a_later_update_loads(root):
+    """A fragnet may reuse the id its work takes once an update incorporates it (casefiles/README.md)."""
+    # U01 has taken the pump-out (F10) into its programme; the fragnet keeps the same id.
+    edit(root, U01_ACT, "M900,Station complete", "F10,Pump out flooded pit,task,2,,,,,,,CON,,,,\nM900,Station complete")
+    cf = load_casefile(root)
+    assert "F10" in cf.fragnets["EV02"].activities and "F10" in cf.snapshot("U01").activities
+
+
+def test_fragnet_sharing_an_id_is_refused_only_when_inserted_into_that_snapshot(root):
+    """The clash is refused at insertion, naming the id (AACE RP 52R-06: a fragnet adds new work)."""
+    edit(root, U01_ACT, "M900,Station complete", "F10,Pump out flooded pit,task,2,,,,,,,CON,,,,\nM900,Station complete")
+    cf = load_casefile(root)
+    frag = cf.fragnets["EV02"]
+    into_bl, _ = insert_fragnet(cf.snapshot("BL"), frag)
+    assert "F10" in into_bl.activities
+    with pytest.raises(FragnetError, match="F10"):
+        insert_fragnet(cf.snapshot("U01"), frag)
 
 
 def test_fragnet_link_to_an_id_found_nowhere_is_refused(root):

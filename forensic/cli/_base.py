@@ -7,6 +7,7 @@ import os
 import click
 
 from .. import __version__
+from ..casefile import Limits
 from ..errors import ForensicError
 
 __all__ = ["main"]
@@ -35,9 +36,23 @@ class _Group(click.Group):
             raise click.ClickException(msg) from None
 
 
+_DEFAULT = Limits()
+_MB = 1024 * 1024
+
+
 @click.group(cls=_Group, context_settings={"help_option_names": ["-h", "--help"], "max_content_width": 100})
 @click.version_option(__version__, prog_name="forensic")
-def main() -> None:
+@click.option("--max-activities", type=click.IntRange(min=1), default=_DEFAULT.max_activities,
+              envvar="FORENSIC_MAX_ACTIVITIES", show_default=True, show_envvar=True,
+              help="Most activities read from one snapshot or fragnet table.")
+@click.option("--max-links", type=click.IntRange(min=1), default=_DEFAULT.max_links,
+              envvar="FORENSIC_MAX_LINKS", show_default=True, show_envvar=True,
+              help="Most links read from one snapshot or fragnet table.")
+@click.option("--max-file-mb", type=click.IntRange(min=1), default=_DEFAULT.max_file_bytes // _MB,
+              envvar="FORENSIC_MAX_FILE_MB", show_default=True, show_envvar=True,
+              help="Largest casefile file read, in MiB (checked before it is read).")
+@click.pass_context
+def main(ctx: click.Context, max_activities: int, max_links: int, max_file_mb: int) -> None:
     """Delay and forensic schedule analysis from a casefile folder.
 
     A casefile holds the baseline programme, the monthly updates, calendars,
@@ -47,4 +62,11 @@ def main() -> None:
     The results support, and do not replace, the judgement of a qualified
     scheduling professional; entitlement depends on the contract and the
     applicable law.
+
+    The --max-* options (or their environment variables) set the ceilings
+    on what any command loads, so a hostile casefile cannot exhaust memory;
+    see docs/robustness.md.
+
+    Example: forensic --max-activities 5000 check casefiles/riverside
     """
+    ctx.obj = Limits(max_file_bytes=max_file_mb * _MB, max_activities=max_activities, max_links=max_links)

@@ -11,7 +11,7 @@ import click
 from ..model import Casefile
 from ..outputs import atomic_write
 
-__all__ = ["casefile_argument", "emit", "format_options", "load", "pick_format"]
+__all__ = ["casefile_argument", "emit", "emit_xlsx", "format_options", "load", "pick_format", "xlsx_option"]
 
 
 def casefile_argument(func: Callable) -> Callable:
@@ -19,15 +19,66 @@ def casefile_argument(func: Callable) -> Callable:
     return click.argument("casefile", metavar="CASEFILE", type=click.Path(path_type=Path))(func)
 
 
-def format_options(func: Callable) -> Callable:
-    """``--json`` and ``--csv``: machine-readable output instead of the readable text."""
+_OUT = "forensic.out"
+_CASEFILE = "forensic.casefile"
+_XLSX_KEY = "forensic.xlsx"
 
-    @click.option("--json", "as_json", is_flag=True, help="Print JSON (keys documented in README.md).")
+
+def _remember_xlsx(ctx: click.Context, _param, value):
+    if value is not None:
+        ctx.meta[_XLSX_KEY] = value
+    return value
+
+
+def xlsx_option(func: Callable) -> Callable:
+    """``--xlsx FILE``: also write the command's tables to one formatted workbook.
+
+    The option is not passed to the command; the command hands its tables
+    to :func:`emit_xlsx`, which writes them only when the option was given.
+    """
+    return click.option(
+        "--xlsx", type=click.Path(path_type=Path, dir_okay=False), metavar="FILE", expose_value=False,
+        callback=_remember_xlsx, help="Also write the tables to FILE, a workbook with a sheet per table.",
+    )(func)
+
+
+def emit_xlsx(tables, casefile: Casefile | None = None) -> None:
+    """Write ``tables`` to the ``--xlsx`` workbook when one was asked for (atomically, never over an input)."""
+    ctx = click.get_current_context(silent=True)
+    out = None if ctx is None else ctx.meta.get(_XLSX_KEY)
+    if out is None:
+        return
+    casefile = casefile if casefile is not None else ctx.meta.get(_CASEFILE)
+    from ..export import to_xlsx
+
+    protected = []
+    if casefile is not None and casefile.root is not None:
+        protected = [casefile.root / rel for rel in casefile.inputs]
+    atomic_write(out, to_xlsx(list(tables)), protected)
+    click.echo(f"wrote {out}", err=True)
+
+
+def format_options(func: Callable) -> Callable:
+    """``--json``, ``--csv`` (machine-readable output instead of the text), ``--out FILE`` and ``--xlsx FILE``.
+
+    ``--out FILE`` writes the JSON or CSV atomically to FILE instead of
+    printing it (never over a file of the casefile); it needs ``--json`` or
+    ``--csv``.
+    """
+
+    @xlsx_option
+    @click.option("--json", "as_json", is_flag=True, help="Print JSON (stable keys, documented in README.md and docs/).")
     @click.option("--csv", "as_csv", is_flag=True, help="Print CSV (one table).")
+    @click.option("--out", type=click.Path(dir_okay=False, path_type=Path), metavar="FILE",
+                  help="Write the JSON or CSV to FILE (atomically; never over a casefile file).")
     @functools.wraps(func)
     def wrapper(*args, **kwargs):
+        out = kwargs.pop("out")
         if kwargs.get("as_json") and kwargs.get("as_csv"):
             raise click.UsageError("choose one of --json and --csv")
+        if out is not None and not (kwargs.get("as_json") or kwargs.get("as_csv")):
+            raise click.UsageError("--out writes JSON or CSV: add --json or --csv")
+        click.get_current_context().meta[_OUT] = out
         return func(*args, **kwargs)
 
     return wrapper
@@ -37,15 +88,47 @@ def pick_format(as_json: bool, as_csv: bool) -> str:
     return "json" if as_json else "csv" if as_csv else "text"
 
 
-def load(path: Path) -> Casefile:
-    """Load and validate a casefile; its errors reach the user as ``Error: ...``."""
-    from ..casefile import load_casefile
+def _limit_hint(problem) -> str:
+    """The option (and environment variable) that raises the ceiling a problem hit."""
+    if "bytes" in problem.message:
+        return "--max-file-mb or FORENSIC_MAX_FILE_MB"
+    if problem.file.endswith("links.csv"):
+        return "--max-links or FORENSIC_MAX_LINKS"
+    return "--max-activities or FORENSIC_MAX_ACTIVITIES"  # activities and events rows
 
-    return load_casefile(path)
+
+def load(path: Path) -> Casefile:
+    """Load and validate a casefile within the group's ``--max-*`` limits.
+
+    Its errors reach the user as ``Error: ...``; an over-limit error says
+    which option raises the ceiling. The casefile is remembered so that
+    :func:`emit` never writes over one of its files.
+    """
+    from ..casefile import Limits, load_casefile
+    from ..errors import LimitExceeded
+
+    ctx = click.get_current_context(silent=True)
+    limits = ctx.find_object(Limits) if ctx is not None else None
+    try:
+        cf = load_casefile(path, limits=limits)
+    except LimitExceeded as exc:
+        hints = sorted({_limit_hint(p) for p in exc.problems if "limit" in p.message})
+        raise click.ClickException(f"{exc}\n(raise the limit with {' / '.join(hints)} if the file is genuine)") from None
+    if ctx is not None:
+        ctx.meta[_CASEFILE] = cf
+    return cf
 
 
 def emit(text: str, out: Path | None = None, casefile: Casefile | None = None) -> None:
-    """Print ``text``, or write it atomically to ``out`` (never over a casefile input)."""
+    """Print ``text``, or write it atomically to ``out`` (never over a casefile input).
+
+    ``out`` and ``casefile`` default to the command's ``--out`` and the
+    casefile it loaded.
+    """
+    ctx = click.get_current_context(silent=True)
+    if ctx is not None:
+        out = out if out is not None else ctx.meta.get(_OUT)
+        casefile = casefile if casefile is not None else ctx.meta.get(_CASEFILE)
     if out is None:
         click.echo(text, nl=False)
         return

@@ -1,4 +1,4 @@
-"""``forensic check``: load and validate a casefile."""
+"""``forensic check``: load and validate a casefile; with ``--quality``, the quality scorecard."""
 
 from __future__ import annotations
 
@@ -6,25 +6,47 @@ from pathlib import Path
 
 import click
 
+from ..model import Casefile
+from ..quality import QualityCheck, assess_casefile, quality_json, quality_table
 from ..tables import Table, dumps_json, to_csv, to_text
 from ..validation import validate_casefile
 from ._base import main
-from ._common import casefile_argument, emit, format_options, load, pick_format
+from ._common import casefile_argument, emit, emit_xlsx, format_options, load, pick_format
 
 
 @main.command()
 @casefile_argument
+@click.option("--quality", is_flag=True,
+              help="Score each snapshot: the DCMA 14-point assessment and practitioners' checks.")
+@click.option("--snapshot", "snapshot_ids", metavar="ID", multiple=True,
+              help="With --quality: only this snapshot (repeat for more; default: all).")
 @format_options
-def check(casefile: Path, as_json: bool, as_csv: bool) -> None:
+def check(casefile: Path, quality: bool, snapshot_ids: tuple[str, ...], as_json: bool, as_csv: bool) -> None:
     """Load and validate every snapshot of CASEFILE.
 
     Exit status 1 with one message per problem when the casefile is invalid;
     warnings (open ends, links with no effect) are listed and do not fail it.
 
-    Example: forensic check casefiles/riverside
+    With --quality, print a scorecard per snapshot instead: the DCMA 14-point
+    assessment (DCMA-EA PAM 200.1, October 2012) with its thresholds, and
+    practitioners' checks (open ends, out-of-sequence progress, ...). Each
+    check shows its count, denominator, threshold, result and the failing
+    activities. A failed check is a finding to review, not a verdict.
+
+    Examples:
+
+      forensic check casefiles/riverside
+
+      forensic check casefiles/riverside --quality --snapshot U02 --json
 
     """
     cf = load(casefile)
+    fmt = pick_format(as_json, as_csv)
+    if quality:
+        _quality(cf, snapshot_ids, fmt)
+        return
+    if snapshot_ids:
+        raise click.UsageError("--snapshot needs --quality")
     result = validate_casefile(cf)
     table = Table(
         "snapshots",
@@ -34,7 +56,7 @@ def check(casefile: Path, as_json: bool, as_csv: bool) -> None:
             for s in result.snapshots
         ),
     )
-    fmt = pick_format(as_json, as_csv)
+    emit_xlsx([table], cf)
     if fmt == "json":
         emit(dumps_json({"valid": True, "snapshots": table.records(), "warnings": list(result.warnings)}))
         return
@@ -47,3 +69,49 @@ def check(casefile: Path, as_json: bool, as_csv: bool) -> None:
         click.echo(f"{len(result.warnings)} warning(s):", err=True)
         for w in result.warnings:
             click.echo(f"  warning: {w}", err=True)
+
+
+def _limit(c: QualityCheck) -> str:
+    if not c.comparison:
+        return ""
+    unit = "%" if c.unit == "percent" else "" if c.unit == "index" else " wd"
+    limit = f"{c.limit:g}"
+    return f"{c.comparison} {limit}{unit}"
+
+
+def _shown(c: QualityCheck) -> str:
+    if c.value is None:
+        return ""
+    return f"{c.value:g}%" if c.unit == "percent" else f"{c.value:g}"
+
+
+def _quality(cf: Casefile, snapshot_ids: tuple[str, ...], fmt: str) -> None:
+    reports = assess_casefile(cf, snapshot_ids or None)
+    emit_xlsx([quality_table(reports)], cf)
+    if fmt == "json":
+        emit(dumps_json(quality_json(reports)))
+        return
+    if fmt == "csv":
+        emit(to_csv(quality_table(reports)))
+        return
+    click.echo(f"{cf.project.name}: schedule quality (DCMA-EA PAM 200.1, Oct 2012; practitioners' checks)")
+    for r in reports:
+        n_fail = len(r.failed)
+        click.echo(
+            f"\nSnapshot {r.snapshot_id}, data date {r.data_date.isoformat()}: {r.incomplete_tasks} "
+            f"incomplete tasks, {n_fail} check(s) failed (baseline {r.baseline_id})"
+        )
+        rows = tuple(
+            (c.number if c.number is not None else "-", c.key, c.count, c.denominator, _shown(c), _limit(c),
+             c.status, " ".join(c.activities[:6]) + (" …" if len(c.activities) > 6 else ""))
+            for c in r.checks
+        )
+        table = Table("quality", ("no.", "check", "count", "of", "value", "threshold", "result", "activities"), rows)
+        emit(to_text(table, max_width=48))
+        for c in r.checks:
+            if c.number in (12, 13) and c.note:
+                click.echo(f"  {c.number}: {c.note}")
+    click.echo(
+        "\nThresholds of points 1-14 are DCMA-EA PAM 200.1's; the others are common practice. "
+        "The scorecard supports, and does not replace, a scheduling professional's review."
+    )

@@ -8,6 +8,8 @@ import click
 
 from ..demo import copy_demo
 from ..engine import schedule_snapshot
+from ..outputs import atomic_write
+from ..report import DEFAULT_TEMPLATE, build_report
 from ..validation import validate_casefile
 from ._base import main
 from ._common import load
@@ -22,7 +24,7 @@ from ._common import load
     help="Folder to copy the demo casefile into.",
 )
 def demo(out: Path) -> None:
-    """Copy the demo casefile to a folder and run the main job on it.
+    """Copy the demo casefile to a folder, run the main job on it and write its report.
 
     Nothing is written inside the installed package; the copy is yours to
     read, change and re-run.
@@ -43,4 +45,8 @@ def demo(out: Path) -> None:
         f"{last.completion.isoformat()}, {(last.completion - base.completion).days} calendar days later."
     )
     click.echo("Longest path now: " + " -> ".join(last.longest_path))
+    report = out / f"{folder.name}-{DEFAULT_TEMPLATE}.pdf"
+    pdf = build_report(cf, DEFAULT_TEMPLATE, command=f"forensic report {folder.name} --template {DEFAULT_TEMPLATE}")
+    atomic_write(report, pdf, [folder / rel for rel in cf.inputs])
+    click.echo(f"Report written to {report}")
     click.echo(f"Next: forensic schedule {folder} --snapshot {last.snapshot_id}")

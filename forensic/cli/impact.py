@@ -17,9 +17,9 @@ from ..impact import (
     time_impact,
     time_impacts,
 )
-from ..tables import dumps_json, to_text
+from ..tables import Table, dumps_json, to_csv, to_text
 from ._base import main
-from ._common import casefile_argument, emit, load
+from ._common import casefile_argument, emit, emit_xlsx, load, xlsx_option
 
 _PROGRESS_NOTE = (
     "Progress to the event's start is assumed as planned in the unimpacted schedule "
@@ -60,6 +60,8 @@ def _warn(warnings) -> None:
 @click.option("--progress-to-event", is_flag=True,
               help="First bring the unimpacted schedule to the event's start, as planned.")
 @click.option("--json", "as_json", is_flag=True, help="Print JSON (keys in docs/impact-and-butfor.md).")
+@click.option("--csv", "as_csv", is_flag=True, help="Print the milestone table (or the series with --cumulative) as CSV.")
+@xlsx_option
 def impact_command(
     casefile: Path,
     events: tuple[str, ...],
@@ -68,6 +70,7 @@ def impact_command(
     cumulative: bool,
     progress_to_event: bool,
     as_json: bool,
+    as_csv: bool,
 ) -> None:
     """Time impact analysis: insert an event's fragnet and reschedule (AACE RP 52R-06).
 
@@ -84,13 +87,19 @@ def impact_command(
         raise click.UsageError("give --event ID (one or more) or --all")
     if events and all_events:
         raise click.UsageError("choose --event or --all, not both")
+    if as_json and as_csv:
+        raise click.UsageError("choose one of --json and --csv")
     cf = load(casefile)
     ids = list(events) if events else None
     if cumulative:
         series = time_impacts(cf, ids, into=into, progress_to_event=progress_to_event)
         _warn(w for r in series.individual for w in r.warnings)
+        emit_xlsx([series_table(series)], cf)
         if as_json:
             emit(dumps_json(series_json(series)))
+            return
+        if as_csv:
+            emit(to_csv(series_table(series)))
             return
         c = series.cumulative
         click.echo(f"{cf.project.name}: {len(series.individual)} events, impacts in {series.unit}")
@@ -109,11 +118,17 @@ def impact_command(
             raise click.ClickException("no event with a fragnet or with activities it hit")
     results = [time_impact(cf, e, into=into, progress_to_event=progress_to_event) for e in ids]
     _warn(w for r in results for w in r.warnings)
+    emit_xlsx([t for r in results for t in (milestones_table(r), float_table(r))], cf)
     if as_json:
         if len(results) == 1 and not all_events:
             emit(dumps_json(impact_json(results[0])))
         else:
             emit(dumps_json([impact_json(r) for r in results]))
+        return
+    if as_csv:
+        tables = [milestones_table(r) for r in results]
+        rows = tuple((r.event, r.into, *row) for r, t in zip(results, tables, strict=True) for row in t.rows)
+        emit(to_csv(Table("impact-milestones", ("event", "into", *tables[0].columns), rows)))
         return
     click.echo("\n".join(_impact_text(r) for r in results), nl=False)
 
@@ -124,7 +139,11 @@ def impact_command(
 @click.option("--event", metavar="ID", help="Remove this one event.")
 @click.option("--snapshot", "snapshot_id", metavar="ID", help="Build the as-built from this snapshot (default: the last).")
 @click.option("--json", "as_json", is_flag=True, help="Print JSON (keys in docs/impact-and-butfor.md).")
-def but_for_command(casefile: Path, party: str | None, event: str | None, snapshot_id: str | None, as_json: bool) -> None:
+@click.option("--csv", "as_csv", is_flag=True, help="Print the but-for cases as CSV.")
+@xlsx_option
+def but_for_command(
+    casefile: Path, party: str | None, event: str | None, snapshot_id: str | None, as_json: bool, as_csv: bool
+) -> None:
     """But-for analysis: collapse the as-built schedule (AACE RP 29R-03, MIP 3.8).
 
     Builds the as-built schedule from the last update, takes out one party's
@@ -137,11 +156,17 @@ def but_for_command(casefile: Path, party: str | None, event: str | None, snapsh
     """
     if party and event:
         raise click.UsageError("choose --party or --event, not both")
+    if as_json and as_csv:
+        raise click.UsageError("choose one of --json and --csv")
     cf = load(casefile)
     report = but_for(cf, party=party, event=event, snapshot_id=snapshot_id)
     _warn(report.as_built.warnings)
+    emit_xlsx([but_for_table(report), as_built_table(report)], cf)
     if as_json:
         emit(dumps_json(but_for_json(report)))
+        return
+    if as_csv:
+        emit(to_csv(but_for_table(report)))
         return
     b = report.as_built
     click.echo(f"{cf.project.name}: as-built from {b.source}, completion {b.completion.isoformat()}")

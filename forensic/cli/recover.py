@@ -8,9 +8,9 @@ from pathlib import Path
 import click
 
 from ..recovery import OBJECTIVES, recover, recovery_curve_table, recovery_json, recovery_plan_table
-from ..tables import dumps_json, to_text
+from ..tables import dumps_json, to_csv, to_text
 from ._base import main
-from ._common import casefile_argument, emit, load
+from ._common import casefile_argument, emit, emit_xlsx, load, xlsx_option
 
 
 @main.command("recover")
@@ -23,8 +23,10 @@ from ._common import casefile_argument, emit, load
 @click.option("--objective", type=click.Choice(OBJECTIVES), default="cost", show_default=True,
               help="cost: least total cost; count: fewest activities shortened, then least cost.")
 @click.option("--json", "as_json", is_flag=True, help="Print JSON (keys documented in docs/recovery.md).")
+@click.option("--csv", "as_csv", is_flag=True, help="Print the plan (activities shortened) as CSV.")
+@xlsx_option
 def recover_command(
-    casefile: Path, snapshot_id: str, target, days: int | None, objective: str, as_json: bool
+    casefile: Path, snapshot_id: str, target, days: int | None, objective: str, as_json: bool, as_csv: bool
 ) -> None:
     """Plan the cheapest way to win back days on a snapshot of CASEFILE.
 
@@ -39,11 +41,17 @@ def recover_command(
     """
     if (target is None) == (days is None):
         raise click.UsageError("give one of --target DATE and --days N")
+    if as_json and as_csv:
+        raise click.UsageError("choose one of --json and --csv")
     cf = load(casefile)
     wanted: date | None = target.date() if target is not None else None
     result = recover(cf, snapshot_id, target=wanted, days=days, objective=objective)
+    emit_xlsx([recovery_plan_table(result), recovery_curve_table(result)], cf)
     if as_json:
         emit(dumps_json(recovery_json(result)))
+        return
+    if as_csv:
+        emit(to_csv(recovery_plan_table(result)))
         return
     plan = result.plan
     click.echo(f"{cf.project.name}: snapshot {result.snapshot_id}, data date {result.data_date.isoformat()}")

@@ -9,7 +9,7 @@ import click
 from ..engine import schedule_snapshot
 from ..tables import dumps_json, schedule_json, schedule_table, to_csv, to_text
 from ._base import main
-from ._common import casefile_argument, emit, format_options, load, pick_format
+from ._common import casefile_argument, emit, emit_xlsx, format_options, load, pick_format
 
 
 @main.command("schedule")
@@ -25,15 +25,18 @@ def schedule_command(casefile: Path, snapshot_id: str | None, as_json: bool, as_
 
     Example: forensic schedule casefiles/riverside --snapshot U03 --json
 
+    Example: forensic schedule casefiles/riverside --xlsx u10.xlsx
+
     """
     cf = load(casefile)
     snap = cf.snapshot(snapshot_id) if snapshot_id else cf.snapshots[-1]
     result = schedule_snapshot(cf, snap.id)
+    table = schedule_table(result, snap)
+    emit_xlsx([table], cf)
     fmt = pick_format(as_json, as_csv)
     if fmt == "json":
         emit(dumps_json(schedule_json(result)))
         return
-    table = schedule_table(result, snap)
     if fmt == "csv":
         emit(to_csv(table))
         return

@@ -7,11 +7,18 @@ from pathlib import Path
 import click
 
 from ..asbuilt import as_planned_vs_as_built, asbuilt_table
-from ..attribution import analyse_delay, contributors_table, delay_json, ledger_table
+from ..attribution import (
+    CONCURRENCY_RULE,
+    analyse_delay,
+    concurrency_table,
+    contributors_table,
+    delay_json,
+    ledger_table,
+)
 from ..tables import dumps_json, to_csv, to_text
 from ..windows import windows_table
 from ._base import main
-from ._common import casefile_argument, emit, format_options, load, pick_format
+from ._common import casefile_argument, emit, emit_xlsx, format_options, load, pick_format
 
 _TABLES = ("windows", "contributors", "ledger", "cumulative", "as-built")
 
@@ -40,10 +47,6 @@ def windows_command(casefile: Path, bounds: str | None, table: str, as_json: boo
     cf = load(casefile)
     ids = [s.strip() for s in bounds.split(",") if s.strip()] if bounds else None
     an = analyse_delay(cf, ids)
-    fmt = pick_format(as_json, as_csv)
-    if fmt == "json":
-        emit(dumps_json(delay_json(an)))
-        return
     tables = {
         "windows": lambda: windows_table(an.windows),
         "contributors": lambda: contributors_table(an),
@@ -51,6 +54,11 @@ def windows_command(casefile: Path, bounds: str | None, table: str, as_json: boo
         "cumulative": lambda: ledger_table(an, cumulative=True),
         "as-built": lambda: asbuilt_table(as_planned_vs_as_built(cf)),
     }
+    emit_xlsx((make() for make in tables.values()), cf)
+    fmt = pick_format(as_json, as_csv)
+    if fmt == "json":
+        emit(dumps_json(delay_json(an)))
+        return
     if fmt == "csv":
         emit(to_csv(tables[table]()))
         return
@@ -63,6 +71,13 @@ def windows_command(casefile: Path, bounds: str | None, table: str, as_json: boo
     emit(to_text(tables["windows"]()))
     click.echo("\nContributors (progress) and revision shares:")
     emit(to_text(tables["contributors"]()))
+    conc = concurrency_table(an)
+    click.echo("\nConcurrency (but-for in each window):")
+    if conc.rows:
+        emit(to_text(conc))
+    else:
+        click.echo("no concurrent days in any window")
+    click.echo(f"Rule: {CONCURRENCY_RULE}.")
     click.echo("\nLedger per window:")
     emit(to_text(tables["ledger"]()))
     click.echo("\nLedger cumulative:")

@@ -1,0 +1,60 @@
+"""``forensic export``: every table of a casefile to a workbook, a CSV folder and/or JSON."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from ..export import casefile_tables, tables_json, to_xlsx, write_csv_dir
+from ..outputs import atomic_write
+from ._base import main
+from ._common import casefile_argument, load
+
+
+@main.command("export")
+@casefile_argument
+@click.option("--xlsx", type=click.Path(path_type=Path, dir_okay=False), metavar="FILE",
+              help="One formatted workbook with a sheet per table.")
+@click.option("--csv-dir", type=click.Path(path_type=Path, file_okay=False), metavar="DIR",
+              help="A folder with one CSV file per table (created if needed).")
+@click.option("--json", "json_file", type=click.Path(path_type=Path, dir_okay=False), metavar="FILE",
+              help="One JSON file with every table (keys in docs/import-export.md).")
+@click.option("--recover-days", type=click.IntRange(min=1), metavar="N",
+              help="Also plan a recovery of N days (the project's delay unit) and export the plan.")
+@click.option("--recover-snapshot", metavar="ID", help="Snapshot for --recover-days (default: the latest).")
+@click.option("--no-inputs", is_flag=True, help="Leave out the input tables (activities, links, events, fragnets).")
+def export_command(casefile: Path, xlsx: Path | None, csv_dir: Path | None, json_file: Path | None,
+                   recover_days: int | None, recover_snapshot: str | None, no_inputs: bool) -> None:
+    """Run every analysis on CASEFILE and write all their tables.
+
+    Tables: the inputs (activities and links per snapshot, events,
+    fragnets), the schedule of each snapshot, the quality scorecard, the
+    comparison of each update with the one before, windows, contributors, the
+    ledger, as-planned vs as-built, the time impact of each event, but-for,
+    and a recovery plan with --recover-days. Analyses that cannot run on this
+    casefile are listed and skipped. Text cells are neutralised against
+    formula injection; workbook dates are date cells.
+
+    Example: forensic export casefiles/riverside --xlsx riverside.xlsx --csv-dir riverside-tables
+
+    """
+    if not (xlsx or csv_dir or json_file):
+        raise click.UsageError("give at least one of --xlsx FILE, --csv-dir DIR and --json FILE")
+    if recover_snapshot and recover_days is None:
+        raise click.UsageError("--recover-snapshot needs --recover-days N")
+    cf = load(casefile)
+    result = casefile_tables(cf, recover_days=recover_days, recover_snapshot=recover_snapshot,
+                             inputs=not no_inputs)
+    protected = [cf.root / rel for rel in cf.inputs] if cf.root is not None else []
+    for line in result.skipped:
+        click.echo(f"skipped: {line}", err=True)
+    if xlsx:
+        atomic_write(xlsx, to_xlsx(result.tables, title=cf.project.name), protected)
+        click.echo(f"wrote {xlsx} ({len(result.tables)} sheets)", err=True)
+    if csv_dir:
+        paths = write_csv_dir(result.tables, csv_dir, protected)
+        click.echo(f"wrote {len(paths)} CSV files to {csv_dir}", err=True)
+    if json_file:
+        atomic_write(json_file, tables_json(result.tables), protected)
+        click.echo(f"wrote {json_file}", err=True)

@@ -1,0 +1,135 @@
+"""The PDF narrative report: template loading, narrative, charts, assembly.
+
+:func:`build_report` runs the analyses a template's sections need, fills
+the template's wording from their result objects, draws the charts and lays
+out the PDF, and returns its bytes; the same casefile, template and
+settings give the same bytes. Writing the file is the caller's job (the CLI
+writes atomically, never over a casefile input).
+
+The report supports, and does not replace, the judgement of a qualified
+scheduling professional; entitlement depends on the contract and the
+applicable law.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from .. import __version__
+from ..asbuilt import as_planned_vs_as_built
+from ..attribution import analyse_delay
+from ..butfor import but_for
+from ..compare import compare_snapshots
+from ..impact import time_impacts
+from ..model import Casefile
+from ..quality import assess_casefile
+from ..recovery import recover
+from ..trend import completion_trend
+from .narrative import ReportContext, long_date
+from .pdf import build_pdf, font_family
+from .sections import render_section
+from .templates import Template, builtin_templates, load_template
+
+__all__ = ["DEFAULT_TEMPLATE", "build_report", "builtin_templates", "load_template"]
+
+DEFAULT_TEMPLATE = "full"
+_NEEDS_DELAY = {"windows", "slip-by-party", "ledger"}
+
+
+def build_report(
+    casefile: Casefile,
+    template: Template | str | Path = DEFAULT_TEMPLATE,
+    *,
+    command: str = "",
+    recover_days: int | None = None,
+) -> bytes:
+    """Build the PDF report of ``casefile`` with ``template`` and return its bytes.
+
+    Parameters
+    ----------
+    casefile : Casefile
+    template : Template, or a template name or path
+        See ``report_templates/README.md``.
+    command : str
+        The command line that asked for the report, for the record of inputs.
+    recover_days : int, optional
+        Days to recover on the latest update (delay unit); the acceleration
+        section is shown only when this is given.
+
+    Returns
+    -------
+    bytes
+        The PDF; byte-identical for the same inputs, template, settings and font.
+
+    References
+    ----------
+    AACE International Recommended Practice 29R-03, Forensic Schedule Analysis
+    (sec. 1.4 and 4: the analyst's report states the method, the sources and
+    the settings so that another analyst can reproduce it).
+    """
+    tpl = template if isinstance(template, Template) else load_template(template)
+    s = tpl.settings
+    trend = completion_trend(
+        casefile,
+        milestones=s["key_milestones"] or None,
+        band_edges=s["float_bands"],
+        milestone_limit=s["milestone_limit"],
+    )
+    family = font_family()
+    if not command:
+        name = casefile.root.name if casefile.root is not None else "CASEFILE"
+        command = f"forensic report {name} --template {tpl.name}"
+        if recover_days is not None:
+            command += f" --recover-days {recover_days}"
+    kinds = set(tpl.kinds())
+    delay = impacts = recovery = None
+    if kinds & {"windows", "slip-by-party", "ledger", "summary"} and len(casefile.snapshots) > 1:
+        delay = analyse_delay(casefile, casefile.windows or None)
+    if "time-impact" in kinds and any(e.fragnet or e.activities for e in casefile.events):
+        impacts = time_impacts(casefile)
+    quality = assess_casefile(casefile) if "quality" in kinds else None
+    comparisons = None
+    if "changes" in kinds and len(casefile.snapshots) > 1:
+        snaps = casefile.snapshots
+        comparisons = tuple(compare_snapshots(casefile, a.id, b.id) for a, b in zip(snaps, snaps[1:], strict=False))
+    butfor = but_for(casefile) if "but-for" in kinds and len(casefile.snapshots) > 1 else None
+    asbuilt = as_planned_vs_as_built(casefile) if "as-built" in kinds and len(casefile.snapshots) > 1 else None
+    if "acceleration" in kinds and recover_days is not None:
+        recovery = recover(casefile, casefile.snapshots[-1].id, days=recover_days)
+    left_out = set()
+    if delay is None:
+        left_out |= _NEEDS_DELAY
+    if recovery is None:
+        left_out.add("acceleration")
+    if comparisons is None:
+        left_out.add("changes")
+    if butfor is None:
+        left_out.add("but-for")
+    if asbuilt is None:
+        left_out.add("as-built")
+    ctx = ReportContext(
+        casefile=casefile, template=tpl, trend=trend, command=command, font=family.source,
+        delay=delay, impacts=impacts, recovery=recovery, recover_days=recover_days,
+        quality=quality, comparisons=comparisons, butfor=butfor, asbuilt=asbuilt, left_out=frozenset(left_out),
+    )
+    story = []
+    number = 0
+    for section in tpl.sections:
+        if section.kind in left_out:
+            continue  # one snapshot (no window to analyse), or acceleration not asked for
+        numbered = section.kind != "cover" and tpl.settings["numbered_headings"]
+        flowables = render_section(ctx, section, number + 1 if numbered else None)
+        if flowables is None:
+            continue
+        number += numbered
+        story += flowables
+    last = casefile.snapshots[-1]
+    footer = f"{tpl.title} · {casefile.project.name} · data date {long_date(last.data_date)}"
+    return build_pdf(
+        story,
+        title=f"{tpl.title}: {casefile.project.name}",
+        subject=f"{casefile.project.name}, snapshots {casefile.snapshots[0].id} to {last.id}",
+        footer=footer,
+        author=f"forensic {__version__}",
+        creator=f"forensic {__version__}",
+    )

@@ -1,0 +1,223 @@
+"""The generated narrative: sentences filled from the analyses' result objects.
+
+The wording is the template's; this module picks which sentence applies
+(later, earlier or unchanged; eroded, gained or steady) and supplies the
+placeholder values, formatted for reading: dates as "4 May 2026", days as
+whole numbers with the unit in the right number ("1 calendar day",
+"12 working days"). Every value comes from a result object; the only
+arithmetic here is choosing the sign words and taking absolute values for
+the reader ("14 days later" rather than "+14 days").
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from datetime import date
+from typing import Any
+
+from .. import __version__
+from ..model import Casefile
+from ..trend import SnapshotTrend, TrendResult
+from .templates import Section, Template, fill
+
+__all__ = [
+    "MONTHS",
+    "ReportContext",
+    "common_fields",
+    "long_date",
+    "days_words",
+    "join_words",
+    "milestone_sentence",
+    "party_words",
+    "move_sentence",
+    "path_words",
+    "short_date",
+    "unit_words",
+]
+
+MONTHS = (
+    "January", "February", "March", "April", "May", "June",
+    "July", "August", "September", "October", "November", "December",
+)
+
+
+@dataclass(frozen=True, slots=True)
+class ReportContext:
+    """Everything a section renders from: the casefile, the template, the results, the run."""
+
+    casefile: Casefile
+    template: Template
+    trend: TrendResult
+    command: str
+    font: str
+    version: str = __version__
+    delay: Any = None  # forensic.attribution.DelayAnalysis, when a section needs it
+    impacts: Any = None  # forensic.impact.ImpactSeries
+    recovery: Any = None  # forensic.recovery.RecoveryResult, when --recover-days was given
+    recover_days: int | None = None
+    quality: Any = None  # tuple of forensic.quality.QualityReport, one per snapshot
+    comparisons: Any = None  # tuple of forensic.compare.Comparison, one per consecutive pair
+    butfor: Any = None  # forensic.butfor.ButForReport
+    asbuilt: Any = None  # tuple of forensic.asbuilt.AsBuiltRow
+    left_out: frozenset[str] = frozenset()  # section kinds with nothing to show for this casefile
+
+
+def long_date(d: date | None) -> str:
+    """``4 May 2026`` (English month names, no locale)."""
+    return "—" if d is None else f"{d.day} {MONTHS[d.month - 1]} {d.year}"
+
+
+def short_date(d: date | None) -> str:
+    """``4 May 2026`` with a three-letter month, for tables."""
+    return "—" if d is None else f"{d.day} {MONTHS[d.month - 1][:3]} {d.year}"
+
+
+def unit_words(delay_unit: str, n: int | None = None) -> str:
+    """``calendar days`` / ``working days``, singular for exactly one."""
+    word = "working day" if delay_unit == "working-days" else "calendar day"
+    return word if n is not None and abs(n) == 1 else word + "s"
+
+
+CATEGORY_WORDS = {
+    "excusable-compensable": "excusable and compensable",
+    "excusable-noncompensable": "excusable, not compensable",
+    "non-excusable": "not excusable",
+    "concurrent": "concurrent",
+    None: "no party assigned",
+}
+
+
+def party_words(cf: Casefile, party_id: str) -> str:
+    """A party's name for reading (its id when the casefile has no such party)."""
+    special = {"unassigned": "no party assigned", "unattributed-revision": "revisions no event explains"}
+    if party_id in special:
+        return special[party_id]
+    p = cf.parties.get(party_id)
+    return p.name if p is not None else party_id
+
+
+def join_words(items: Sequence[str], empty: str = "none") -> str:
+    """``a``, ``a and b``, ``a, b and c``."""
+    items = list(items)
+    if not items:
+        return empty
+    return items[0] if len(items) == 1 else ", ".join(items[:-1]) + " and " + items[-1]
+
+
+def days_words(delay_unit: str, n: int) -> str:
+    """``14 calendar days``, ``1 working day``."""
+    return f"{n} {unit_words(delay_unit, n)}"
+
+
+def float_words(value: int | None) -> str:
+    """A total float for reading: ``-12 working days``, or ``none (finished)``."""
+    if value is None:
+        return "none (finished)"
+    return f"{value} working day" + ("" if abs(value) == 1 else "s")
+
+
+def common_fields(ctx: ReportContext) -> dict[str, Any]:
+    cf = ctx.casefile
+    snaps = cf.snapshots
+    return {
+        "project": cf.project.name,
+        "baseline": cf.baseline.id,
+        "latest": snaps[-1].id,
+        "first_data_date": long_date(snaps[0].data_date),
+        "last_data_date": long_date(snaps[-1].data_date),
+        "unit": unit_words(cf.project.delay_unit),
+    }
+
+
+def activity_name(cf: Casefile, activity_id: str, snapshot_id: str | None = None) -> str:
+    """The activity's name in that snapshot (else in the latest snapshot that has it)."""
+    snaps = [cf.snapshot(snapshot_id)] if snapshot_id else []
+    for snap in [*snaps, *reversed(cf.snapshots)]:
+        act = snap.activities.get(activity_id)
+        if act is not None:
+            return act.name
+    return activity_id
+
+
+def path_words(ctx: ReportContext, row: SnapshotTrend, limit: int = 3) -> tuple[str, int]:
+    """The next activities on the longest path (not yet finished), as ``name (id)``, and how many remain."""
+    cf = ctx.casefile
+    res = ctx.trend.schedules[[s.snapshot_id for s in ctx.trend.snapshots].index(row.snapshot_id)]
+    remaining = [a for a in row.longest_path if res.activities[a].status != "finished"]
+    shown = [f"{activity_name(cf, a, row.snapshot_id)} ({a})" for a in remaining[:limit]]
+    if len(remaining) > limit:
+        shown.append(f"{len(remaining) - limit} more")
+    if not shown:
+        return "no remaining activity", 0
+    words = shown[0] if len(shown) == 1 else ", ".join(shown[:-1]) + " and " + shown[-1]
+    return words, len(remaining)
+
+
+def move_sentence(ctx: ReportContext, section: Section, row: SnapshotTrend, prev: SnapshotTrend | None) -> str:
+    """The completion-trend sentence for one snapshot (``first``, ``later``, ``earlier`` or ``unchanged``)."""
+    unit = ctx.trend.delay_unit
+    fields = common_fields(ctx)
+    fields.update(
+        snapshot=row.snapshot_id,
+        data_date=long_date(row.data_date),
+        completion=long_date(row.completion),
+        completion_id=row.completion_id,
+        completion_name=activity_name(ctx.casefile, row.completion_id, row.snapshot_id),
+        float=float_words(row.completion_float),
+    )
+    where = f"{ctx.template.path.name}, section {section.number} ({section.kind})"
+    if prev is None or row.movement is None:
+        return fill(section.texts["first"], fields, where + ", text.first")
+    path, count = path_words(ctx, row)
+    fields.update(
+        previous=prev.snapshot_id,
+        previous_data_date=long_date(prev.data_date),
+        previous_completion=long_date(prev.completion),
+        days=abs(row.movement),
+        days_unit=unit_words(unit, row.movement),
+        slip=abs(row.slip),
+        slip_unit=unit_words(unit, row.slip),
+        path=path,
+        path_count=count,
+    )
+    key = "later" if row.movement > 0 else "earlier" if row.movement < 0 else "unchanged"
+    return fill(section.texts[key], fields, f"{where}, text.{key}")
+
+
+def milestone_sentence(ctx: ReportContext, section: Section, milestone: str, rows: Sequence[SnapshotTrend]) -> str | None:
+    """How a milestone's float moved from the first to the last snapshot shown (``eroded``, ``gained``, ``steady``)."""
+    where = f"{ctx.template.path.name}, section {section.number} ({section.kind})"
+    have = [r for r in rows if milestone in r.milestone_floats and r.milestone_floats[milestone] is not None]
+    fields = common_fields(ctx)
+    fields.update(milestone=milestone, name=ctx.trend.milestone_names.get(milestone, milestone))
+    if not have:
+        text = section.texts.get("missing")
+        if text is None:
+            return None
+        fields.update(first_snapshot="", first_float="", last_snapshot="", last_float="", change="", first_date="", last_date="")
+        return fill(text, fields, f"{where}, text.missing")
+    a, b = have[0], have[-1]
+    fa, fb = a.milestone_floats[milestone], b.milestone_floats[milestone]
+    change = fb - fa
+    fields.update(
+        first_snapshot=a.snapshot_id,
+        first_float=float_words(fa),
+        last_snapshot=b.snapshot_id,
+        last_float=float_words(fb),
+        change=float_words(abs(change)),
+        first_date=long_date(a.milestone_dates[milestone]),
+        last_date=long_date(b.milestone_dates[milestone]),
+    )
+    key = "eroded" if change < 0 else "gained" if change > 0 else "steady"
+    return fill(section.texts[key], fields, f"{where}, text.{key}")
+
+
+def text_or_none(ctx: ReportContext, section: Section, key: str, extra: Mapping[str, Any] | None = None) -> str | None:
+    """Fill the section's optional text ``key`` (``None`` when the template leaves it out)."""
+    text = section.texts.get(key)
+    if text is None:
+        return None
+    fields = common_fields(ctx)
+    fields.update(extra or {})
+    return fill(text, fields, f"{ctx.template.path.name}, section {section.number} ({section.kind}), text.{key}")

@@ -1,0 +1,68 @@
+"""Completion trend and float erosion on a hand-built network whose dates are worked out by hand."""
+
+from datetime import date
+
+from forensic.model import Activity, Calendar, Casefile, Link, Project, Snapshot, frozen_mapping
+from forensic.trend import completion_trend, make_bands
+
+FIVE = Calendar("5d", ("mon", "tue", "wed", "thu", "fri"))
+
+
+def _snap(sid, dd, role, acts):
+    links = (Link("A", "B"), Link("B", "M"), Link("C", "M"))
+    return Snapshot(sid, dd, frozen_mapping({a.id: a for a in acts}), links, role)
+
+
+def casefile(delay_unit="calendar-days"):
+    """A(10) -> B(20) -> M, and C(5) -> M, on a Monday-to-Friday calendar from Monday 5 January 2026."""
+    base = [Activity("A", "a", 10), Activity("B", "b", 20), Activity("C", "c", 5),
+            Activity("M", "done", 0, kind="finish-milestone")]
+    upd = [Activity("A", "a", 10, actual_start=date(2026, 1, 5), actual_finish=date(2026, 1, 23)),
+           Activity("B", "b", 20), Activity("C", "c", 5), Activity("M", "done", 0, kind="finish-milestone")]
+    project = Project("t", "5d", completion="M", contract_completion=date(2026, 2, 20), delay_unit=delay_unit)
+    snaps = (_snap("BL", date(2026, 1, 5), "baseline", base), _snap("U01", date(2026, 2, 2), "update", upd))
+    return Casefile(project, frozen_mapping({"5d": FIVE}), frozen_mapping(), snaps)
+
+
+def test_late_predecessor_slips_completion_by_two_weeks():
+    """A finishes a week late, so M moves from Fri 13 Feb to Fri 27 Feb 2026: +14 calendar days (worked by hand)."""
+    t = completion_trend(casefile())
+    bl, u1 = t.snapshots
+    # By hand: A Jan 5-16, B Jan 19 - Feb 13 (20 working days); M dated Feb 13.
+    assert bl.completion == date(2026, 2, 13)
+    # By hand: B restarts at the data date Feb 2 and takes 20 working days to Feb 27.
+    assert u1.completion == date(2026, 2, 27)
+    assert (u1.slip, u1.movement, bl.movement) == (14, 14, None)
+    # Against the contract date 20 Feb 2026: 7 days before, then 7 days after (by hand).
+    assert (bl.variance, u1.variance) == (-7, 7)
+
+
+def test_working_day_unit_counts_on_the_default_calendar():
+    """The same slip is 10 working days Monday to Friday (13 Feb to 27 Feb, numpy busday_count convention)."""
+    t = completion_trend(casefile("working-days"))
+    assert t.snapshots[-1].slip == 10
+
+
+def test_float_bands_count_open_activities():
+    """C has 25 working days of float in the baseline (30-day path less its 5 days); A, B, M none (by hand)."""
+    t = completion_trend(casefile(), band_edges=(0, 1, 6, 21))
+    labels = [b.label for b in t.bands]
+    assert labels == ["negative", "0", "1 to 5", "6 to 20", "21 or more"]
+    assert t.snapshots[0].band_counts == (0, 3, 0, 0, 1)
+    # In U01 A is finished; C still not started, so it has 20 - 5 = 15 working days of float (by hand).
+    assert t.snapshots[1].band_counts == (0, 2, 0, 1, 0)
+    assert t.snapshots[1].finished == 1
+
+
+def test_named_milestone_float_is_followed():
+    """A milestone asked for by id is followed update by update (the engine's float, read as is)."""
+    t = completion_trend(casefile(), milestones=["M"])
+    assert t.milestones == ("M",)
+    assert [r.milestone_floats["M"] for r in t.snapshots] == [0, 0]
+
+
+def test_bands_from_edges_cover_every_value():
+    """Every integer falls in exactly one band (common practice: bands partition the float axis)."""
+    bands = make_bands([0, 1, 6, 21])
+    for v in range(-50, 60):
+        assert sum(b.holds(v) for b in bands) == 1
