@@ -1,0 +1,213 @@
+"""The scale benchmark (issue 9): a ladder of synthetic networks, windows at 20,000 x 24, the demo report.
+
+Not collected by pytest (tests/conftest.py ignores this folder). Run from
+the repository root::
+
+    python tests/benchmarks/run.py                      # the whole ladder
+    python tests/benchmarks/run.py --sizes 1000,5000 --skip-windows --out /tmp/b.json
+
+Each case runs in a fresh subprocess, so its peak memory (``ru_maxrss``) is
+its own. Times are medians of ``--runs`` runs. The CPM figure is a full
+schedule of the last update (both passes, floats, driving links, longest
+path) with the engine's compile caches cleared before each run; the
+reference is networkx ``dag_longest_path`` (a forward pass only) on the same
+network, edge weight = predecessor duration + lag, graph building not timed.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import platform
+import resource
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[2]
+sys.path.insert(0, str(ROOT))
+
+LADDER = (1000, 5000, 10000, 20000, 50000, 100000)
+
+
+def _peak_mb() -> float:
+    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024  # KiB on Linux
+
+
+def _clear_caches() -> None:
+    from forensic import engine
+
+    engine._LINK_CACHE.clear()
+    engine._ACT_CACHE.clear()
+
+
+def case_cpm(n: int, runs: int) -> dict:
+    """Generate n activities with 2 updates, write, load, schedule the last update; networkx reference."""
+    import networkx as nx
+
+    from forensic.casefile import load_casefile
+    from forensic.engine import schedule
+    from forensic.synthetic import generate_casefile
+    from forensic.writer import write_casefile
+
+    t = time.perf_counter()
+    cf = generate_casefile(n, updates=2, seed=1)
+    gen_s = time.perf_counter() - t
+    with tempfile.TemporaryDirectory() as tmp:
+        write_casefile(cf, tmp)
+        t = time.perf_counter()
+        cf = load_casefile(tmp)
+        load_s = (time.perf_counter() - t) / len(cf.snapshots)
+    snap = cf.snapshots[-1]
+    times = []
+    for _ in range(runs):
+        _clear_caches()
+        t = time.perf_counter()
+        result = schedule(snap, cf.calendars, cf.project)
+        times.append(time.perf_counter() - t)
+    graph = nx.DiGraph()
+    graph.add_nodes_from(snap.activities)
+    for k in snap.links:
+        graph.add_edge(k.pred, k.succ, weight=snap.activities[k.pred].duration + k.lag)
+    nx_times = []
+    for _ in range(runs):
+        t = time.perf_counter()
+        nx.dag_longest_path(graph, weight="weight")
+        nx_times.append(time.perf_counter() - t)
+    acts, links = len(snap.activities), len(snap.links)
+    cpm = statistics.median(times)
+    ref = statistics.median(nx_times)
+    return {
+        "case": "cpm", "activities": acts, "links": links, "snapshots": len(cf.snapshots),
+        "generate_s": gen_s, "load_per_snapshot_s": load_s, "cpm_s": cpm, "cpm_runs_s": times,
+        "networkx_s": ref, "ratio": cpm / ref, "cpm_us_per_item": 1e6 * cpm / (acts + links),
+        "load_us_per_item": 1e6 * load_s / (acts + links), "completion": result.completion.isoformat(),
+        "peak_mb": _peak_mb(),
+    }
+
+
+def case_windows(folder: str) -> dict:
+    """Load a written casefile and run the windows analysis (half-step), then the full attribution."""
+    from forensic.attribution import analyse_delay
+    from forensic.casefile import load_casefile
+    from forensic.windows import analyse_windows
+
+    t0 = time.perf_counter()
+    cf = load_casefile(folder)
+    load_s = time.perf_counter() - t0
+    t = time.perf_counter()
+    an = analyse_windows(cf)
+    windows_s = time.perf_counter() - t
+    total_windows = time.perf_counter() - t0
+    t = time.perf_counter()
+    delay = analyse_delay(cf)
+    delay_s = time.perf_counter() - t
+    return {
+        "case": "windows", "activities": len(cf.snapshots[-1].activities), "snapshots": len(cf.snapshots),
+        "load_s": load_s, "load_per_snapshot_s": load_s / len(cf.snapshots), "windows_s": windows_s,
+        "load_plus_windows_s": total_windows, "attribution_s": delay_s,
+        "load_plus_windows_plus_attribution_s": load_s + windows_s + delay_s,
+        "total_slip": an.total_slip, "ledger_balanced": delay.ledger.balanced, "peak_mb": _peak_mb(),
+    }
+
+
+def case_report(runs: int) -> dict:
+    """The demo casefile's full report (load + every analysis + PDF), median of runs."""
+    from forensic.casefile import load_casefile
+    from forensic.report import build_report
+
+    times = []
+    for _ in range(runs):
+        t = time.perf_counter()
+        pdf = build_report(load_casefile(ROOT / "casefiles" / "riverside"))
+        times.append(time.perf_counter() - t)
+    return {"case": "report", "report_s": statistics.median(times), "runs_s": times, "bytes": len(pdf), "peak_mb": _peak_mb()}
+
+
+def _sub(args: list[str]) -> dict:
+    out = subprocess.run([sys.executable, __file__, *args], capture_output=True, text=True, check=False)
+    if out.returncode != 0:
+        raise SystemExit(f"case {args} failed:\n{out.stderr}")
+    return json.loads(out.stdout.strip().splitlines()[-1])
+
+
+def machine() -> dict:
+    model = ""
+    try:
+        for line in Path("/proc/cpuinfo").read_text().splitlines():
+            if line.startswith("model name"):
+                model = line.split(":", 1)[1].strip()
+                break
+    except OSError:
+        pass
+    return {"nproc": os.cpu_count(), "cpu": model, "python": platform.python_version(),
+            "platform": platform.platform(), "loadavg_at_start": os.getloadavg()}
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--sizes", default=",".join(map(str, LADDER)), help="comma-separated activity counts")
+    ap.add_argument("--runs", type=int, default=5, help="runs per timing (median quoted)")
+    ap.add_argument("--windows-size", type=int, default=20000)
+    ap.add_argument("--windows-updates", type=int, default=24)
+    ap.add_argument("--skip-windows", action="store_true")
+    ap.add_argument("--skip-report", action="store_true")
+    ap.add_argument("--out", default="benchmark-results.json", help="JSON results file")
+    ap.add_argument("--case", help=argparse.SUPPRESS)
+    ap.add_argument("--arg", help=argparse.SUPPRESS)
+    a = ap.parse_args()
+    if a.case == "cpm":
+        print(json.dumps(case_cpm(int(a.arg), a.runs)))
+        return
+    if a.case == "windows":
+        print(json.dumps(case_windows(a.arg)))
+        return
+    if a.case == "report":
+        print(json.dumps(case_report(a.runs)))
+        return
+
+    results: dict = {"machine": machine(), "command": " ".join([Path(sys.executable).name, *sys.argv]), "cpm": []}
+    print(f"{'activities':>10} {'links':>7} {'load/snap s':>11} {'CPM s':>7} {'networkx s':>10} "
+          f"{'ratio':>5} {'CPM us/item':>11} {'peak MB':>8}")
+    for n in [int(x) for x in a.sizes.split(",") if x]:
+        r = _sub(["--case", "cpm", "--arg", str(n), "--runs", str(a.runs)])
+        results["cpm"].append(r)
+        print(f"{r['activities']:>10} {r['links']:>7} {r['load_per_snapshot_s']:>11.3f} {r['cpm_s']:>7.3f} "
+              f"{r['networkx_s']:>10.3f} {r['ratio']:>5.2f} {r['cpm_us_per_item']:>11.2f} {r['peak_mb']:>8.0f}")
+    if not a.skip_windows:
+        from forensic.synthetic import generate_casefile
+        from forensic.writer import write_casefile
+
+        with tempfile.TemporaryDirectory() as tmp:
+            t = time.perf_counter()
+            cf = generate_casefile(a.windows_size, updates=a.windows_updates, seed=1)
+            gen_s = time.perf_counter() - t
+            write_casefile(cf, tmp)
+            del cf
+            r = _sub(["--case", "windows", "--arg", tmp])
+        r["generate_s"] = gen_s
+        results["windows"] = r
+        print(f"\nwindows, {r['activities']} activities x {r['snapshots'] - 1} updates: generate {gen_s:.1f} s; "
+              f"load {r['load_s']:.1f} s ({r['load_per_snapshot_s']:.2f} s/snapshot) + half-step windows "
+              f"{r['windows_s']:.1f} s = {r['load_plus_windows_s']:.1f} s; attribution and ledger "
+              f"{r['attribution_s']:.1f} s more; peak {r['peak_mb']:.0f} MB")
+    if not a.skip_report:
+        try:
+            import forensic.report  # noqa: F401
+        except ImportError:
+            print("\nreport: forensic.report is not available in this version; skipped")
+        else:
+            r = _sub(["--case", "report", "--runs", str(max(1, min(a.runs, 3)))])
+            results["report"] = r
+            print(f"\ndemo full report: {r['report_s']:.2f} s (median of {len(r['runs_s'])}), peak {r['peak_mb']:.0f} MB")
+    results["machine"]["loadavg_at_end"] = os.getloadavg()
+    Path(a.out).write_text(json.dumps(results, indent=2) + "\n", encoding="utf-8")
+    print(f"\nwrote {a.out}")
+
+
+if __name__ == "__main__":
+    main()
