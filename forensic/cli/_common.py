@@ -11,7 +11,7 @@ import click
 from ..model import Casefile
 from ..outputs import atomic_write
 
-__all__ = ["casefile_argument", "emit", "emit_xlsx", "format_options", "load", "pick_format", "xlsx_option"]
+__all__ = ["casefile_argument", "emit", "emit_xlsx", "format_options", "load", "pick_format", "status", "xlsx_option"]
 
 
 def casefile_argument(func: Callable) -> Callable:
@@ -137,3 +137,10 @@ def emit(text: str, out: Path | None = None, casefile: Casefile | None = None) -
         protected = [casefile.root / rel for rel in casefile.inputs]
     atomic_write(out, text, protected)
     click.echo(f"wrote {out}", err=True)
+
+
+def status(message: str) -> None:
+    """A status line on stderr for long work, shown only at a terminal (pipes and tests stay clean)."""
+    stream = click.get_text_stream("stderr")
+    if stream.isatty():
+        click.echo(message, err=True)

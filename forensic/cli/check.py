@@ -11,7 +11,7 @@ from ..quality import QualityCheck, assess_casefile, quality_json, quality_table
 from ..tables import Table, dumps_json, to_csv, to_text
 from ..validation import validate_casefile
 from ._base import main
-from ._common import casefile_argument, emit, emit_xlsx, format_options, load, pick_format
+from ._common import casefile_argument, emit, emit_xlsx, format_options, load, pick_format, status
 
 
 @main.command()
@@ -40,6 +40,7 @@ def check(casefile: Path, quality: bool, snapshot_ids: tuple[str, ...], as_json:
       forensic check casefiles/riverside --quality --snapshot U02 --json
 
     """
+    status(f"Loading {casefile} ...")
     cf = load(casefile)
     fmt = pick_format(as_json, as_csv)
     if quality:
@@ -47,6 +48,7 @@ def check(casefile: Path, quality: bool, snapshot_ids: tuple[str, ...], as_json:
         return
     if snapshot_ids:
         raise click.UsageError("--snapshot needs --quality")
+    status(f"Scheduling {len(cf.snapshots)} snapshots ...")
     result = validate_casefile(cf)
     table = Table(
         "snapshots",

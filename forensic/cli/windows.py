@@ -18,7 +18,7 @@ from ..attribution import (
 from ..tables import dumps_json, to_csv, to_text
 from ..windows import windows_table
 from ._base import main
-from ._common import casefile_argument, emit, emit_xlsx, format_options, load, pick_format
+from ._common import casefile_argument, emit, emit_xlsx, format_options, load, pick_format, status
 
 _TABLES = ("windows", "contributors", "ledger", "cumulative", "as-built")
 
@@ -44,8 +44,10 @@ def windows_command(casefile: Path, bounds: str | None, table: str, as_json: boo
     Example: forensic windows casefiles/riverside --windows U02,U04 --json
 
     """
+    status(f"Loading {casefile} ...")
     cf = load(casefile)
     ids = [s.strip() for s in bounds.split(",") if s.strip()] if bounds else None
+    status(f"Analysing {len(cf.snapshots) - 1} windows of {len(cf.snapshots[-1].activities)} activities (Ctrl-C stops) ...")
     an = analyse_delay(cf, ids)
     tables = {
         "windows": lambda: windows_table(an.windows),
