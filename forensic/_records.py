@@ -253,8 +253,8 @@ def read_links(
     memo = {} if memo is None else memo.setdefault(tuple(rows[0].cells) if rows else (), {})
     for row in rows:
         line = row.line
-        key = tuple(row.cells.values())
-        hit = memo.get(key)
+        cells_key = tuple(row.cells.values())
+        hit = memo.get(cells_key)
         if hit is not None and hit.pred in known and hit.succ in known:
             lkey = hit.key
             if lkey in seen:
@@ -265,7 +265,7 @@ def read_links(
                 warnings.append(f"{rel}, line {line}: link {hit.pred} -> {hit.succ} has no effect, "
                                 f"because {hit.succ} is finished and {hit.pred} is not")
             if hit.line != line:
-                hit = memo[key] = Link(hit.pred, hit.succ, hit.type, hit.lag, line)
+                hit = memo[cells_key] = Link(hit.pred, hit.succ, hit.type, hit.lag, line)
             links.append(hit)
             continue
         before = len(problems)
@@ -295,7 +295,7 @@ def read_links(
             warnings.append(f"{rel}, line {line}: link {pred} -> {succ} has no effect, "
                             f"because {succ} is finished and {pred} is not")
         link = Link(pred, succ, ltype, lag, line)
-        memo[key] = link
+        memo[cells_key] = link
         links.append(link)
     return links
 
