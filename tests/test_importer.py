@@ -128,7 +128,7 @@ def test_fractional_days_are_rounded_only_when_asked(example: Path, tmp_path: Pa
     edit(example / "mapping.toml", "hours_per_day = 8", f'hours_per_day = 8\nrounding = "{rounding}"')
     report = import_casefile(example / "mapping.toml", tmp_path / "case")
     assert report.casefile.snapshot("BL").activities["KL-120"].duration == expected
-    assert f"activities: duration rounded {rounding} to whole working days (1 cells)" in report.notes
+    assert f"activities: duration rounded {rounding} to whole working days (1 cell)" in report.notes
 
 
 def test_custom_relationship_codes_any_case(example: Path, tmp_path: Path) -> None:
@@ -298,7 +298,7 @@ def test_report_lists_what_was_dropped_and_defaulted(example: Path, tmp_path: Pa
     # Expected values counted by hand in the example files: a Notes column; two "-" lags; one event.
     assert "activities: source columns not used (dropped): Notes" in report.notes
     assert "links: lag blank; read as 0 (2 cells)" in report.notes
-    assert "events: no column for category; taken from the party's role (1 rows)" in report.notes
+    assert "events: no column for category; taken from the party's role (1 row)" in report.notes
     assert report.casefile.events[0].category == "excusable-compensable"  # owner's delay (SCL Protocol)
 
 

@@ -6,15 +6,19 @@ from pathlib import Path
 
 import click
 
+from ..casefile import Limits
+from ..errors import LimitExceeded
 from ..importer import import_casefile
 from ._base import main
+from ._common import limit_hint
 
 
 @main.command("import")
 @click.argument("mapping", metavar="MAPPING.toml", type=click.Path(path_type=Path, dir_okay=False))
 @click.option("--out", required=True, type=click.Path(path_type=Path, file_okay=False), metavar="CASEFILE_DIR",
               help="The casefile folder to create (new, or empty).")
-def import_command(mapping: Path, out: Path) -> None:
+@click.pass_context
+def import_command(ctx: click.Context, mapping: Path, out: Path) -> None:
     """Build a casefile in CASEFILE_DIR from the CSV or XLSX files MAPPING.toml describes.
 
     The mapping names the source files or sheets of each snapshot, their
@@ -26,7 +30,10 @@ def import_command(mapping: Path, out: Path) -> None:
     Example: forensic import examples/import/mapping.toml --out harbour-case
 
     """
-    report = import_casefile(mapping, out)
+    try:
+        report = import_casefile(mapping, out, limits=ctx.find_object(Limits))
+    except LimitExceeded as exc:
+        raise click.ClickException(f"{exc}\n{limit_hint(exc)}") from None
     cf = report.casefile
     acts = sum(len(s.activities) for s in cf.snapshots)
     links = sum(len(s.links) for s in cf.snapshots)
