@@ -152,11 +152,11 @@ def _read_csv(path: Path, label: str, encoding: str, delimiter: str, problems: P
     except UnicodeDecodeError as exc:
         line = data.count(b"\n", 0, exc.start) + 1
         bad = data[exc.start: exc.start + 1].hex()
-        hint = " (is it UTF-16? set [values] encoding = \"utf-16\")" if b"\x00" in data[:4] or \
-            data.startswith((b"\xff\xfe", b"\xfe\xff")) else ""
+        utf16 = b"\x00" in data[:4] or data.startswith((b"\xff\xfe", b"\xfe\xff"))
+        fix = ('it looks like UTF-16: set [values] encoding = "utf-16"' if utf16 else
+               'set [values] encoding to the file\'s encoding (for example "cp1252" or "latin-1")')
         problems.add(label, line, None, f"0x{bad} at byte {exc.start}",
-                     f"the file is not {encoding} text{hint}; set [values] encoding to the file's encoding "
-                     "(for example \"cp1252\" or \"latin-1\"), or save it as UTF-8")
+                     f"the file is not {encoding} text; {fix}, or save it as UTF-8")
         return None
     nul = text.find("\x00")
     if nul >= 0:
@@ -182,7 +182,8 @@ def _read_csv(path: Path, label: str, encoding: str, delimiter: str, problems: P
                     return None
             out.append((line, cells))
     except csv.Error as exc:
-        problems.add(label, reader.line_num, None, None, f"not valid CSV: {exc}")
+        problems.add(label, line, None, None, f"not valid CSV in the row that starts on this line: {exc} "
+                     "(check its quotes: a quoted cell must end with a quote)")
         return None
     return out, 0, 0
 

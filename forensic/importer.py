@@ -626,7 +626,10 @@ def read_mapping(path: str | os.PathLike[str], *, limits: Limits | None = None) 
 
 def _raise(problems: Problems):
     if problems.limit_hit:  # tables not read whole: other problems may be echoes of the missing rows
-        raise LimitExceeded(problems.limits)
+        err = LimitExceeded(problems.limits)
+        if len(err.problems) > 1:
+            err.args = (f"{len(err.problems)} problems in the import:\n" + "\n".join(f"  {p}" for p in err.problems),)
+        raise err
     raise ImportMappingError(problems.items)
 
 
@@ -637,6 +640,8 @@ def _read(path: Path, limits: Limits) -> tuple[Casefile, tuple[str, ...], tuple[
     if problems:
         _raise(problems)
     project, parties, calendars = _settings(m, problems)
+    if problems:  # without the parties and calendars, every row naming one would be reported too
+        _raise(problems)
     conv = _Converter(m, problems)
     warnings: list[str] = []
     cal_ids = tuple(calendars)
