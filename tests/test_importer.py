@@ -360,3 +360,14 @@ def test_reload_warning_names_the_source_row(example: Path, tmp_path: Path) -> N
     # Expected: the row just added is line 2 of logic-update1.csv (casefiles/README.md: such a link is a warning).
     assert any(w.startswith("logic-update1.csv, line 2: link KL-200 -> KL-100 has no effect") for w in report.warnings), \
         report.warnings
+
+
+def test_worked_example_in_the_docs_is_the_example_mapping() -> None:
+    """docs/import-export.md shows the whole example mapping, so a copy of it imports as documented."""
+    import tomllib
+
+    doc = (ROOT / "docs" / "import-export.md").read_text(encoding="utf-8")
+    block = doc.split("```toml\n", 1)[1].split("```", 1)[0]
+    # Expected: examples/import/mapping.toml itself (the doc's worked example).
+    assert tomllib.loads(block) == tomllib.loads((EXAMPLE / "mapping.toml").read_text(encoding="utf-8"))
+    assert "$ forensic import examples/import/mapping.toml --out kestrel" in doc

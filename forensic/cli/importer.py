@@ -25,9 +25,11 @@ def import_command(ctx: click.Context, mapping: Path, out: Path) -> None:
     column names, date formats, relationship codes, units and the project
     settings (docs/import-export.md). The casefile is loaded and every
     snapshot scheduled before it is moved into place; nothing is written if
-    anything is wrong. What was dropped or defaulted is listed.
+    anything is wrong. What was dropped or defaulted is listed. The
+    group's --max-file-mb, --max-activities and --max-links ceilings apply
+    to the mapping and every source (give them before "import").
 
-    Example: forensic import examples/import/mapping.toml --out harbour-case
+    Example: forensic import examples/import/mapping.toml --out kestrel
 
     """
     try:
@@ -45,3 +47,4 @@ def import_command(ctx: click.Context, mapping: Path, out: Path) -> None:
             click.echo(f"  {note}")
     for w in report.warnings:
         click.echo(f"warning: {w}", err=True)
+    click.echo(f"Next: forensic check {report.out} (or forensic schedule {report.out})")
