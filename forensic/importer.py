@@ -20,6 +20,13 @@ guessed: what the import dropped (source columns it did not use, blank
 rows, times of day) or defaulted (a blank relationship type read as FS, a
 duration rounded to whole days) is listed in the report.
 
+Hostile sources are held to the loader's ceilings
+(:class:`~forensic.casefile.Limits`: file size before reading, rows per
+table, a workbook's unpacked size) and character rule, and a problem the
+reload finds (a logic loop) is mapped back from the written casefile's file
+and line to the user's source and row, so every message names what the
+user can fix.
+
 References
 ----------
 AACE International Recommended Practice 29R-03, Forensic Schedule Analysis,
