@@ -401,8 +401,14 @@ def read_events(
     fragnets: Mapping[str, Collection[str]],
     snapshot_ids: Collection[str],
     problems: Problems,
+    unreadable: Collection[str] = (),
 ) -> list[Event]:
     """Read event rows; ``fragnets`` maps each fragnet folder name to its activity ids.
+
+    ``unreadable`` names fragnet folders that exist but could not be read
+    (their problem is reported with their files): an event naming one is
+    not reported again, nor the activities it lists (they may be the
+    fragnet's own).
 
     An activity an event names must be in some snapshot or in the event's own
     fragnet: an id found nowhere is an error, since a slip there would drop
@@ -437,6 +443,8 @@ def read_events(
             problems.add(rel, line, "finish", span["finish"].isoformat(),
                          f"the event finishes before it starts ({span['start'].isoformat()})")
         fragnet = row.get("fragnet") or None
+        if fragnet is not None and fragnet in unreadable:
+            continue  # its files' problems are reported; the rest of the row waits for them
         if fragnet is not None and fragnet not in fragnets:
             problems.add(rel, line, "fragnet", fragnet,
                          f"no such fragnet folder under fragnets/; found {', '.join(fragnets) or 'none'}")

@@ -1,26 +1,46 @@
 """Private helpers of the importer: read one CSV file or one workbook sheet as a table.
 
 A source table is a header row and data rows, each cell either text
-(stripped) or a :class:`datetime.date` (a workbook's date cell). Workbooks
-are opened read-only with cached values only (``data_only=True``): a
-formula is never evaluated, its last saved value is read, and a formula
-cell never saved by a spreadsheet program reads as blank.
+(stripped), a :class:`datetime.date` (a workbook's date cell) or an
+:class:`Unsaved` formula. Workbooks are opened read-only with cached values
+only (``data_only=True``): a formula is never evaluated, its last saved
+value is read; a formula cell never saved by a spreadsheet program has no
+value, and is an :class:`Unsaved` cell the importer refuses where it needs
+the value.
+
+Hostile sources are held to the loader's ceilings
+(:class:`forensic.casefile.Limits`): the file size is checked before
+anything is read, a workbook whose parts unpack to more than
+:data:`UNPACK_FACTOR` times the file ceiling is refused before it is opened
+(a zip bomb), and reading stops at the row ceiling, blank rows of a sheet
+included (a sheet may declare a million empty rows in a few bytes).
 """
 
 from __future__ import annotations
 
 import csv
 import io
+import zipfile
 from dataclasses import dataclass
 from datetime import date, datetime
 from pathlib import Path
 
 from ._csvread import Problems
 
-__all__ = ["SourceTable", "close_books", "read_source"]
+__all__ = ["UNPACK_FACTOR", "SourceTable", "Unsaved", "close_books", "read_source"]
 
-_MAX_BYTES = 64 * 1024 * 1024  # the loader's default ceiling, for the same reason
 _WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
+# A sheet's XML is several times the size of the CSV of the same table; ten
+# times the file ceiling leaves room for any genuine workbook (common practice
+# in guarding against zip bombs: bound the unpacked size, not only the packed).
+UNPACK_FACTOR = 10
+_MAX_COLUMNS = 16_384  # a workbook's own column limit (XFD)
+
+
+class Unsaved(str):
+    """A workbook formula cell with no saved value; the text is the formula."""
+
+    __slots__ = ()
 
 
 @dataclass(frozen=True, slots=True)
@@ -29,7 +49,8 @@ class SourceTable:
 
     ``rows`` holds ``(line, cells)`` with the 1-based line (or sheet row)
     number; wholly blank rows are left out and counted in ``blank_rows``.
-    ``times_dropped`` counts workbook date cells whose time of day was dropped.
+    ``times_dropped`` counts workbook date cells whose time of day was dropped;
+    ``formulas`` counts formula cells read by their saved value.
     """
 
     label: str
@@ -37,6 +58,7 @@ class SourceTable:
     rows: tuple[tuple[int, tuple[str | date, ...]], ...]
     blank_rows: int = 0
     times_dropped: int = 0
+    formulas: int = 0
 
 
 def _workbook_value(value) -> tuple[str | date, bool]:
@@ -55,30 +77,36 @@ def _workbook_value(value) -> tuple[str | date, bool]:
 
 
 def read_source(path: Path, label: str, sheet: str | None, encoding: str, delimiter: str,
-                problems: Problems, books: dict | None = None) -> SourceTable | None:
+                problems: Problems, books: dict | None = None, *, max_bytes: int = 64 * 1024 * 1024,
+                max_rows: int = 200_000, what: str = "rows") -> SourceTable | None:
     """Read a CSV file, or a sheet of a workbook (``sheet`` ``None``: its first sheet).
 
     ``books`` caches open workbooks by path, so that a workbook with a sheet
     per table is opened once; the caller closes them (:func:`close_books`).
-    Problems (file not found, not decodable, no such sheet, duplicate
-    column names, no header) go to ``problems``; the result is then ``None``.
+    ``max_bytes`` bounds the file (and, times :data:`UNPACK_FACTOR`, a
+    workbook unpacked); ``max_rows`` the data rows (``what`` names them in
+    the message). Problems (file not found, not decodable, over a ceiling,
+    no such sheet, duplicate column names, no header) go to ``problems``;
+    the result is then ``None``.
     """
     if not path.is_file():
-        problems.add(label, None, None, str(path), "source file not found")
+        problems.add(label, None, None, str(path), "source folder, expected a file" if path.is_dir()
+                     else "source file not found")
         return None
-    if path.stat().st_size > _MAX_BYTES:
-        problems.add(label, None, None, path.stat().st_size, f"file is over the limit of {_MAX_BYTES} bytes")
+    size = path.stat().st_size
+    if size > max_bytes:
+        problems.add_limit(label, None, size, f"file is {size} bytes, over the limit of {max_bytes} bytes; it is not read")
         return None
     if path.suffix.lower() in _WORKBOOK_SUFFIXES:
-        raw = _read_sheet(path, label, sheet, problems, {} if books is None else books)
+        raw = _read_sheet(path, label, sheet, problems, {} if books is None else books, max_bytes, max_rows, what)
     else:
         if sheet is not None:
             problems.add(label, None, "sheet", sheet, "a sheet can only be named for a workbook (.xlsx)")
             return None
-        raw = _read_csv(path, label, encoding, delimiter, problems)
+        raw = _read_csv(path, label, encoding, delimiter, problems, max_bytes, max_rows, what)
     if raw is None:
         return None
-    records, times = raw
+    records, times, formulas = raw
     header: tuple[str, ...] | None = None
     rows: list[tuple[int, tuple[str | date, ...]]] = []
     blank = 0
@@ -102,19 +130,43 @@ def read_source(path: Path, label: str, sheet: str | None, encoding: str, delimi
     if header is None:
         problems.add(label, None, None, None, "no header row: the table is empty")
         return None
-    return SourceTable(label, header, tuple(rows), blank, times)
+    return SourceTable(label, header, tuple(rows), blank, times, formulas)
 
 
-def _read_csv(path: Path, label: str, encoding: str, delimiter: str, problems: Problems):
+def _over(problems: Problems, label: str, line: int, max_rows: int, what: str, sheet: bool) -> None:
+    blank = " (blank rows included)" if sheet else ""
+    problems.add_limit(label, line, f"row {line}",
+                       f"more than {max_rows} {what}{blank}, over the limit; the rest is not read")
+
+
+def _read_csv(path: Path, label: str, encoding: str, delimiter: str, problems: Problems,
+              max_bytes: int, max_rows: int, what: str):
     with open(path, "rb") as fh:  # read-only; never written
-        data = fh.read()
+        data = fh.read(max_bytes + 1)
+    if len(data) > max_bytes:  # grew while we looked
+        problems.add_limit(label, None, len(data), f"file is over the limit of {max_bytes} bytes")
+        return None
+    codec = "utf-8-sig" if encoding.lower().replace("_", "-") in ("utf-8", "utf8") else encoding
     try:
-        text = data.decode("utf-8-sig" if encoding.lower().replace("_", "-") == "utf-8" else encoding)
-    except (UnicodeDecodeError, LookupError) as exc:
-        problems.add(label, None, None, encoding, f"cannot decode the file: {exc}; set [values] encoding")
+        text = data.decode(codec)
+    except UnicodeDecodeError as exc:
+        line = data.count(b"\n", 0, exc.start) + 1
+        bad = data[exc.start: exc.start + 1].hex()
+        utf16 = b"\x00" in data[:4] or data.startswith((b"\xff\xfe", b"\xfe\xff"))
+        fix = ('it looks like UTF-16: set [values] encoding = "utf-16"' if utf16 else
+               'set [values] encoding to the file\'s encoding (for example "cp1252" or "latin-1")')
+        problems.add(label, line, None, f"0x{bad} at byte {exc.start}",
+                     f"the file is not {encoding} text; {fix}, or save it as UTF-8")
+        return None
+    nul = text.find("\x00")
+    if nul >= 0:
+        problems.add(label, text.count("\n", 0, nul) + 1, None, "U+0000",
+                     f"the file contains a NUL character; expected {encoding} text (is it UTF-16 or binary? "
+                     "set [values] encoding to the file's encoding)")
         return None
     reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter, strict=True)
     out = []
+    filled = 0
     try:
         while True:
             line = reader.line_num + 1
@@ -122,47 +174,122 @@ def _read_csv(path: Path, label: str, encoding: str, delimiter: str, problems: P
                 record = next(reader)
             except StopIteration:
                 break
-            out.append((line, [c.strip() for c in record]))
+            cells = [c.strip() for c in record]
+            if any(cells):
+                filled += 1
+                if filled > max_rows + 1:  # the header and max_rows data rows are in
+                    _over(problems, label, line, max_rows, what, sheet=False)
+                    return None
+            out.append((line, cells))
     except csv.Error as exc:
-        problems.add(label, reader.line_num, None, None, f"not valid CSV: {exc}")
+        problems.add(label, line, None, None, f"not valid CSV in the row that starts on this line: {exc} "
+                     "(check its quotes: a quoted cell must end with a quote)")
         return None
-    return out, 0
+    return out, 0, 0
 
 
 def close_books(books: dict) -> None:
     """Close the workbooks :func:`read_source` opened."""
     for wb in books.values():
-        wb.close()
+        if wb is not None:
+            wb.close()
     books.clear()
 
 
-def _read_sheet(path: Path, label: str, sheet: str | None, problems: Problems, books: dict):
+def _unpacked_size(path: Path) -> int | None:
+    try:
+        with zipfile.ZipFile(path) as z:
+            return sum(i.file_size for i in z.infolist())
+    except (zipfile.BadZipFile, OSError, ValueError):
+        return None  # openpyxl then says what is wrong with it
+
+
+def _open(path: Path, label: str, problems: Problems, books: dict, max_bytes: int):
+    """The workbook twice: saved values only, and formulas as text (to find formulas with no saved value)."""
     from openpyxl import load_workbook
 
     key = path.resolve()
-    wb = books.get(key)
-    if wb is None:
-        try:
-            wb = load_workbook(path, read_only=True, data_only=True)
-        except Exception as exc:  # openpyxl raises several types for a damaged file
-            problems.add(label, None, None, None, f"cannot open the workbook: {exc}")
-            return None
-        books[key] = wb
+    if key in books:
+        return books[key]
+    books[key] = None  # a workbook that cannot be opened is reported once
+    unpacked = _unpacked_size(path)
+    if unpacked is not None and unpacked > UNPACK_FACTOR * max_bytes:
+        problems.add_limit(label, None, unpacked,
+                           f"the workbook unpacks to {unpacked} bytes, over {UNPACK_FACTOR} times the file limit "
+                           f"of {max_bytes} bytes; it is not read")
+        return None
+    try:
+        values = load_workbook(path, read_only=True, data_only=True)
+        formulas = load_workbook(path, read_only=True, data_only=False)
+    except Exception as exc:  # openpyxl raises several types for a damaged file
+        problems.add(label, None, None, None, f"cannot open the workbook: {type(exc).__name__}: {exc}")
+        return None
+    books[key] = _Book(values, formulas)
+    return books[key]
+
+
+class _Book:
+    def __init__(self, values, formulas):
+        self.values, self.formulas = values, formulas
+
+    def close(self) -> None:
+        self.values.close()
+        self.formulas.close()
+
+
+def _rows(ws, min_row: int, max_col: int | None):
+    ws.reset_dimensions()  # never trust a declared size: it could claim a million rows and columns
+    return ws.iter_rows(min_row=min_row, max_col=max_col, values_only=True)
+
+
+def _read_sheet(path: Path, label: str, sheet: str | None, problems: Problems, books: dict,
+                max_bytes: int, max_rows: int, what: str):
+    book = _open(path, label, problems, books, max_bytes)
+    if book is None:
+        return None
+    wb = book.values
     if sheet is None:
-        ws = wb.worksheets[0]
-    elif sheet in wb.sheetnames:
-        ws = wb[sheet]
-    else:
+        if not wb.sheetnames:
+            problems.add(label, None, None, None, "the workbook has no sheets")
+            return None
+        sheet = wb.sheetnames[0]
+    elif sheet not in wb.sheetnames:
         problems.add(label, None, "sheet", sheet,
                      f"no such sheet; the workbook has {', '.join(repr(s) for s in wb.sheetnames)}")
         return None
+    ws, wf = wb[sheet], book.formulas[sheet]
+    if not hasattr(ws, "iter_rows"):  # a chart sheet
+        problems.add(label, None, "sheet", sheet, "not a worksheet (a chart sheet?)")
+        return None
+    # The header is the first row with a value; the data rows are then read no
+    # wider than it, so a row padded out to the last column costs nothing.
+    header_line, width = None, 0
+    for number, row in enumerate(_rows(ws, 1, _MAX_COLUMNS), 1):
+        if number > max_rows:
+            _over(problems, label, number, max_rows, what, sheet=True)
+            return None
+        if any(v is not None and str(v).strip() for v in row):
+            header_line = number
+            width = max(i for i, v in enumerate(row, 1) if v is not None and str(v).strip())
+            break
+    if header_line is None:
+        return [], 0, 0
     out = []
-    times = 0
-    for number, row in enumerate(ws.iter_rows(values_only=True), 1):
-        cells = []
-        for v in row:
+    times = formulas = 0
+    pairs = zip(_rows(ws, header_line, width), _rows(wf, header_line, width), strict=False)
+    for number, (row, frow) in enumerate(pairs, header_line):
+        if number - header_line > max_rows:
+            _over(problems, label, number, max_rows, what, sheet=True)
+            return None
+        cells: list = []
+        for v, f in zip(row, (*frow, *(None,) * (len(row) - len(frow))), strict=False):
+            is_formula = isinstance(f, str) and f.startswith("=") and v != f
+            if is_formula and v is None:
+                cells.append(Unsaved(f))
+                continue
+            formulas += is_formula
             value, dropped = _workbook_value(v)
             times += dropped
             cells.append(value)
         out.append((number, cells))
-    return out, times
+    return out, times, formulas

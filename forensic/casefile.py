@@ -167,7 +167,7 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None)
         snapshot_ids.update(ids)
         if snap is not None:
             snapshots.append(snap)
-    fragnets = _read_fragnets(root, limits, hashes, snapshot_ids, snapshots, ctx)
+    fragnets, unreadable = _read_fragnets(root, limits, hashes, snapshot_ids, snapshots, ctx)
     events = ()
     if m.events_path is not None:
         rel, full = m.events_path
@@ -176,7 +176,7 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None)
         if rows is not None:
             events = tuple(read_events(
                 rows, rel, parties=m.parties, snapshot_ids=snapshot_ids, problems=problems,
-                fragnets={k: tuple(f.activities) for k, f in fragnets.items()}))
+                fragnets={k: tuple(f.activities) for k, f in fragnets.items()}, unreadable=unreadable))
     if m.project is not None and m.project.completion and snapshot_ids \
             and m.project.completion not in snapshot_ids:
         problems.add(MANIFEST, None, "project.completion", m.project.completion,
@@ -234,16 +234,24 @@ def _read_snapshot(spec, root: Path, limits: Limits, hashes, ctx) -> tuple[Snaps
 
 
 def _read_fragnets(root: Path, limits: Limits, hashes, snapshot_ids: set[str], snapshots: list[Snapshot],
-                   ctx) -> dict[str, Fragnet]:
+                   ctx) -> tuple[dict[str, Fragnet], set[str]]:
+    """The fragnets read, and the names of the fragnet folders that could not be read.
+
+    A folder whose problem is already reported (a missing or bad file) is
+    still a fragnet the events may name: :func:`read_events` does not
+    report it again as unknown, nor the activities an event gives with it.
+    """
     problems = ctx["problems"]
     folder = root / "fragnets"
     fragnets: dict[str, Fragnet] = {}
+    unreadable: set[str] = set()
     if not folder.exists():
-        return fragnets
+        return fragnets, unreadable
     if resolve_inside(root, "fragnets", problems, "fragnets", "fragnets") is None:
-        return fragnets
+        return fragnets, unreadable
     for sub in sorted(p for p in folder.iterdir() if p.is_dir() and not p.name.startswith(".")):
         name = sub.name
+        unreadable.add(name)  # until it is read whole
         found = {}
         for what in ("activities", "links"):
             hit = resolve_inside(root, f"fragnets/{name}/{what}.csv", problems, f"fragnets/{name}", what)
@@ -276,7 +284,8 @@ def _read_fragnets(root: Path, limits: Limits, hashes, snapshot_ids: set[str], s
             check_fragnet_loops(table.ids, links, snapshots, lrel, problems)
         fragnets[name] = Fragnet(name, frozen_mapping(table.activities), tuple(links),
                                  frozen_mapping({"activities": rel, "links": lrel}))
-    return fragnets
+        unreadable.discard(name)
+    return fragnets, unreadable
 
 
 class _Manifest:

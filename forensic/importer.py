@@ -20,6 +20,13 @@ guessed: what the import dropped (source columns it did not use, blank
 rows, times of day) or defaulted (a blank relationship type read as FS, a
 duration rounded to whole days) is listed in the report.
 
+Hostile sources are held to the loader's ceilings
+(:class:`~forensic.casefile.Limits`: file size before reading, rows per
+table, a workbook's unpacked size) and character rule, and a problem the
+reload finds (a logic loop) is mapped back from the written casefile's file
+and line to the user's source and row, so every message names what the
+user can fix.
+
 References
 ----------
 AACE International Recommended Practice 29R-03, Forensic Schedule Analysis,
@@ -29,18 +36,20 @@ every change made to bring them into the analysis is recorded).
 
 from __future__ import annotations
 
+import codecs
 import math
 import os
+import re
 import shutil
 import tempfile
 import tomllib
 from collections import Counter
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import date, datetime
 from pathlib import Path
 from typing import Any
 
-from ._csvread import Problems, Row
+from ._csvread import Problems, Row, find_unsafe_char
 from ._records import (
     ACTIVITY_COLUMNS,
     EVENT_COLUMNS,
@@ -49,9 +58,9 @@ from ._records import (
     read_events,
     read_links,
 )
-from ._sources import SourceTable, close_books, read_source
-from .casefile import _CALENDAR_KEYS, _PARTY_KEYS, _PROJECT_KEYS, load_casefile
-from .errors import CasefileError, ImportMappingError, InputProblem, OutputError
+from ._sources import SourceTable, Unsaved, close_books, read_source
+from .casefile import _CALENDAR_KEYS, _PARTY_KEYS, _PROJECT_KEYS, Limits, load_casefile
+from .errors import CasefileError, ImportMappingError, InputProblem, LimitExceeded, OutputError
 from .model import (
     ACTIVITY_KINDS,
     CATEGORIES,
@@ -87,6 +96,7 @@ _DATE_FIELDS = ("actual_start", "actual_finish", "constraint_date", "start", "fi
 _CODE_FIELDS = {"kind": ("kinds", ACTIVITY_KINDS), "type": ("link_types", LINK_TYPES),
                 "constraint": ("constraints", CONSTRAINT_KINDS), "category": ("categories", CATEGORIES)}
 _FORMULA_LEADS = ("=", "+", "-", "@", "\t", "\r")
+_SAFE_ID = re.compile(r"^[A-Za-z0-9_-][A-Za-z0-9 ._-]{0,99}$")
 _DEFAULTS = {  # what the casefile format does with a blank optional field
     ("activities", "kind"): "read as task",
     ("activities", "remaining"): "the duration if not started, 0 if finished",
@@ -129,20 +139,16 @@ class _Values:
 class _Mapping:
     """The checked mapping file; problems name the mapping file and key."""
 
-    def __init__(self, path: Path, problems: Problems):
+    def __init__(self, path: Path, problems: Problems, limits: Limits):
         self.path = path
         self.label = path.name
         self.base = path.parent
         self.problems = problems
-        try:
-            with open(path, "rb") as fh:
-                doc = tomllib.load(fh)
-        except FileNotFoundError:
-            self._bad(None, str(path), "mapping file not found")
-            doc = {}
-        except tomllib.TOMLDecodeError as exc:
-            self._bad(None, None, f"not valid TOML: {exc}")
-            doc = {}
+        self.limits = limits
+        doc = self._toml(path, self.label, None)
+        if doc is None:
+            return
+        _walk_text(doc, "", self.label, problems)
         if doc and doc.get("format") != FORMAT:
             self._bad("format", doc.get("format"), f"expected format = {FORMAT!r} at the top of the mapping")
         for key in doc:
@@ -158,6 +164,34 @@ class _Mapping:
         self.fragnets = [self._spec(t, f"fragnet #{i}", ("id", "activities", "links"))
                          for i, t in enumerate(self._list(doc, "fragnet", False), 1)]
         self.events = self._ref(doc["events"], "events") if "events" in doc else None
+
+    def _toml(self, path: Path, label: str, key: str | None) -> dict | None:
+        """A TOML file read within the file ceiling; ``None`` (and a problem) if it cannot be read."""
+        def bad(value: Any, message: str) -> None:
+            self.problems.add(label, None, key, value, message)
+
+        if not path.is_file():
+            bad(str(path), "folder, expected a TOML file" if path.is_dir() else "file not found")
+            return None
+        size = path.stat().st_size
+        if size > self.limits.max_file_bytes:
+            self.problems.add_limit(label, None, size, f"file is {size} bytes, over the limit of "
+                                    f"{self.limits.max_file_bytes} bytes; it is not read")
+            return None
+        with open(path, "rb") as fh:  # read-only; never written
+            data = fh.read(self.limits.max_file_bytes + 1)
+        try:
+            text = data.decode("utf-8-sig")
+        except UnicodeDecodeError as exc:
+            bad(f"0x{data[exc.start:exc.start + 1].hex()} at byte {exc.start}", "not UTF-8 text; save it as UTF-8")
+            return None
+        try:
+            return tomllib.loads(text)
+        except tomllib.TOMLDecodeError as exc:
+            bad(None, f"not valid TOML: {exc}")
+        except RecursionError:  # arrays or tables nested thousands deep: hostile, not a mapping
+            bad(None, "not valid TOML: nested too deeply")
+        return None
 
     def _bad(self, key: str | None, value: Any, message: str) -> None:
         self.problems.add(self.label, None, key, value, message)
@@ -181,12 +215,11 @@ class _Mapping:
         path = self._file(doc["settings"], "settings")
         if path is None:
             return {}
-        try:
-            with open(path, "rb") as fh:
-                other = tomllib.load(fh)
-        except (OSError, tomllib.TOMLDecodeError) as exc:
-            self._bad("settings", str(path), f"cannot read the settings file: {exc}")
+        other = self._toml(path, f"{self.label}, settings file {path.name}", "settings")
+        if other is None:
             return {}
+        _walk_text({k: other[k] for k in ("project", "party", "calendar") if k in other}, "",
+                   f"{self.label}, settings file {path.name}", self.problems)
         ignored = sorted(k for k in other if k not in ("project", "party", "calendar"))
         if ignored:
             self.notes.append(f"settings {path.name}: ignored keys {', '.join(ignored)} (only project, party and calendar are read)")
@@ -229,6 +262,9 @@ class _Mapping:
         spec: dict[str, Any] = {"id": sid, "where": where, "role": t.get("role", "update")}
         if not isinstance(sid, str) or not sid.strip():
             self._bad(f"{where}.id", sid, "expected an id such as BL or U01")
+        elif not _SAFE_ID.match(sid) or find_unsafe_char(sid) is not None:
+            self._bad(f"{where}.id", sid, "the id names a casefile folder: use letters, digits, blanks, "
+                      "'-', '_' and '.', not starting with '.' or a blank (at most 100 characters)")
         if "data_date" in keys:
             raw = t.get("data_date")
             spec["data_date"] = None
@@ -328,8 +364,24 @@ class _Mapping:
         return _Values(
             tuple(formats), durations, lags, float(hpd), choice("rounding", "refuse", ("refuse", "up", "nearest")),
             choice("percent", "number", ("number", "fraction")), frozenset(b.strip().casefold() for b in blanks),
-            codes, str(v.get("encoding", "utf-8")), str(v.get("delimiter", ",")),
+            codes, self._encoding(v.get("encoding", "utf-8")), self._delimiter(v.get("delimiter", ",")),
         )
+
+    def _encoding(self, value: Any) -> str:
+        try:
+            if not isinstance(value, str):
+                raise LookupError(value)
+            codecs.lookup(value)
+        except LookupError:
+            self._bad("values.encoding", value, 'expected a text encoding such as "utf-8", "cp1252" or "utf-16"')
+            return "utf-8"
+        return value
+
+    def _delimiter(self, value: Any) -> str:
+        if not isinstance(value, str) or len(value) != 1 or value in "\"\r\n" or find_unsafe_char(value):
+            self._bad("values.delimiter", value, 'expected one character such as "," or ";" or "\\t"')
+            return ","
+        return value
 
 
 def _parse_date(raw: str, formats: tuple[str, ...]) -> date | None:
@@ -389,6 +441,7 @@ class _Converter:
                 self.counts[f"{table}: no column for {field}; {_DEFAULTS[table, field]}"] += len(source.rows)
         self.counts[f"{table}: wholly blank rows skipped"] += source.blank_rows
         self.counts[f"{table}: time of day dropped from workbook date cells"] += source.times_dropped
+        self.counts[f"{table}: workbook formulas read by their saved value (never evaluated)"] += source.formulas
         index = {h: i for i, h in enumerate(source.header)}
         out = []
         for line, cells in source.rows:
@@ -400,6 +453,12 @@ class _Converter:
         return out
 
     def _value(self, table: str, field: str, column: str, raw: str | date, label: str, line: int) -> str:
+        if isinstance(raw, Unsaved):
+            self.problems.add(label, line, column, str(raw),
+                              f"{field}: a formula with no saved value; formulas are never evaluated, so open "
+                              "the workbook in a spreadsheet program and save it (or paste the values)")
+            self.flagged.add((label, line, field))
+            return ""
         if isinstance(raw, date):
             if field in _DATE_FIELDS:
                 return raw.isoformat()
@@ -416,6 +475,13 @@ class _Converter:
             self.problems.add(label, line, column, text, f"{field}: {message}")
             self.flagged.add((label, line, field))
             return text
+
+        unsafe = find_unsafe_char(text)
+        if unsafe is not None:
+            self.problems.add(label, line, column, unsafe[1], f"{field}: contains a control or text-direction "
+                              "character (the casefile format refuses them); expected printable text")
+            self.flagged.add((label, line, field))
+            return ""
 
         if text.startswith("'") and text[1:2] in _FORMULA_LEADS:
             # our own exports neutralise such text (OWASP); read it back as written
@@ -479,21 +545,46 @@ def _num(value: float) -> str:
     return str(int(value)) if float(value).is_integer() else repr(value)
 
 
+def _seq(value: Any) -> tuple:
+    """A list as a tuple; anything else as a one-item tuple, for the loader to refuse by its key."""
+    return tuple(value) if isinstance(value, (list, tuple)) else (value,)
+
+
+def _walk_text(doc: Any, key: str, label: str, problems: Problems) -> None:
+    """Refuse a control or text-direction character in any text of the mapping, naming its key."""
+    if isinstance(doc, str):
+        bad = find_unsafe_char(doc)
+        if bad is not None:
+            problems.add(label, None, key or None, bad[1],
+                         "contains a control or text-direction character; expected printable text")
+    elif isinstance(doc, dict):
+        for k, v in doc.items():
+            _walk_text(k, key, label, problems)
+            _walk_text(v, f"{key}.{k}" if key else str(k), label, problems)
+    elif isinstance(doc, list):
+        for i, v in enumerate(doc, 1):
+            _walk_text(v, f"{key} #{i}", label, problems)
+
+
 def _settings(m: _Mapping, problems: Problems) -> tuple[Project | None, dict[str, Party], dict[str, Calendar]]:
     """Project, parties and calendars, lightly checked; the loader checks them fully after writing."""
     s = m.settings
     parties: dict[str, Party] = {}
     calendars: dict[str, Calendar] = {}
-    for i, t in enumerate(s.get("calendar", []) if isinstance(s.get("calendar"), list) else [], 1):
+    for name in ("calendar", "party"):
+        if name in s and (not isinstance(s[name], list) or not all(isinstance(t, dict) for t in s[name])):
+            m._bad(name, None, f"expected [[{name}]] tables (two brackets: there may be several)")
+            s = {k: v for k, v in s.items() if k != name}
+    for i, t in enumerate(s.get("calendar", []), 1):
         bad = [k for k in t if k not in _CALENDAR_KEYS]
         for k in bad:
             m._bad(f"calendar #{i}.{k}", k, f"unknown key; expected only {', '.join(_CALENDAR_KEYS)}")
         if isinstance(t.get("id"), str):
-            calendars[t["id"]] = Calendar(t["id"], tuple(t.get("workdays", ())),
-                                          tuple(t.get("holidays", ())), tuple(t.get("extra_workdays", ())))
+            calendars[t["id"]] = Calendar(t["id"], _seq(t.get("workdays", ())),
+                                          _seq(t.get("holidays", ())), _seq(t.get("extra_workdays", ())))
     if not calendars:
         m._bad("calendar", None, "missing; expected at least one [[calendar]] table (in the mapping or its settings file)")
-    for i, t in enumerate(s.get("party", []) if isinstance(s.get("party"), list) else [], 1):
+    for i, t in enumerate(s.get("party", []), 1):
         for k in t:
             if k not in _PARTY_KEYS:
                 m._bad(f"party #{i}.{k}", k, f"unknown key; expected only {', '.join(_PARTY_KEYS)}")
@@ -514,8 +605,18 @@ def _settings(m: _Mapping, problems: Problems) -> tuple[Project | None, dict[str
     return project, parties, calendars
 
 
-def read_mapping(path: str | os.PathLike[str]) -> tuple[Casefile, tuple[str, ...]]:
+def read_mapping(path: str | os.PathLike[str], *, limits: Limits | None = None) -> tuple[Casefile, tuple[str, ...]]:
     """Read the mapping and its sources into a casefile in memory, with the import notes.
+
+    Parameters
+    ----------
+    path : str or path-like
+        The mapping TOML.
+    limits : Limits, optional
+        The loader's ceilings, applied to the mapping and to every source:
+        file size (checked before reading; a workbook also unpacked), and
+        rows per table (activities and events tables: ``max_activities``;
+        links tables: ``max_links``).
 
     Raises
     ------
@@ -523,12 +624,31 @@ def read_mapping(path: str | os.PathLike[str]) -> tuple[Casefile, tuple[str, ...
         Listing every problem of the mapping and of the source rows, each
         naming the mapping key, or the source file (``book.xlsx[sheet]``),
         row, column and value.
+    LimitExceeded
+        When a file or table is over a ceiling (only the ceilings are listed).
     """
+    cf, notes, _back = _read(Path(path), limits or Limits())
+    return cf, notes
+
+
+def _raise(problems: Problems):
+    if problems.limit_hit:  # tables not read whole: other problems may be echoes of the missing rows
+        err = LimitExceeded(problems.limits)
+        if len(err.problems) > 1:
+            err.args = (f"{len(err.problems)} problems in the import:\n" + "\n".join(f"  {p}" for p in err.problems),)
+        raise err
+    raise ImportMappingError(problems.items)
+
+
+def _read(path: Path, limits: Limits) -> tuple[Casefile, tuple[str, ...], tuple[dict, dict]]:
+    """The casefile, the notes, and what :class:`_Origins` needs to name the sources."""
     problems = Problems()
-    m = _Mapping(Path(path), problems)
+    m = _Mapping(path, problems, limits)
     if problems:
-        raise ImportMappingError(problems.items)
+        _raise(problems)
     project, parties, calendars = _settings(m, problems)
+    if problems:  # without the parties and calendars, every row naming one would be reported too
+        _raise(problems)
     conv = _Converter(m, problems)
     warnings: list[str] = []
     cal_ids = tuple(calendars)
@@ -554,7 +674,9 @@ def _read_all(m: _Mapping, conv: _Converter, project, parties, calendars, cal_id
         if ref is None:
             complete = False
             return None
-        src = read_source(ref[0], ref[2], ref[1], m.values.encoding, m.values.delimiter, problems, books)
+        ceiling = m.limits.max_links if what == "links" else m.limits.max_activities
+        src = read_source(ref[0], ref[2], ref[1], m.values.encoding, m.values.delimiter, problems, books,
+                          max_bytes=m.limits.max_file_bytes, max_rows=ceiling, what=f"rows of {what}")
         rows = None if src is None else conv.rows(what, src)
         complete = complete and rows is not None
         return rows
@@ -597,25 +719,100 @@ def _read_all(m: _Mapping, conv: _Converter, project, parties, calendars, cal_id
                                    fragnets={k: tuple(f.activities) for k, f in fragnets.items()}))
     conv.drop_echoes()
     if problems:
-        raise ImportMappingError(problems.items)
+        _raise(problems)
     cf = Casefile(project, frozen_mapping(calendars), frozen_mapping(parties), tuple(snapshots),
                   events, frozen_mapping(fragnets))
-    notes = list(m.notes)
-    for table_name, cols in conv.unused.items():
+    return cf, tuple(m.notes) + _notes(conv), (_origins(cf, m), m.columns)
+
+
+def _notes(conv: _Converter) -> tuple[str, ...]:
+    """What was dropped or defaulted, table by table (activities, links, events)."""
+    notes = []
+    for table in FIELDS:
+        cols = conv.unused.get(table)
         if cols:
-            notes.append(f"{table_name}: source columns not used (dropped): {', '.join(sorted(cols))}")
-    notes += [f"{what} ({n} {'rows' if 'no column' in what else 'cells'})" if "rows" not in what
-              else f"{what} ({n})" for what, n in conv.counts.items() if n]
-    return cf, tuple(notes)
+            notes.append(f"{table}: source columns not used (dropped): {', '.join(sorted(cols))}")
+        for what, n in conv.counts.items():
+            if n and what.startswith(f"{table}: "):
+                unit = "" if "rows" in what else " rows" if "no column" in what else " cells"
+                if n == 1:
+                    unit = unit.removesuffix("s")
+                notes.append(f"{what} ({n}{unit})")
+    return tuple(notes)
 
 
-def _translate(problems: tuple[InputProblem, ...], mapping: str) -> list[InputProblem]:
-    """Name the mapping file for problems the loader found in the manifest it was given."""
-    return [InputProblem(mapping, p.line, p.key, p.value, p.message) if p.file == "casefile.toml" else p
-            for p in problems]
+def _origins(cf: Casefile, m: _Mapping) -> dict[str, tuple[str, tuple[int, ...]]]:
+    """Each casefile table the writer will write -> (source label, source row of each written line).
+
+    The writer (:mod:`forensic.writer`) writes a header, then one line per
+    record in order, so line ``k + 2`` of the written file is record ``k``,
+    whose ``line`` is its row in the source.
+    """
+    labels = {}
+    for kind, specs in (("snapshots", m.snapshots), ("fragnets", m.fragnets)):
+        for spec in specs:
+            for what in ("activities", "links"):
+                if spec[what] is not None:
+                    labels[f"{kind}/{spec['id']}/{what}.csv"] = spec[what][2]
+    out: dict[str, tuple[str, tuple[int, ...]]] = {}
+
+    def put(rel: str, records) -> None:
+        if rel in labels:
+            out[rel] = (labels[rel], tuple(r.line or 0 for r in records))
+
+    for snap in cf.snapshots:
+        put(f"snapshots/{snap.id}/activities.csv", snap.activities.values())
+        put(f"snapshots/{snap.id}/links.csv", snap.links)
+    for frag in cf.fragnets.values():
+        put(f"fragnets/{frag.id}/activities.csv", frag.activities.values())
+        put(f"fragnets/{frag.id}/links.csv", frag.links)
+    if m.events is not None:
+        out["events.csv"] = (m.events[2], tuple(e.line or 0 for e in cf.events))
+    return out
 
 
-def import_casefile(mapping: str | os.PathLike[str], out: str | os.PathLike[str]) -> ImportReport:
+_LINES = re.compile(r"\b(lines?) (\d+(?:, \d+)*)")
+
+
+class _Origins:
+    """Maps the written casefile's files and lines back to the user's sources and rows."""
+
+    def __init__(self, origins: dict[str, tuple[str, tuple[int, ...]]], mapping: str, m_columns):
+        self.origins = origins
+        self.mapping = mapping
+        self.columns = m_columns
+
+    def line(self, rel: str, line: int | None) -> int | None:
+        rows = self.origins[rel][1]
+        if line is None or not 2 <= line < len(rows) + 2:
+            return line
+        return rows[line - 2]
+
+    def text(self, rel: str, text: str) -> str:
+        """``text`` with every "line N" / "lines N, M" of ``rel`` turned into source rows."""
+        return _LINES.sub(lambda h: f"{h.group(1)} " + ", ".join(
+            str(self.line(rel, int(n))) for n in h.group(2).split(", ")), text)
+
+    def problem(self, p: InputProblem) -> InputProblem:
+        if p.file == "casefile.toml":
+            return InputProblem(self.mapping, p.line, p.key, p.value, p.message)
+        if p.file not in self.origins:
+            return p
+        table = p.file.rsplit("/", 1)[-1].removesuffix(".csv")
+        key = self.columns.get(table, {}).get(p.key, p.key) if p.key else p.key
+        return InputProblem(self.origins[p.file][0], self.line(p.file, p.line), key, p.value,
+                            self.text(p.file, p.message))
+
+    def warning(self, w: str) -> str:
+        for rel, (label, _rows) in self.origins.items():
+            if w.startswith(f"{rel}, line "):
+                head, _, rest = w.partition(": ")
+                return f"{label}, {self.text(rel, head[len(rel) + 2:])}: {self.text(rel, rest)}"
+        return w
+
+
+def import_casefile(mapping: str | os.PathLike[str], out: str | os.PathLike[str], *,
+                    limits: Limits | None = None) -> ImportReport:
     """Build, validate and write a casefile from the sources a mapping describes.
 
     Parameters
@@ -624,6 +821,9 @@ def import_casefile(mapping: str | os.PathLike[str], out: str | os.PathLike[str]
         The mapping TOML (docs/import-export.md).
     out : str or path-like
         The casefile folder to create. It must not exist, or be empty.
+    limits : Limits, optional
+        The ceilings on file size and rows (:func:`read_mapping`); the
+        written casefile is loaded within the same ceilings.
 
     Returns
     -------
@@ -636,6 +836,8 @@ def import_casefile(mapping: str | os.PathLike[str], out: str | os.PathLike[str]
     ImportMappingError
         For problems in the mapping or the source rows, or in the casefile
         built from them (as found by the loader); nothing is written.
+    LimitExceeded
+        When a mapping, settings or source file, or a table, is over a ceiling.
     OutputError
         When ``out`` exists and is not an empty folder.
     ScheduleError
@@ -653,20 +855,24 @@ def import_casefile(mapping: str | os.PathLike[str], out: str | os.PathLike[str]
     if not parent.is_dir():
         msg = f"{target}: the folder {parent} does not exist"
         raise OutputError(msg)
-    cf, notes = read_mapping(mapping)
+    limits = limits or Limits()
+    m_path = Path(mapping)
+    cf, notes, (origins, columns) = _read(m_path, limits)
+    back = _Origins(origins, m_path.name, columns)
     tmp = Path(tempfile.mkdtemp(prefix=f".{target.name}.", suffix=".part", dir=parent))
     try:
         write_casefile(cf, tmp)
         try:
-            loaded = load_casefile(tmp)
+            loaded = load_casefile(tmp, limits=limits)
         except CasefileError as exc:
-            raise ImportMappingError(_translate(exc.problems, Path(mapping).name)) from None
+            raise ImportMappingError([back.problem(p) for p in exc.problems]) from None
         validation = validate_casefile(loaded)
+        validation = replace(validation, warnings=tuple(back.warning(w) for w in validation.warnings))
         if target.exists():
             target.rmdir()
         os.replace(tmp, target)
     except BaseException:
         shutil.rmtree(tmp, ignore_errors=True)
         raise
-    final = load_casefile(target)
+    final = load_casefile(target, limits=limits)
     return ImportReport(target, final, validation, notes, validation.warnings)

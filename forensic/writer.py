@@ -95,6 +95,9 @@ def events_csv(events: Iterable[Event]) -> str:
     )
 
 
+_ESCAPES = {"\\": "\\\\", '"': '\\"', "\n": "\\n", "\t": "\\t", "\r": "\\r"}
+
+
 def _toml_value(value) -> str:
     if isinstance(value, bool):
         return "true" if value else "false"
@@ -104,7 +107,7 @@ def _toml_value(value) -> str:
         return value.isoformat()
     if isinstance(value, (list, tuple)):
         return "[" + ", ".join(_toml_value(v) for v in value) + "]"
-    s = str(value).replace("\\", "\\\\").replace('"', '\\"').replace("\n", "\\n")
+    s = "".join(_ESCAPES.get(c, f"\\u{ord(c):04x}" if ord(c) < 0x20 or ord(c) == 0x7F else c) for c in str(value))
     return f'"{s}"'
 
 

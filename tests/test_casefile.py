@@ -418,6 +418,16 @@ def test_fragnet_sharing_an_id_is_refused_only_when_inserted_into_that_snapshot(
         insert_fragnet(cf.snapshot("U01"), frag)
 
 
+@pytest.mark.parametrize("missing", [FRAG_LINKS, FRAG_ACT])
+def test_missing_fragnet_file_is_reported_alone(root, missing):
+    """A fragnet folder with a file missing gives one problem, not a knock-on "no such fragnet" in events.csv."""
+    (root / missing).unlink()
+    err = refused(root)
+    # Expected: the one real problem (the casefile format: a fragnet folder holds both files).
+    assert [(p.file, p.message) for p in err.problems] == [(missing, "file not found")]
+    assert "events.csv" not in str(err)
+
+
 def test_fragnet_link_to_an_id_found_nowhere_is_refused(root):
     """A fragnet link must tie to the fragnet or to some snapshot's activities (the format, events.csv)."""
     edit(root, FRAG_LINKS, "A110,F10", "A111,F10")

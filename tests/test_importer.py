@@ -128,7 +128,7 @@ def test_fractional_days_are_rounded_only_when_asked(example: Path, tmp_path: Pa
     edit(example / "mapping.toml", "hours_per_day = 8", f'hours_per_day = 8\nrounding = "{rounding}"')
     report = import_casefile(example / "mapping.toml", tmp_path / "case")
     assert report.casefile.snapshot("BL").activities["KL-120"].duration == expected
-    assert f"activities: duration rounded {rounding} to whole working days (1 cells)" in report.notes
+    assert f"activities: duration rounded {rounding} to whole working days (1 cell)" in report.notes
 
 
 def test_custom_relationship_codes_any_case(example: Path, tmp_path: Path) -> None:
@@ -298,7 +298,7 @@ def test_report_lists_what_was_dropped_and_defaulted(example: Path, tmp_path: Pa
     # Expected values counted by hand in the example files: a Notes column; two "-" lags; one event.
     assert "activities: source columns not used (dropped): Notes" in report.notes
     assert "links: lag blank; read as 0 (2 cells)" in report.notes
-    assert "events: no column for category; taken from the party's role (1 rows)" in report.notes
+    assert "events: no column for category; taken from the party's role (1 row)" in report.notes
     assert report.casefile.events[0].category == "excusable-compensable"  # owner's delay (SCL Protocol)
 
 
@@ -334,3 +334,40 @@ def test_cli_import_prints_the_report(example: Path, tmp_path: Path) -> None:
     again = CliRunner().invoke(main, ["import", str(example / "mapping.toml"), "--out", str(tmp_path / "case")])
     assert again.exit_code == 1
     assert "Error: " in again.output and "already exists" in again.output
+
+
+def test_logic_loop_found_on_reload_names_the_source_rows(example: Path, tmp_path: Path) -> None:
+    """A loop only the reload finds is reported at the user's file and rows, not the temporary casefile's."""
+    # A blank line after the header shifts every source row one below its line in the written casefile.
+    edit(example / "logic-baseline.csv", "Offset (h)\n", "Offset (h)\n\n")
+    edit(example / "logic-baseline.csv", "KL-300,KL-900,Finish-Finish,0\n",
+         "KL-300,KL-900,Finish-Finish,0\nKL-300,KL-120,Finish-Start,0\n")
+    err = problems_of(example / "mapping.toml", tmp_path / "case")
+    text = str(err)
+    # Expected rows by hand: KL-120 -> KL-210 is row 7, KL-210 -> KL-300 row 9, KL-300 -> KL-120 row 11.
+    assert "logic-baseline.csv, line 7: logic loop through the links on lines " in text
+    lines = text.split("on lines ")[1].split(";")[0]
+    assert sorted(map(int, lines.split(", "))) == [7, 9, 11]
+    assert "snapshots/" not in text and ".part" not in text
+    assert list(tmp_path.iterdir()) == [example]  # nothing written, no temporary folder left
+
+
+def test_reload_warning_names_the_source_row(example: Path, tmp_path: Path) -> None:
+    """A loader warning on the written casefile (a link into finished work) names the source file and row."""
+    # In U01, KL-100 is finished; a new link into it from unfinished KL-200 (not after it) is a warning.
+    edit(example / "logic-update1.csv", "Offset (h)\n", "Offset (h)\nKL-200,KL-100,Finish-Finish,0\n")
+    report = import_casefile(example / "mapping.toml", tmp_path / "case")
+    # Expected: the row just added is line 2 of logic-update1.csv (casefiles/README.md: such a link is a warning).
+    assert any(w.startswith("logic-update1.csv, line 2: link KL-200 -> KL-100 has no effect") for w in report.warnings), \
+        report.warnings
+
+
+def test_worked_example_in_the_docs_is_the_example_mapping() -> None:
+    """docs/import-export.md shows the whole example mapping, so a copy of it imports as documented."""
+    import tomllib
+
+    doc = (ROOT / "docs" / "import-export.md").read_text(encoding="utf-8")
+    block = doc.split("```toml\n", 1)[1].split("```", 1)[0]
+    # Expected: examples/import/mapping.toml itself (the doc's worked example).
+    assert tomllib.loads(block) == tomllib.loads((EXAMPLE / "mapping.toml").read_text(encoding="utf-8"))
+    assert "$ forensic import examples/import/mapping.toml --out kestrel" in doc

@@ -11,7 +11,8 @@ import click
 from ..model import Casefile
 from ..outputs import atomic_write
 
-__all__ = ["casefile_argument", "emit", "emit_xlsx", "format_options", "load", "pick_format", "status", "xlsx_option"]
+__all__ = ["casefile_argument", "emit", "emit_xlsx", "format_options", "limit_hint", "load", "pick_format",
+           "status", "xlsx_option"]
 
 
 def casefile_argument(func: Callable) -> Callable:
@@ -92,9 +93,15 @@ def _limit_hint(problem) -> str:
     """The option (and environment variable) that raises the ceiling a problem hit."""
     if "bytes" in problem.message:
         return "--max-file-mb or FORENSIC_MAX_FILE_MB"
-    if problem.file.endswith("links.csv"):
+    if problem.file.endswith("links.csv") or "rows of links" in problem.message:
         return "--max-links or FORENSIC_MAX_LINKS"
     return "--max-activities or FORENSIC_MAX_ACTIVITIES"  # activities and events rows
+
+
+def limit_hint(exc) -> str:
+    """The sentence that tells which options raise the ceilings a ``LimitExceeded`` hit."""
+    hints = sorted({_limit_hint(p) for p in exc.problems if "limit" in p.message})
+    return f"(raise the limit with {' / '.join(hints)} if the file is genuine)"
 
 
 def load(path: Path) -> Casefile:
@@ -112,8 +119,7 @@ def load(path: Path) -> Casefile:
     try:
         cf = load_casefile(path, limits=limits)
     except LimitExceeded as exc:
-        hints = sorted({_limit_hint(p) for p in exc.problems if "limit" in p.message})
-        raise click.ClickException(f"{exc}\n(raise the limit with {' / '.join(hints)} if the file is genuine)") from None
+        raise click.ClickException(f"{exc}\n{limit_hint(exc)}") from None
     if ctx is not None:
         ctx.meta[_CASEFILE] = cf
     return cf

@@ -6,6 +6,7 @@ from pathlib import Path
 
 import click
 
+from ..attribution import analyse_delay
 from ..demo import copy_demo
 from ..engine import schedule_snapshot
 from ..outputs import atomic_write
@@ -45,8 +46,18 @@ def demo(out: Path) -> None:
         f"{last.completion.isoformat()}, {(last.completion - base.completion).days} calendar days later."
     )
     click.echo("Longest path now: " + " -> ".join(last.longest_path))
+    delay = analyse_delay(cf)
+    t = delay.ledger.total
+    unit = cf.project.delay_unit.replace("-", " ")
+    click.echo(
+        f"Windows analysis ({len(delay.ledger.windows)} windows, {unit}): slip {t.total} = "
+        f"excusable and compensable {t.excusable_compensable}, excusable not compensable "
+        f"{t.excusable_noncompensable}, not excusable {t.non_excusable}, concurrent {t.concurrent}, "
+        f"gains {t.gains}, unattributed revision {t.unattributed_revision}, unassigned {t.unassigned}."
+    )
     report = out / f"{folder.name}-{DEFAULT_TEMPLATE}.pdf"
     pdf = build_report(cf, DEFAULT_TEMPLATE, command=f"forensic report {folder.name} --template {DEFAULT_TEMPLATE}")
     atomic_write(report, pdf, [folder / rel for rel in cf.inputs])
     click.echo(f"Report written to {report}")
-    click.echo(f"Next: forensic schedule {folder} --snapshot {last.snapshot_id}")
+    click.echo(f"Next: forensic windows {folder}   (the window table, contributors and the ledger)")
+    click.echo("The results support, and do not replace, the judgement of a qualified scheduling professional.")

@@ -6,27 +6,36 @@ from pathlib import Path
 
 import click
 
+from ..casefile import Limits
+from ..errors import LimitExceeded
 from ..importer import import_casefile
 from ._base import main
+from ._common import limit_hint
 
 
 @main.command("import")
 @click.argument("mapping", metavar="MAPPING.toml", type=click.Path(path_type=Path, dir_okay=False))
 @click.option("--out", required=True, type=click.Path(path_type=Path, file_okay=False), metavar="CASEFILE_DIR",
               help="The casefile folder to create (new, or empty).")
-def import_command(mapping: Path, out: Path) -> None:
+@click.pass_context
+def import_command(ctx: click.Context, mapping: Path, out: Path) -> None:
     """Build a casefile in CASEFILE_DIR from the CSV or XLSX files MAPPING.toml describes.
 
     The mapping names the source files or sheets of each snapshot, their
     column names, date formats, relationship codes, units and the project
     settings (docs/import-export.md). The casefile is loaded and every
     snapshot scheduled before it is moved into place; nothing is written if
-    anything is wrong. What was dropped or defaulted is listed.
+    anything is wrong. What was dropped or defaulted is listed. The
+    group's --max-file-mb, --max-activities and --max-links ceilings apply
+    to the mapping and every source (give them before "import").
 
-    Example: forensic import examples/import/mapping.toml --out harbour-case
+    Example: forensic import examples/import/mapping.toml --out kestrel
 
     """
-    report = import_casefile(mapping, out)
+    try:
+        report = import_casefile(mapping, out, limits=ctx.find_object(Limits))
+    except LimitExceeded as exc:
+        raise click.ClickException(f"{exc}\n{limit_hint(exc)}") from None
     cf = report.casefile
     acts = sum(len(s.activities) for s in cf.snapshots)
     links = sum(len(s.links) for s in cf.snapshots)
@@ -38,3 +47,4 @@ def import_command(mapping: Path, out: Path) -> None:
             click.echo(f"  {note}")
     for w in report.warnings:
         click.echo(f"warning: {w}", err=True)
+    click.echo(f"Next: forensic check {report.out} (or forensic schedule {report.out})")
