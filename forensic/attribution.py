@@ -544,17 +544,24 @@ def _concurrency(ctx: _Ctx, chain: list[Contributor], revision: Sequence[Revisio
     if len(parties) < 2:
         return Concurrency(0, (), (), frozen_mapping({}), 0)
 
+    runs: dict[frozenset[str], int] = {}  # each group is rescheduled once
+
     def recovered(group: set[str]) -> int:
-        give = {a: sum(d for p, d in m.items() if p in group) for a, m in own.items()}
-        snap = _given_back(ctx, ctx.run.later, give)
-        snap, _ = _take_out(ctx, snap, [ev for p in sorted(group) for ev in revising.get(p, ())])
-        res = schedule(snap, cf.calendars, cf.project)
-        return slip - (count(res.completion) - count(ctx.before.completion))
+        key = frozenset(group)
+        if key not in runs:
+            give = {a: sum(d for p, d in m.items() if p in group) for a, m in own.items()}
+            snap = _given_back(ctx, ctx.run.later, give)
+            snap, _ = _take_out(ctx, snap, [ev for p in sorted(group) for ev in revising.get(p, ())])
+            res = schedule(snap, cf.calendars, cf.project)
+            runs[key] = slip - (count(res.completion) - count(ctx.before.completion))
+        return runs[key]
 
     alone = {p: recovered({p}) for p in parties}
     together = recovered(set(parties))
-    involved = tuple(p for p in parties if together - recovered(set(parties) - {p}) > alone[p])
     days = max(0, together - sum(max(0, r) for r in alone.values()))
+    # Who is involved matters only when there are concurrent days; the
+    # "all but P" runs are skipped otherwise (they change nothing reported).
+    involved = tuple(p for p in parties if together - recovered(set(parties) - {p}) > alone[p]) if days else ()
     held = sum(c.days for c in chain if c.party in involved and c.days > 0)
     held += sum(s.days for s in revision if s.party in involved and s.days > 0)
     days = min(days, held)
