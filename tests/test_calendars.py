@@ -116,3 +116,18 @@ def test_count_over_a_leap_february():
     """A 7-day calendar counts 29 days in February 2028 (a leap year; common practice)."""
     seven = Calendar("7d", DAY_NAMES)
     assert workdays_between(seven, date(2028, 2, 1), date(2028, 3, 1)) == 29
+
+
+@settings(max_examples=100, deadline=None)
+@given(cal=calendars, a=offsets, n=st.integers(0, 80))
+def test_add_workdays_matches_pandas_custom_business_day(cal, a, n):
+    """A second reference: pandas' CustomBusinessDay (weekmask + holidays) rolls and offsets alike."""
+    import pandas as pd
+
+    if cal.extra_workdays:  # pandas has no extra working days; the rrule test covers them
+        cal = Calendar(cal.id, cal.workdays, cal.holidays)
+    mask = " ".join(d.capitalize() for d in cal.workdays)
+    step = pd.offsets.CustomBusinessDay(weekmask=mask, holidays=list(cal.holidays))
+    start = pd.Timestamp(_ORIGIN + timedelta(days=a))
+    rolled = start if step.is_on_offset(start) else start + step  # roll forward to a working day
+    assert add_workdays(cal, start.date(), n) == (rolled + n * step).date()
