@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import functools
+import sys
 from collections.abc import Callable
 from pathlib import Path
 
@@ -147,6 +148,6 @@ def emit(text: str, out: Path | None = None, casefile: Casefile | None = None) -
 
 def status(message: str) -> None:
     """A status line on stderr for long work, shown only at a terminal (pipes and tests stay clean)."""
-    stream = click.get_text_stream("stderr")
+    stream = sys.stderr
     if stream.isatty():
         click.echo(message, err=True)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import sys
 from pathlib import Path
 
 import click
@@ -35,7 +36,7 @@ def batch(folder: Path, jobs: int | None, report_dir: Path | None, as_json: bool
     if report_dir is not None and not report_dir.is_dir():
         raise click.ClickException(f"--report {report_dir}: no such folder; create it first")
     with click.progressbar(length=len(paths), label=f"{len(paths)} casefiles",
-                           file=click.get_text_stream("stderr")) as bar:
+                           file=sys.stderr) as bar:
         rows = run_batch(folder, jobs=jobs, report_dir=report_dir, progress=lambda _row: bar.update(1))
     table = batch_table(rows)
     fmt = pick_format(as_json, as_csv)

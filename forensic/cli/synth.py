@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import sys
 from pathlib import Path
 
 import click
@@ -32,7 +33,7 @@ def synth(out_dir: Path, activities: int, updates: int, seed: int, links_per_act
 
     """
     check_new_folder(out_dir)
-    with click.progressbar(length=updates + 1, label="Simulating updates", file=click.get_text_stream("stderr")) as bar:
+    with click.progressbar(length=updates + 1, label="Simulating updates", file=sys.stderr) as bar:
         state = {"done": 0}
 
         def tick(done: int, total: int) -> None:
