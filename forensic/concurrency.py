@@ -1,0 +1,215 @@
+"""Concurrent delay in a window: the but-for test inside the window, and taking concurrent days out.
+
+:mod:`forensic.contributors` gives each day of a window's slip to an
+activity, an event and a party. This module asks whether two parties'
+delays were concurrent in the window and, where they were, moves those
+days out of the parties' shares into the category ``concurrent``, so every
+sum still adds up.
+
+-----------
+Concurrent delay, in the SCL Protocol's sense, is the occurrence of two or
+more delay events at the same time, one the employer's risk and one the
+contractor's, whose effects are felt at the same time (SCL Delay and
+Disruption Protocol, 2nd ed., core principle 10 and paras. 10.3-10.4, paragraph numbers from memory); AACE
+RP 29R-03 (sec. 4.2) calls the test of it a but-for test of each party's
+delays. Here "at the same time" is the window, and the test is run on the
+whole window slip, progress and revision: on the later update, each party's
+delays are removed alone, then all parties' at once. A party's delays are
+(a) the days of lateness it owns on work not finished at the later data date
+(its remaining duration is shortened by that many working days), and
+(b) the revisions its events brought in (taken out as for the revision
+shares above: added fragnet work deleted and bridged, re-planned durations
+and links undone). With ``R(P)`` the days of the window's slip recovered by
+removing party ``P`` alone and ``R(all)`` by removing all, the *concurrent*
+days are ``max(0, R(all) - sum of max(0, R(P)))``: days that removing
+either party's delays alone would not recover but removing both does. The
+parties involved are those whose removal matters jointly but not alone
+(``R(all) - R(all but P) > R(P)``); the events named are those behind the
+involved parties' shares of the slip. The concurrent days are at most the
+involved parties' positive shares (progress contributors and revision
+shares); they are taken out of those shares, first out of each involved
+party's excess over ``R(P)`` (so each party keeps the days only its own
+delays explain), and reported with category ``concurrent``, so every sum
+still adds up.
+
+References
+----------
+AACE International Recommended Practice 29R-03, Forensic Schedule Analysis,
+section 4.2 (concurrency, the but-for test of each party's delays).
+Society of Construction Law, Delay and Disruption Protocol, 2nd ed. (2017),
+core principle 10 and paras. 10.3-10.4 (paragraph numbers from memory).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, replace
+from datetime import timedelta
+from typing import TYPE_CHECKING
+
+from .calendars import workdays_between
+from .contributors import Contributor, RevisionShare, _attribute, _column, _Ctx, _split, _take_out
+from .engine import schedule
+from .model import Event, Snapshot, frozen_mapping
+from .tables import Table
+from .windows import unit_counter, unit_shift
+
+if TYPE_CHECKING:
+    from .attribution import DelayAnalysis
+
+__all__ = ["CONCURRENCY_RULE", "CONCURRENT", "Concurrency", "concurrency_table"]
+
+CONCURRENT = "concurrent"
+CONCURRENCY_RULE = (
+    "concurrent days = days of the window's whole slip (progress and revision) that removing "
+    "either party's delays alone does not recover but removing both does: max(0, R(all) - sum "
+    "of R(party)), each party's delays being its lateness on unfinished work and the revisions "
+    "its events brought in (but-for test in the window; SCL Protocol 2nd ed., core principle 10; "
+    "AACE RP 29R-03 sec. 4.2)"
+)
+
+
+@dataclass(frozen=True, slots=True)
+class Concurrency:
+    """The concurrency test of one window (see the module notes for the rule)."""
+
+    days: int
+    parties: tuple[str, ...]
+    events: tuple[str, ...]
+    recovered_alone: Mapping[str, int]
+    recovered_together: int
+    rule: str = CONCURRENCY_RULE
+
+
+# --- concurrency: but-for inside the window ----------------------------------------
+
+
+def _given_back(ctx: _Ctx, snap: Snapshot, give_back: Mapping[str, int]) -> Snapshot:
+    """``snap`` (the later update) with each activity's remaining duration shortened by its given-back days."""
+    acts = dict(snap.activities)
+    res = ctx.run.after
+    for aid, days in give_back.items():
+        a = acts.get(aid)
+        if a is None or days <= 0 or a.is_milestone or a.duration == 0 or a.is_finished:
+            continue
+        finish = res[aid].early_finish
+        target = unit_shift(ctx.casefile, finish, days)
+        cal = ctx.casefile.calendars[a.calendar or ctx.casefile.project.default_calendar]
+        r = workdays_between(cal, target + timedelta(days=1), finish + timedelta(days=1))
+        acts[aid] = replace(a, remaining=max(0, a.remaining_duration - r))
+    return replace(snap, id=snap.id + "-butfor", activities=frozen_mapping(acts))
+
+
+def _concurrency(ctx: _Ctx, chain: list[Contributor], revision: Sequence[RevisionShare]) -> Concurrency:
+    cf = ctx.casefile
+    count = unit_counter(cf)
+    own: dict[str, dict[str, int]] = {}  # activity -> {party: days of its lateness}
+    status = _column(ctx.half, "status").tolist()
+    for aid, st in zip(ctx.half.activities, status, strict=True):
+        if st == 2 or ctx.v.get(aid, 0) <= 0:  # 2: finished
+            continue
+        for owner, d in _split(ctx, aid, ctx.v[aid], local=True):
+            if d <= 0:
+                continue
+            for c in _attribute(ctx, owner, d):
+                own.setdefault(aid, {}).setdefault(c.party, 0)
+                own[aid][c.party] += c.days
+    revising: dict[str, list[Event]] = {}  # party -> its events that revised the plan here
+    for ev in sorted(cf.events, key=lambda e: (e.start, e.id)):
+        if _take_out(ctx, ctx.run.later, [ev])[1]:
+            revising.setdefault(ev.party, []).append(ev)
+    parties = sorted({p for m in own.values() for p in m} | set(revising))
+    slip = ctx.run.window.slip
+    if len(parties) < 2:
+        return Concurrency(0, (), (), frozen_mapping({}), 0)
+
+    runs: dict[frozenset[str], int] = {}  # each group is rescheduled once
+
+    def recovered(group: set[str]) -> int:
+        key = frozenset(group)
+        if key not in runs:
+            give = {a: sum(d for p, d in m.items() if p in group) for a, m in own.items()}
+            snap = _given_back(ctx, ctx.run.later, give)
+            snap, _ = _take_out(ctx, snap, [ev for p in sorted(group) for ev in revising.get(p, ())])
+            res = schedule(snap, cf.calendars, cf.project)
+            runs[key] = slip - (count(res.completion) - count(ctx.before.completion))
+        return runs[key]
+
+    alone = {p: recovered({p}) for p in parties}
+    together = recovered(set(parties))
+    days = max(0, together - sum(max(0, r) for r in alone.values()))
+    # Who is involved matters only when there are concurrent days; the
+    # "all but P" runs are skipped otherwise (they change nothing reported).
+    involved = tuple(p for p in parties if together - recovered(set(parties) - {p}) > alone[p]) if days else ()
+    held = sum(c.days for c in chain if c.party in involved and c.days > 0)
+    held += sum(s.days for s in revision if s.party in involved and s.days > 0)
+    days = min(days, held)
+    # The events named are those behind the involved parties' shares of this
+    # window's slip (on the controlling path, or revision), not every event
+    # of theirs that made some path late.
+    shares = [(c.party, c.event, c.days) for c in chain] + [(s.party, s.event, s.days) for s in revision]
+    events = tuple(sorted({e for p, e, d in shares if p in involved and e and d > 0}))
+    return Concurrency(days, involved if days else (), events if days else (), frozen_mapping(alone), together)
+
+
+def _take_concurrent(
+    chain: list[Contributor], revision: Sequence[RevisionShare], conc: Concurrency
+) -> tuple[list[Contributor], list[RevisionShare]]:
+    """Move the concurrent days out of the involved parties' shares (rule in the module notes).
+
+    Each involved party ``P`` should keep ``R(P)``, the days only its own
+    delays explain; so the days come first out of each party's excess over
+    ``R(P)`` (largest excess first, within a party its largest share first,
+    progress before revision on a tie), then, if any are left, out of the
+    remaining shares largest first.
+    """
+    items = [(c.party, c.days, 0, i) for i, c in enumerate(chain) if c.party in conc.parties and c.days > 0]
+    items += [(s.party, s.days, 1, i) for i, s in enumerate(revision) if s.party in conc.parties and s.days > 0]
+    held: dict[str, int] = {}
+    for party, d, _, _ in items:
+        held[party] = held.get(party, 0) + d
+    excess = {p: max(0, d - max(0, conc.recovered_alone.get(p, 0))) for p, d in held.items()}
+    order = sorted(items, key=lambda t: (-excess[t[0]], t[0], -t[1], t[2], t[3]))
+    left = conc.days
+    taken: dict[tuple[int, int], int] = {}
+    for party, d, kind, i in order:  # first out of each party's excess
+        t = min(left, d, excess[party])
+        if t:
+            taken[(kind, i)] = t
+            excess[party] -= t
+            left -= t
+    for _, d, kind, i in sorted(items, key=lambda t: (-t[1], t[2], t[3])):  # then largest first
+        t = min(left, d - taken.get((kind, i), 0))
+        if t > 0:
+            taken[(kind, i)] = taken.get((kind, i), 0) + t
+            left -= t
+
+    def split(seq, kind):
+        out = []
+        for i, x in enumerate(seq):
+            t = taken.get((kind, i), 0)
+            if x.days - t:
+                out.append(replace(x, days=x.days - t))
+            if t:
+                out.append(replace(x, days=t, category=CONCURRENT))
+        return out
+
+    return split(chain, 0), split(revision, 1)
+
+
+# --- the table ---------------------------------------------------------------------
+
+
+def concurrency_table(analysis: DelayAnalysis) -> Table:
+    """One row per window with concurrent days: the days, parties, events and the but-for figures."""
+    rows = []
+    for att in analysis.attributions:
+        c = att.concurrent
+        if c.days:
+            alone = " ".join(f"{p}:{d}" for p, d in sorted(c.recovered_alone.items()))
+            rows.append((att.window_label, c.days, c.parties, c.events, alone, c.recovered_together))
+    return Table(
+        "concurrency",
+        ("window", "concurrent_days", "parties", "events", "recovered_alone", "recovered_together"),
+        tuple(rows),
+    )
