@@ -106,3 +106,20 @@ def test_analysis_commands_print_csv(args, header):
     assert result.exit_code == 0, result.output
     assert result.output.startswith(header)
     assert len(result.output.strip().split("\n")) >= 2
+
+
+def test_a_closed_pipe_stops_quietly(tmp_path):
+    """`forensic ... | head` ends without an internal error (Python docs, signal module, "Note on SIGPIPE")."""
+    import subprocess
+    import sys
+
+    proc = subprocess.Popen(
+        [sys.executable, "-m", "forensic", "check", str(DEMO), "--quality", "--json"],
+        cwd=ROOT, stdout=subprocess.PIPE, stderr=subprocess.PIPE,
+    )
+    proc.stdout.read(10)  # the JSON is ~200 KB, far more than a pipe buffer holds
+    proc.stdout.close()
+    err = proc.stderr.read().decode("utf-8")
+    proc.stderr.close()
+    assert proc.wait(timeout=60) == 1  # the Python docs' recipe exits 1
+    assert "internal error" not in err and "Traceback" not in err
