@@ -50,3 +50,27 @@ def test_a_failing_casefile_is_reported_and_sets_exit_status_one(tmp_path):
     assert not by_name["gamma"]["valid"]
     assert "NOPE" in by_name["gamma"]["error"]
     assert data["failed"] == 1
+
+
+def test_out_and_xlsx_never_overwrite_a_casefile_file(tmp_path):
+    """--out and --xlsx refuse a file of a casefile under FOLDER (RULES: never over a casefile input)."""
+    root = portfolio(tmp_path, broken=False)
+    manifest = root / "alpha" / "casefile.toml"
+    before = manifest.read_bytes()
+    for args in (["--json", "--out", str(manifest)], ["--xlsx", str(manifest)]):
+        res = CliRunner().invoke(main, ["batch", str(root), "--jobs", "1", *args])
+        assert res.exit_code == 1  # common practice: an input error is exit status 1
+        assert "refusing to write over a casefile input" in res.output
+        assert manifest.read_bytes() == before
+
+
+def test_xlsx_writes_the_summary_workbook(tmp_path):
+    """--xlsx writes the summary table as a sheet (docs/import-export.md: --xlsx on every analysis command)."""
+    import openpyxl  # reference library for reading the workbook back
+
+    root = portfolio(tmp_path, broken=False)
+    book = tmp_path / "summary.xlsx"
+    res = CliRunner().invoke(main, ["batch", str(root), "--jobs", "1", "--xlsx", str(book)])
+    assert res.exit_code == 0, res.output
+    sheet = openpyxl.load_workbook(book)["batch"]
+    assert sheet.max_row == 3  # a header row and one row per casefile (alpha, beta)

@@ -106,3 +106,23 @@ def test_analysis_commands_print_csv(args, header):
     assert result.exit_code == 0, result.output
     assert result.output.startswith(header)
     assert len(result.output.strip().split("\n")) >= 2
+
+
+def test_a_closed_pipe_stops_quietly(tmp_path):
+    """`forensic ... | head` ends without an internal error (Python docs, signal module, "Note on SIGPIPE")."""
+    import os
+    import subprocess
+    import sys
+
+    read_end, write_end = os.pipe()
+    os.close(read_end)  # the reader is gone before the first byte: every write fails with EPIPE
+    try:
+        proc = subprocess.run(
+            [sys.executable, "-m", "forensic", "schedule", str(DEMO)],
+            cwd=ROOT, stdout=write_end, stderr=subprocess.PIPE, timeout=60, check=False,
+        )
+    finally:
+        os.close(write_end)
+    err = proc.stderr.decode("utf-8")
+    assert proc.returncode == 1  # the Python docs' recipe exits 1
+    assert "internal error" not in err and "Traceback" not in err

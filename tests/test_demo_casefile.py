@@ -163,7 +163,7 @@ def test_fragnet_ties_into_activities_of_its_update(eid):
 
 
 def test_owner_change_fragnet_delays_and_utility_fragnet_is_absorbed(snaps):
-    """Inserting EV03 into U04 delays completion; EV07 into U08 does not (README, time impact)."""
+    """Inserting EV03 into U04 delays completion; EV07 into U07 does not (README, time impact)."""
     assert gen.tia_delay(snaps, "EV03") > 0
     assert gen.tia_delay(snaps, "EV07") == 0
 

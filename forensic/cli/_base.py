@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import os
+import sys
 
 import click
 
@@ -23,6 +24,13 @@ class _Group(click.Group):
             raise
         except ForensicError as exc:
             raise click.ClickException(str(exc)) from None
+        except BrokenPipeError:
+            # The reader went away (``forensic ... | head``): stop quietly, as
+            # the Python docs advise ("Note on SIGPIPE", signal module), with
+            # stdout pointed at devnull so the final flush cannot fail again.
+            devnull = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(devnull, sys.stdout.fileno())
+            ctx.exit(1)
         except KeyboardInterrupt:
             click.echo("Interrupted; nothing was written.", err=True)
             ctx.exit(130)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import functools
 import sys
-from collections.abc import Callable
+from collections.abc import Callable, Iterable
 from pathlib import Path
 
 import click
@@ -44,8 +44,20 @@ def xlsx_option(func: Callable) -> Callable:
     )(func)
 
 
-def emit_xlsx(tables, casefile: Casefile | None = None) -> None:
-    """Write ``tables`` to the ``--xlsx`` workbook when one was asked for (atomically, never over an input)."""
+def _protected(casefile: Casefile | None, extra: Iterable[Path]) -> list[Path]:
+    """The files an output must never overwrite: the casefile's inputs and ``extra``."""
+    protected = list(extra)
+    if casefile is not None and casefile.root is not None:
+        protected += [casefile.root / rel for rel in casefile.inputs]
+    return protected
+
+
+def emit_xlsx(tables, casefile: Casefile | None = None, protected: Iterable[Path] = ()) -> None:
+    """Write ``tables`` to the ``--xlsx`` workbook when one was asked for (atomically, never over an input).
+
+    ``protected`` adds files to refuse besides the loaded casefile's inputs
+    (``batch``, which loads its casefiles in worker processes).
+    """
     ctx = click.get_current_context(silent=True)
     out = None if ctx is None else ctx.meta.get(_XLSX_KEY)
     if out is None:
@@ -53,10 +65,7 @@ def emit_xlsx(tables, casefile: Casefile | None = None) -> None:
     casefile = casefile if casefile is not None else ctx.meta.get(_CASEFILE)
     from ..export import to_xlsx
 
-    protected = []
-    if casefile is not None and casefile.root is not None:
-        protected = [casefile.root / rel for rel in casefile.inputs]
-    atomic_write(out, to_xlsx(list(tables)), protected)
+    atomic_write(out, to_xlsx(list(tables)), _protected(casefile, protected))
     click.echo(f"wrote {out}", err=True)
 
 
@@ -126,11 +135,12 @@ def load(path: Path) -> Casefile:
     return cf
 
 
-def emit(text: str, out: Path | None = None, casefile: Casefile | None = None) -> None:
+def emit(text: str, out: Path | None = None, casefile: Casefile | None = None,
+         protected: Iterable[Path] = ()) -> None:
     """Print ``text``, or write it atomically to ``out`` (never over a casefile input).
 
     ``out`` and ``casefile`` default to the command's ``--out`` and the
-    casefile it loaded.
+    casefile it loaded; ``protected`` adds files to refuse (``batch``).
     """
     ctx = click.get_current_context(silent=True)
     if ctx is not None:
@@ -139,10 +149,7 @@ def emit(text: str, out: Path | None = None, casefile: Casefile | None = None) -
     if out is None:
         click.echo(text, nl=False)
         return
-    protected = []
-    if casefile is not None and casefile.root is not None:
-        protected = [casefile.root / rel for rel in casefile.inputs]
-    atomic_write(out, text, protected)
+    atomic_write(out, text, _protected(casefile, protected))
     click.echo(f"wrote {out}", err=True)
 
 

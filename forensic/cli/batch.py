@@ -10,7 +10,7 @@ import click
 from ..batch import batch_table, find_casefiles, run_batch
 from ..tables import dumps_json, to_csv, to_text
 from ._base import main
-from ._common import emit, format_options, pick_format
+from ._common import emit, emit_xlsx, format_options, pick_format
 
 
 @main.command()
@@ -39,13 +39,17 @@ def batch(folder: Path, jobs: int | None, report_dir: Path | None, as_json: bool
                            file=sys.stderr) as bar:
         rows = run_batch(folder, jobs=jobs, report_dir=report_dir, progress=lambda _row: bar.update(1))
     table = batch_table(rows)
+    # The casefiles are loaded in the workers, so protect every file of every
+    # casefile folder found: no output may land over one of them.
+    protected = [f for p in paths for f in Path(p).rglob("*") if f.is_file()]
+    emit_xlsx([table], protected=protected)
     fmt = pick_format(as_json, as_csv)
     if fmt == "json":
-        emit(dumps_json({"casefiles": table.records(), "failed": sum(not r.valid for r in rows)}))
+        emit(dumps_json({"casefiles": table.records(), "failed": sum(not r.valid for r in rows)}), protected=protected)
     elif fmt == "csv":
-        emit(to_csv(table))
+        emit(to_csv(table), protected=protected)
     else:
-        emit(to_text(table))
+        emit(to_text(table), protected=protected)
         click.echo(f"\n{sum(r.valid for r in rows)} of {len(rows)} casefiles valid and analysed.")
     if any(not r.valid for r in rows):
         raise SystemExit(1)
