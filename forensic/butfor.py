@@ -495,7 +495,7 @@ def but_for_json(report: ButForReport) -> dict:
         "cases": [
             {"case": c.label, "events_removed": list(c.removed), "not_represented": list(c.not_represented),
              "as_built_completion": c.as_built_completion, "but_for_completion": c.but_for_completion,
-             "difference": c.difference, "unit": c.unit, "critical_path": list(c.critical_path)}
+             "difference": c.difference, "unit": c.unit.replace(" ", "-"), "critical_path": list(c.critical_path)}
             for c in report.cases
         ],
         "warnings": list(b.warnings),

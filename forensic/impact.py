@@ -615,7 +615,7 @@ def series_json(series: ImpactSeries) -> dict:
     """The ``forensic impact --cumulative --json`` object (docs/impact-and-butfor.md)."""
     c = series.cumulative
     return {
-        "unit": series.unit,
+        "unit": series.unit.replace(" ", "-"),  # the manifest's spelling, as in every JSON output
         "individual": [impact_json(r) for r in series.individual],
         "cumulative": {
             **impact_json(c),

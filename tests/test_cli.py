@@ -126,3 +126,31 @@ def test_a_closed_pipe_stops_quietly(tmp_path):
     err = proc.stderr.decode("utf-8")
     assert proc.returncode == 1  # the Python docs' recipe exits 1
     assert "internal error" not in err and "Traceback" not in err
+
+
+@pytest.mark.parametrize(
+    "args",
+    [
+        ["windows", str(DEMO), "--json"],
+        ["impact", str(DEMO), "--event", "EV03", "--event", "EV07", "--cumulative", "--json"],
+        ["but-for", str(DEMO), "--party", "OWN", "--json"],
+    ],
+)
+def test_json_units_are_spelt_like_the_manifest(args):
+    """Every JSON "unit" is the manifest's delay_unit token (calendar-days / working-days)."""
+    result = CliRunner().invoke(main, args)
+    assert result.exit_code == 0, result.output
+    units = set()
+
+    def walk(x):
+        if isinstance(x, dict):
+            for k, v in x.items():
+                if k == "unit":
+                    units.add(v)
+                walk(v)
+        elif isinstance(x, list):
+            for v in x:
+                walk(v)
+
+    walk(json.loads(result.output))
+    assert units == {"calendar-days"}  # the demo's delay_unit
