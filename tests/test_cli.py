@@ -154,3 +154,26 @@ def test_json_units_are_spelt_like_the_manifest(args):
 
     walk(json.loads(result.output))
     assert units == {"calendar-days"}  # the demo's delay_unit
+
+
+@pytest.mark.parametrize(
+    "args",
+    [
+        ["impact", "--event", "EV03", "--json"],
+        ["but-for", "--party", "OWN", "--csv"],
+        ["recover", "--snapshot", "U08", "--days", "2", "--json"],
+    ],
+)
+def test_analysis_out_writes_atomically_and_never_over_an_input(tmp_path, args):
+    """--out on impact, but-for and recover writes the file, and refuses a casefile's own file."""
+    runner = CliRunner()
+    target = tmp_path / "result.txt"
+    ok = runner.invoke(main, [args[0], str(DEMO), *args[1:], "--out", str(target)])
+    assert ok.exit_code == 0, ok.output
+    assert target.read_text(encoding="utf-8").strip()
+    manifest = DEMO / "casefile.toml"
+    before = manifest.read_bytes()
+    refused = runner.invoke(main, [args[0], str(DEMO), *args[1:], "--out", str(manifest)])
+    assert refused.exit_code == 1
+    assert "refusing to write over a casefile input" in refused.output
+    assert manifest.read_bytes() == before

@@ -19,7 +19,7 @@ from ..impact import (
 )
 from ..tables import Table, dumps_json, to_csv, to_text
 from ._base import main
-from ._common import casefile_argument, emit, emit_xlsx, load, xlsx_option
+from ._common import casefile_argument, emit, emit_xlsx, format_options, load
 
 _PROGRESS_NOTE = (
     "Progress to the event's start is assumed as planned in the unimpacted schedule "
@@ -59,9 +59,7 @@ def _warn(warnings) -> None:
 @click.option("--cumulative", is_flag=True, help="Also insert the events cumulatively, in date order.")
 @click.option("--progress-to-event", is_flag=True,
               help="First bring the unimpacted schedule to the event's start, as planned.")
-@click.option("--json", "as_json", is_flag=True, help="Print JSON (keys in docs/impact-and-butfor.md).")
-@click.option("--csv", "as_csv", is_flag=True, help="Print the milestone table (or the series with --cumulative) as CSV.")
-@xlsx_option
+@format_options
 def impact_command(
     casefile: Path,
     events: tuple[str, ...],
@@ -87,8 +85,6 @@ def impact_command(
         raise click.UsageError("give --event ID (one or more) or --all")
     if events and all_events:
         raise click.UsageError("choose --event or --all, not both")
-    if as_json and as_csv:
-        raise click.UsageError("choose one of --json and --csv")
     cf = load(casefile)
     ids = list(events) if events else None
     if cumulative:
@@ -138,9 +134,7 @@ def impact_command(
 @click.option("--party", metavar="ID", help="Remove every event of this party.")
 @click.option("--event", metavar="ID", help="Remove this one event.")
 @click.option("--snapshot", "snapshot_id", metavar="ID", help="Build the as-built from this snapshot (default: the last).")
-@click.option("--json", "as_json", is_flag=True, help="Print JSON (keys in docs/impact-and-butfor.md).")
-@click.option("--csv", "as_csv", is_flag=True, help="Print the but-for cases as CSV.")
-@xlsx_option
+@format_options
 def but_for_command(
     casefile: Path, party: str | None, event: str | None, snapshot_id: str | None, as_json: bool, as_csv: bool
 ) -> None:
@@ -156,8 +150,6 @@ def but_for_command(
     """
     if party and event:
         raise click.UsageError("choose --party or --event, not both")
-    if as_json and as_csv:
-        raise click.UsageError("choose one of --json and --csv")
     cf = load(casefile)
     report = but_for(cf, party=party, event=event, snapshot_id=snapshot_id)
     _warn(report.as_built.warnings)

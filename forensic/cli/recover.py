@@ -10,7 +10,7 @@ import click
 from ..recovery import OBJECTIVES, recover, recovery_curve_table, recovery_json, recovery_plan_table
 from ..tables import dumps_json, to_csv, to_text
 from ._base import main
-from ._common import casefile_argument, emit, emit_xlsx, load, xlsx_option
+from ._common import casefile_argument, emit, emit_xlsx, format_options, load
 
 
 @main.command("recover")
@@ -22,9 +22,7 @@ from ._common import casefile_argument, emit, emit_xlsx, load, xlsx_option
               help="Days to recover, in the project's delay unit, back from the current completion.")
 @click.option("--objective", type=click.Choice(OBJECTIVES), default="cost", show_default=True,
               help="cost: least total cost; count: fewest activities shortened, then least cost.")
-@click.option("--json", "as_json", is_flag=True, help="Print JSON (keys documented in docs/recovery.md).")
-@click.option("--csv", "as_csv", is_flag=True, help="Print the plan (activities shortened) as CSV.")
-@xlsx_option
+@format_options
 def recover_command(
     casefile: Path, snapshot_id: str, target, days: int | None, objective: str, as_json: bool, as_csv: bool
 ) -> None:
@@ -41,8 +39,6 @@ def recover_command(
     """
     if (target is None) == (days is None):
         raise click.UsageError("give one of --target DATE and --days N")
-    if as_json and as_csv:
-        raise click.UsageError("choose one of --json and --csv")
     cf = load(casefile)
     wanted: date | None = target.date() if target is not None else None
     result = recover(cf, snapshot_id, target=wanted, days=days, objective=objective)
