@@ -8,7 +8,6 @@ import click
 
 from ..attribution import analyse_delay
 from ..demo import copy_demo
-from ..engine import schedule_snapshot
 from ..outputs import atomic_write
 from ..report import DEFAULT_TEMPLATE, build_report
 from ..validation import validate_casefile
@@ -39,7 +38,7 @@ def demo(out: Path) -> None:
     result = validate_casefile(cf)
     click.echo(f"{cf.project.name}: valid, {len(cf.snapshots)} snapshots, {len(result.warnings)} warning(s).")
     base = result.schedules[0]
-    last = schedule_snapshot(cf, cf.snapshots[-1].id)
+    last = result.schedules[-1]  # validation already scheduled every snapshot
     click.echo(f"Baseline {cf.baseline.id} forecasts completion on {base.completion.isoformat()}.")
     click.echo(
         f"Latest update {last.snapshot_id} (data date {last.data_date.isoformat()}) forecasts "
