@@ -186,7 +186,7 @@ def _read_activity(row, rel, calendars, parties, data_date, problems, warnings) 
     raw = row.get("crash_cost")
     crash_cost = parse_number(raw, rel, line, "crash_cost", problems) if raw else None
 
-    if kind in ("start-milestone", "finish-milestone"):
+    if kind in ("opening-milestone", "closing-milestone"):
         if duration not in (None, 0):
             problems.add(rel, line, "duration", duration, "a milestone has duration 0")
         if remaining not in (None, 0):

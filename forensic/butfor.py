@@ -34,7 +34,7 @@ From the last update (or the snapshot named):
    contradicted link whose successor started before its predecessor or is
    a milestone, is dropped. Each change is listed in ``AsBuilt.relinked``.
 
-3. **Pins.** Each activity is held by a ``start-on-or-after`` constraint at
+3. **Pins.** Each activity is held by a ``start-from`` constraint at
    its target start only where the logic does not explain that start: the
    network is scheduled with every activity pinned, and the pin is kept only
    on activities that no link drives (the engine's driving predecessors) and
@@ -176,7 +176,7 @@ def _cal(casefile: Casefile, a: Activity):
 def _start_pass_day(a: Activity, start: date) -> date:
     # The day a start-to-start link passes on (engine notes): a finish
     # milestone's start instant is the day after its date.
-    return start + _DAY if a.kind == "finish-milestone" else start
+    return start + _DAY if a.kind == "closing-milestone" else start
 
 
 def as_built(casefile: Casefile, snapshot_id: str | None = None) -> AsBuilt:
@@ -212,7 +212,7 @@ def as_built(casefile: Casefile, snapshot_id: str | None = None) -> AsBuilt:
             dur = 0 if milestone else a.remaining_duration
             target[aid] = forecast[aid].early_start
         # An actual date on a non-working day is read as the next working day,
-        # where the engine (and a start-on-or-after pin) would place it.
+        # where the engine (and a start-from pin) would place it.
         target[aid] = next_workday(cal, target[aid])
         acts[aid] = Activity(aid, a.name, dur, kind=a.kind, calendar=a.calendar, party=a.party,
                              area=a.area, line=a.line)
@@ -221,7 +221,7 @@ def as_built(casefile: Casefile, snapshot_id: str | None = None) -> AsBuilt:
     def pinned(ids: Iterable[str]) -> dict[str, Activity]:
         out = dict(acts)
         for aid in ids:
-            out[aid] = replace(acts[aid], constraint="start-on-or-after", constraint_date=target[aid])
+            out[aid] = replace(acts[aid], constraint="start-from", constraint_date=target[aid])
         return out
 
     # Links: replace the ones the actual dates contradict, a frontier at a time.

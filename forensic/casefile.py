@@ -68,7 +68,17 @@ from .model import (
 
 __all__ = ["FORMAT", "MANIFEST", "Limits", "load_casefile"]
 
-FORMAT = "forensic-casefile/1"
+FORMAT = "forensic-casefile/2"
+# Version 1 used other words for the constraint and milestone kinds. It is
+# refused with one message rather than read silently, so that no old word is
+# ever taken for a new one (casefile format, "Versions").
+OLD_FORMAT = "forensic-casefile/1"
+OLD_FORMAT_MESSAGE = (
+    "version 1 of the casefile format is no longer read; version 2 renamed the constraint kinds "
+    "(start-from, start-by, finish-from, finish-by, start-fixed, finish-fixed) and the milestone "
+    "kinds (opening-milestone, closing-milestone): rename them, set format = 'forensic-casefile/2', "
+    "see casefiles/README.md, section Versions"
+)
 MANIFEST = "casefile.toml"
 
 _TOP_KEYS = ("format", "project", "party", "calendar", "snapshot", "events", "windows")
@@ -304,6 +314,8 @@ class _Manifest:
         fmt = doc.get("format")
         if fmt is None:
             self._bad("format", None, f"missing; expected format = {FORMAT!r} at the top of the manifest")
+        elif fmt == OLD_FORMAT:
+            self._bad("format", fmt, OLD_FORMAT_MESSAGE)
         elif fmt != FORMAT:
             self._bad("format", fmt, f"unknown casefile format; this version reads {FORMAT!r}")
         for key in doc:

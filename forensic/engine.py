@@ -360,7 +360,7 @@ def _read_rows(acts: list, numbers: dict[str, int], default: str) -> dict[str, n
     return {
         "cal": np.array([numbers[a.calendar or default] for a in acts], dtype=np.int64),
         "duration": np.array([a.duration for a in acts], dtype=np.int64),
-        "start_ms": np.array([a.kind == "start-milestone" for a in acts], dtype=bool),
+        "start_ms": np.array([a.kind == "opening-milestone" for a in acts], dtype=bool),
         "milestone": np.array([a.kind != "task" for a in acts], dtype=bool),
         "has_start": np.array([a.actual_start is not None for a in acts], dtype=bool),
         "has_finish": np.array([a.actual_finish is not None for a in acts], dtype=bool),
@@ -709,11 +709,11 @@ def _early_constraint_bound(a, st: int, d: int, C: WorkdayIndex, lo: int, s_late
     """Lowest start boundary that the constraint allows (early dates only)."""
     day = day_number(a.constraint_date)
     kind = a.constraint
-    if kind in ("start-on-or-after", "start-on"):
+    if kind in ("start-from", "start-fixed"):
         if st == 1:
             return -(1 << 60)
         return _date_bound_low(C, lo, day, s_late)
-    if kind in ("finish-on-or-after", "finish-on"):
+    if kind in ("finish-from", "finish-fixed"):
         # The finish date is the last working day of the work (d >= 1), or the milestone's date.
         if d == 0:
             return _date_bound_low(C, lo, day, f_late)
@@ -725,11 +725,11 @@ def _late_constraint_bound(a, st: int, d: int, C: WorkdayIndex, lo: int, s_late:
     """Highest finish boundary that the constraint allows (late dates only)."""
     day = day_number(a.constraint_date)
     kind = a.constraint
-    if kind in ("start-on-or-before", "start-on"):
+    if kind in ("start-by", "start-fixed"):
         if st == 1:
             return None
         return _date_bound_high(C, lo, day, s_late) + d
-    if kind in ("finish-on-or-before", "finish-on"):
+    if kind in ("finish-by", "finish-fixed"):
         if d == 0:
             return _date_bound_high(C, lo, day, f_late)
         return C.first_at[day + 1 - lo]

@@ -40,19 +40,19 @@ __all__ = [
     "frozen_mapping",
 ]
 
-ACTIVITY_KINDS = ("task", "start-milestone", "finish-milestone")
+ACTIVITY_KINDS = ("task", "opening-milestone", "closing-milestone")
 LINK_TYPES = ("FS", "SS", "FF", "SF")
 CONSTRAINT_KINDS = (
-    "start-on-or-after",
-    "start-on-or-before",
-    "finish-on-or-after",
-    "finish-on-or-before",
-    "start-on",
-    "finish-on",
+    "start-from",
+    "start-by",
+    "finish-from",
+    "finish-by",
+    "start-fixed",
+    "finish-fixed",
 )
 # The four kinds that pull late dates; schedule-quality checks count these
 # (casefile format, "Constraints").
-HARD_CONSTRAINTS = ("start-on-or-before", "finish-on-or-before", "start-on", "finish-on")
+HARD_CONSTRAINTS = ("start-by", "finish-by", "start-fixed", "finish-fixed")
 PARTY_ROLES = ("owner", "contractor", "neutral")
 CATEGORIES = ("excusable-compensable", "excusable-noncompensable", "non-excusable")
 # The category an event takes from its party's role when events.csv leaves it

@@ -187,7 +187,7 @@ def _calendar(casefile: Casefile, a: Activity) -> Calendar:
 
 def _instant_of_start(a: Activity) -> date | None:
     """The day a start-timed link (SS, SF) passes on, from actual dates (engine rules)."""
-    if a.kind == "finish-milestone":
+    if a.kind == "closing-milestone":
         d = a.actual_finish or a.actual_start
         return None if d is None else d + timedelta(days=1)
     return a.actual_start or (a.actual_finish if a.is_milestone else None)
@@ -195,7 +195,7 @@ def _instant_of_start(a: Activity) -> date | None:
 
 def _instant_of_finish(a: Activity) -> date | None:
     """The day a finish-timed link (FS, FF) passes on, from actual dates (engine rules)."""
-    if a.kind == "start-milestone":
+    if a.kind == "opening-milestone":
         return a.actual_start or a.actual_finish
     d = a.actual_finish or (a.actual_start if a.is_milestone else None)
     return None if d is None else d + timedelta(days=1)
@@ -433,7 +433,7 @@ def _cpli(casefile: Casefile, snap: Snapshot, result: ScheduleResult, base: Sche
     # the completion carries its own finish constraint the engine's float is
     # the one the schedule states, and it is used instead.
     comp = snap.activities[result.completion_id]
-    if comp.constraint in ("finish-on-or-before", "finish-on"):
+    if comp.constraint in ("finish-by", "finish-fixed"):
         total_float = result.completion_float
         against = f"its {comp.constraint} constraint"
     else:
@@ -493,7 +493,7 @@ def _practitioners_checks(
     # predecessor needed) and the completion (no successor needed).
     open_ends = [
         a.id for a in open_acts
-        if (a.id not in has_pred and a.kind != "start-milestone")
+        if (a.id not in has_pred and a.kind != "opening-milestone")
         or (a.id not in has_succ and a.id != result.completion_id)
     ]
     started = [a for a in acts.values() if a.is_started or (a.is_milestone and a.is_finished)]

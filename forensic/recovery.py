@@ -237,7 +237,7 @@ class _Program:
         const_f: dict[str, float] = {}
         for a in acts:
             milestone = a.kind != "task" or a.duration == 0
-            if a.kind == "start-milestone":
+            if a.kind == "opening-milestone":
                 kinds[a.id] = (True, True)
             elif milestone:
                 kinds[a.id] = (False, False)
@@ -247,7 +247,7 @@ class _Program:
                 status[a.id] = 2
                 s_day = day_number(a.actual_start or a.actual_finish)
                 f_day = day_number(a.actual_finish or a.actual_start)
-                if a.kind == "start-milestone":
+                if a.kind == "opening-milestone":
                     const_s[a.id] = const_f[a.id] = self.model_time(s_day)
                 elif milestone:
                     const_s[a.id] = const_f[a.id] = self.model_time(f_day + 1)
@@ -337,10 +337,10 @@ class _Program:
                 continue
             t = self.model_time(day_number(a.constraint_date))
             s_late, f_late = kinds[a.id]
-            if a.constraint in ("start-on-or-after", "start-on") and status[a.id] == 0:
+            if a.constraint in ("start-from", "start-fixed") and status[a.id] == 0:
                 v = var_s[a.id]
                 s_lower[v] = max(s_lower[v], t + (0 if s_late else 1))
-            elif a.constraint in ("finish-on-or-after", "finish-on"):
+            elif a.constraint in ("finish-from", "finish-fixed"):
                 late = f_late if dur[a.id] == 0 else False
                 add_row(finish_term(a.id), ({}, 0.0), t + (0 if late else 1))
 

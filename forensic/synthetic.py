@@ -6,7 +6,7 @@ with a few *lanes* (a crew's chain of work through the area) running through
 Every chain step is an FS link; cross-links of all four types (FS, SS, FF,
 SF) with lags and leads tie chains within and across nearby areas. There
 are three calendars (5-day with holidays, 6-day with holidays, 7-day), a
-few start-on-or-after constraints on tasks, finish-on-or-before
+few start-from constraints on tasks, finish-by
 constraints on area milestones, area and phase milestones and a completion
 milestone.
 
@@ -110,7 +110,7 @@ def _baseline(n: int, links_per_activity: float, rng: random.Random, opts: dict)
     phase_of = [min(len(_PHASES) - 1, lv * len(_PHASES) // levels) for lv in range(levels)]
     cals = ("7d",) if opts["seven_day"] else ("5d", "6d", "7d")
     cal_w = (1.0,) if opts["seven_day"] else (0.7, 0.2, 0.1)
-    net.act(Activity("START", "Start of works", 0, kind="start-milestone"), -1.0)
+    net.act(Activity("START", "Start of works", 0, kind="opening-milestone"), -1.0)
     grid: dict[tuple[int, int], str] = {}
     made = 0
     for level in range(levels):
@@ -123,7 +123,7 @@ def _baseline(n: int, links_per_activity: float, rng: random.Random, opts: dict)
             crash = rng.random() < 0.1
             constraint = cdate = None
             if opts["constraints"] and rng.random() < 0.005:
-                constraint = "start-on-or-after"
+                constraint = "start-from"
                 cdate = _START + timedelta(days=rng.randint(0, 120))
             net.act(
                 Activity(
@@ -144,13 +144,13 @@ def _baseline(n: int, links_per_activity: float, rng: random.Random, opts: dict)
         for ph in range(len(_PHASES) - 1):
             ms = f"Z{area + 1:03d}-P{ph + 1}"
             net.act(
-                Activity(ms, f"Area Z{area + 1:03d} {_PHASES[ph]} complete", 0, kind="finish-milestone", area=f"Z{area + 1:03d}"),
+                Activity(ms, f"Area Z{area + 1:03d} {_PHASES[ph]} complete", 0, kind="closing-milestone", area=f"Z{area + 1:03d}"),
                 last_level[ph] + 0.5,
             )
     for area in range(areas):
         ms = f"Z{area + 1:03d}-DONE"
-        net.act(Activity(ms, f"Area Z{area + 1:03d} complete", 0, kind="finish-milestone", area=f"Z{area + 1:03d}"), levels + 1.0)
-    net.act(Activity("FINISH", "Completion of the works", 0, kind="finish-milestone"), levels + 2.0)
+        net.act(Activity(ms, f"Area Z{area + 1:03d} complete", 0, kind="closing-milestone", area=f"Z{area + 1:03d}"), levels + 1.0)
+    net.act(Activity("FINISH", "Completion of the works", 0, kind="closing-milestone"), levels + 2.0)
     for lane in range(lanes):
         area = lane // _LANES_PER_AREA
         tag = f"Z{area + 1:03d}"
@@ -192,7 +192,7 @@ def _deadlines(net: _Net, cals: dict[str, Calendar], project: Project, rng: rand
     for aid, a in list(net.acts.items()):
         if aid.endswith("-DONE"):
             d = table[aid].early_finish + timedelta(days=rng.randint(0, 30))
-            net.acts[aid] = replace(a, constraint="finish-on-or-before", constraint_date=d)
+            net.acts[aid] = replace(a, constraint="finish-by", constraint_date=d)
 
 
 def _progress(

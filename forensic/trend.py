@@ -138,7 +138,7 @@ def _key_milestones(casefile: Casefile, wanted: Sequence[str] | None, limit: int
         comp = casefile.project.completion
         milestones = [a for a in base.activities.values() if a.is_milestone and a.id != comp]
         constrained = [a.id for a in milestones if a.constraint is not None]
-        others = [a.id for a in milestones if a.constraint is None and a.kind == "finish-milestone"]
+        others = [a.id for a in milestones if a.constraint is None and a.kind == "closing-milestone"]
         ids = [*constrained, *others][:limit]
     return tuple(ids)
 

@@ -120,7 +120,7 @@ def _table(header: str, items: Mapping[str, object]) -> str:
 def manifest_toml(cf: Casefile, *, events_file: str | None) -> str:
     """casefile.toml text for ``cf`` with snapshots under ``snapshots/<id>/``."""
     p = cf.project
-    parts = ['format = "forensic-casefile/1"\n']
+    parts = ['format = "forensic-casefile/2"\n']
     if events_file:
         parts.append(f'events = "{events_file}"\n')
     if cf.windows:

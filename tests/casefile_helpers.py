@@ -15,7 +15,7 @@ from forensic.casefile import load_casefile
 from forensic.errors import CasefileError, InputProblem
 
 MANIFEST = """\
-format = "forensic-casefile/1"
+format = "forensic-casefile/2"
 events = "events.csv"
 windows = ["U01"]
 
@@ -72,16 +72,16 @@ HEADER = (
     "constraint,constraint_date,party,area,percent_complete,crash_days,crash_cost\n"
 )
 BL_ACTIVITIES = HEADER + (
-    "M100,Notice to proceed,start-milestone,0,,,,,,,OWN,GEN,,,\n"
+    "M100,Notice to proceed,opening-milestone,0,,,,,,,OWN,GEN,,,\n"
     "A110,Excavate wet well,task,10,,,,,,,CON,CIV,0,2,1500\n"
-    "A120,Pour base slab,,5,,,,7d,start-on-or-after,2026-01-26,CON,CIV,,,\n"
-    "M900,Station complete,finish-milestone,0,,,,,finish-on-or-before,2026-06-30,CON,,,,\n"
+    "A120,Pour base slab,,5,,,,7d,start-from,2026-01-26,CON,CIV,,,\n"
+    "M900,Station complete,closing-milestone,0,,,,,finish-by,2026-06-30,CON,,,,\n"
 )
 U01_ACTIVITIES = HEADER + (
-    "M100,Notice to proceed,start-milestone,0,,,2026-01-05,,,,OWN,GEN,,,\n"
+    "M100,Notice to proceed,opening-milestone,0,,,2026-01-05,,,,OWN,GEN,,,\n"
     "A110,Excavate wet well,task,10,,2026-01-06,2026-01-19,,,,CON,CIV,100,2,1500\n"
-    "A120,Pour base slab,,5,2,2026-01-26,,7d,start-on-or-after,2026-01-26,CON,CIV,60,,\n"
-    "M900,Station complete,finish-milestone,0,,,,,finish-on-or-before,2026-06-30,CON,,,,\n"
+    "A120,Pour base slab,,5,2,2026-01-26,,7d,start-from,2026-01-26,CON,CIV,60,,\n"
+    "M900,Station complete,closing-milestone,0,,,,,finish-by,2026-06-30,CON,,,,\n"
 )
 LINKS = "pred,succ,type,lag\nM100,A110,FS,0\nA110,A120,SS,3\nA120,M900,,\n"
 EVENTS = (

@@ -57,7 +57,7 @@ def task(aid, d, party="CON", **kw):
 
 
 def ms(aid="M"):
-    return Activity(aid, "completion", 0, kind="finish-milestone")
+    return Activity(aid, "completion", 0, kind="closing-milestone")
 
 
 def event(eid, party, category, start, finish, acts, fragnet=None):

@@ -160,7 +160,7 @@ def _schedule(
     finish_late = [False] * n
     for i, a in enumerate(acts):
         milestone = a.kind != "task" or a.duration == 0
-        if a.kind == "start-milestone":
+        if a.kind == "opening-milestone":
             start_late[i] = finish_late[i] = True
         elif milestone:
             start_late[i] = finish_late[i] = False
@@ -206,7 +206,7 @@ def _schedule(
             s_day = day_number(a.actual_start or a.actual_finish)
             f_day = day_number(a.actual_finish or a.actual_start)
             start_day[i], finish_day[i] = s_day, f_day
-            if a.kind == "start-milestone":
+            if a.kind == "opening-milestone":
                 S[i] = F[i] = s_day
             elif a.kind != "task" or a.duration == 0:
                 S[i] = F[i] = f_day + 1
@@ -368,7 +368,7 @@ def _schedule(
     for i in order:
         if status[i] == 2:
             continue
-        if not preds[i] and acts[i].kind != "start-milestone":
+        if not preds[i] and acts[i].kind != "opening-milestone":
             warnings.append(f"snapshot {snapshot.id}: activity {ids[i]} has no predecessor (open start)")
         if not out_links[i] and i != comp:
             warnings.append(f"snapshot {snapshot.id}: activity {ids[i]} has no successor (open finish)")
@@ -403,11 +403,11 @@ def _early_constraint_bound(a, st: int, d: int, C: WorkdayIndex, lo: int, s_late
     """Lowest start boundary that the constraint allows (early dates only)."""
     day = day_number(a.constraint_date)
     kind = a.constraint
-    if kind in ("start-on-or-after", "start-on"):
+    if kind in ("start-from", "start-fixed"):
         if st == 1:
             return -(1 << 60)
         return _date_bound_low(C, lo, day, s_late)
-    if kind in ("finish-on-or-after", "finish-on"):
+    if kind in ("finish-from", "finish-fixed"):
         # The finish date is the last working day of the work (d >= 1), or the milestone's date.
         if d == 0:
             return _date_bound_low(C, lo, day, f_late)
@@ -419,11 +419,11 @@ def _late_constraint_bound(a, st: int, d: int, C: WorkdayIndex, lo: int, s_late:
     """Highest finish boundary that the constraint allows (late dates only)."""
     day = day_number(a.constraint_date)
     kind = a.constraint
-    if kind in ("start-on-or-before", "start-on"):
+    if kind in ("start-by", "start-fixed"):
         if st == 1:
             return None
         return _date_bound_high(C, lo, day, s_late) + d
-    if kind in ("finish-on-or-before", "finish-on"):
+    if kind in ("finish-by", "finish-fixed"):
         if d == 0:
             return _date_bound_high(C, lo, day, f_late)
         return C.first_at[day + 1 - lo]

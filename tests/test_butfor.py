@@ -58,10 +58,10 @@ def finished_case(events):
     Worked by hand on a 7-day week: A Jan 5-11, C Jan 12-14, END Jan 14; B Jan 5-8.
     """
     bl = snap([Activity("A", "A", 5), Activity("B", "B", 3), Activity("C", "C", 3),
-               Activity("END", "END", 0, kind="finish-milestone")],
+               Activity("END", "END", 0, kind="closing-milestone")],
               [Link("A", "C"), Link("C", "END"), Link("B", "END")], "BL", jan(5), "baseline")
     u1 = snap([done("A", jan(5), jan(11), 5), done("B", jan(5), jan(8), 3), done("C", jan(12), jan(14)),
-               done("END", jan(14), jan(14), kind="finish-milestone")],
+               done("END", jan(14), jan(14), kind="closing-milestone")],
               bl.links, "U1", date(2026, 2, 2))
     return casefile([bl, u1], events)
 
@@ -103,12 +103,12 @@ def test_overlapping_events_on_one_task_are_removed_once():
 
 def test_as_built_reproduces_actual_dates_pins_unexplained_starts_and_relinks_out_of_sequence_work():
     """The as-built has each actual start; D's late start is pinned; E started before A finished, so A-E is SS+5."""
-    bl = snap([Activity(x, x, 3) for x in "ABCDE"] + [Activity("END", "", 0, kind="finish-milestone")],
+    bl = snap([Activity(x, x, 3) for x in "ABCDE"] + [Activity("END", "", 0, kind="closing-milestone")],
               [Link("A", "C"), Link("B", "D"), Link("A", "E"), Link("C", "END"), Link("D", "END"), Link("E", "END")],
               "BL", jan(5), "baseline")
     acts = [done("A", jan(5), jan(11)), done("B", jan(5), jan(8)), done("C", jan(12), jan(14)),
             done("D", jan(12), jan(13)), done("E", jan(10), jan(12)),
-            done("END", jan(14), jan(14), kind="finish-milestone")]
+            done("END", jan(14), jan(14), kind="closing-milestone")]
     cf = casefile([bl, snap(acts, bl.links, "U1", date(2026, 2, 2))])
     b = as_built(cf)
     assert b.source == "U1" and b.warnings == ()
@@ -122,10 +122,10 @@ def test_as_built_reproduces_actual_dates_pins_unexplained_starts_and_relinks_ou
 
 def test_as_built_takes_in_progress_work_as_continuous_and_keeps_the_forecast():
     """C started Jan 10 with 3 days left at the Jan 12 data date: 5 days in the as-built, completion as forecast."""
-    bl = snap([Activity("A", "A", 5), Activity("C", "C", 4), Activity("END", "", 0, kind="finish-milestone")],
+    bl = snap([Activity("A", "A", 5), Activity("C", "C", 4), Activity("END", "", 0, kind="closing-milestone")],
               [Link("A", "C"), Link("C", "END")], "BL", jan(5), "baseline")
     u1 = snap([done("A", jan(5), jan(9)), Activity("C", "C", 4, actual_start=jan(10), remaining=3),
-               Activity("END", "", 0, kind="finish-milestone")], bl.links, "U1", jan(12))
+               Activity("END", "", 0, kind="closing-milestone")], bl.links, "U1", jan(12))
     cf = casefile([bl, u1])
     b = as_built(cf)
     forecast = schedule(u1, cf.calendars, cf.project)
@@ -136,10 +136,10 @@ def test_as_built_takes_in_progress_work_as_continuous_and_keeps_the_forecast():
 
 def test_fragnet_activities_in_the_as_built_are_the_delay_removed():
     """A recorded fragnet activity X (4 days) between A and C is taken out and A joined to C (AACE RP 29R-03, 3.8)."""
-    bl = snap([Activity("A", "A", 5), Activity("C", "C", 3), Activity("END", "", 0, kind="finish-milestone")],
+    bl = snap([Activity("A", "A", 5), Activity("C", "C", 3), Activity("END", "", 0, kind="closing-milestone")],
               [Link("A", "C"), Link("C", "END")], "BL", jan(5), "baseline")
     u1 = snap([done("A", jan(5), jan(9)), done("X", jan(10), jan(13)), done("C", jan(14), jan(16)),
-               done("END", jan(16), jan(16), kind="finish-milestone")],
+               done("END", jan(16), jan(16), kind="closing-milestone")],
               [Link("A", "X"), Link("X", "C"), Link("C", "END")], "U1", date(2026, 2, 2))
     frag = Fragnet("F1", frozen_mapping({"X": Activity("X", "X", 4)}), (Link("A", "X"), Link("X", "C")))
     cf = casefile([bl, u1], [ev("E3", "OWN", jan(10), jan(13), fragnet_id="F1")], [frag])

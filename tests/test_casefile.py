@@ -63,7 +63,7 @@ def test_valid_casefile_lands_every_field_in_the_model(root):
     assert (a110.crash_days, a110.crash_cost, a110.calendar, a110.line) == (2, 1500.0, None, 3)
     a120 = cf.snapshot("BL").activities["A120"]
     assert a120.kind == "task"  # blank kind = task (the format)
-    assert (a120.calendar, a120.constraint, a120.constraint_date) == ("7d", "start-on-or-after", date(2026, 1, 26))
+    assert (a120.calendar, a120.constraint, a120.constraint_date) == ("7d", "start-from", date(2026, 1, 26))
 
     u = cf.snapshot("U01").activities
     assert (u["A110"].actual_start, u["A110"].actual_finish) == (date(2026, 1, 6), date(2026, 1, 19))
@@ -98,7 +98,7 @@ def test_valid_casefile_lands_every_field_in_the_model(root):
 def test_link_from_unfinished_into_finished_work_is_a_warning(tmp_path):
     """A finished successor of unfinished work is out of sequence: the link has no effect (a warning)."""
     root = write_casefile(tmp_path)
-    edit(root, U01_ACT, "Notice to proceed,start-milestone,0,,,2026-01-05,", "Notice to proceed,start-milestone,0,,,,")
+    edit(root, U01_ACT, "Notice to proceed,opening-milestone,0,,,2026-01-05,", "Notice to proceed,opening-milestone,0,,,,")
     cf = load_casefile(root)
     assert cf.warnings == (
         f"{U01_LINKS}, line 2: link M100 -> A110 has no effect, because A110 is finished and M100 is not",
@@ -142,8 +142,8 @@ def test_in_progress_with_nothing_remaining_is_a_warning(root):
 
 MANIFEST_CASES = [
     # (old text, new text, key, value, part of the message); the format, casefile.toml.
-    ('format = "forensic-casefile/1"\n', "", "format", None, "missing"),
-    ('"forensic-casefile/1"', '"forensic-casefile/9"', "format", "forensic-casefile/9", "unknown casefile format"),
+    ('format = "forensic-casefile/2"\n', "", "format", None, "missing"),
+    ('"forensic-casefile/2"', '"forensic-casefile/9"', "format", "forensic-casefile/9", "unknown casefile format"),
     ('name = "Riverside pump station"\n', "", "project.name", None, "required"),
     ("critical_float = 1", 'critical_float = "1"', "project.critical_float", "1", "whole number"),
     ("critical_float = 1", "critical_float = true", "project.critical_float", "True", "whole number"),
@@ -204,7 +204,7 @@ def test_events_key_placed_after_a_table_gets_a_hint(root):
 
 def test_manifest_that_is_not_toml_is_refused(root):
     """A TOML syntax error is reported with tomllib's position (reference library: tomllib)."""
-    (root / TOML).write_text('format = "forensic-casefile/1\n')
+    (root / TOML).write_text('format = "forensic-casefile/2\n')
     find_problem(refused(root), TOML, says="not valid TOML")
 
 
@@ -293,20 +293,20 @@ ACTIVITY_CASES = [
     (BL_ACT, "A110,X,task,10,,,,,,,ACME,,,,", "party", "ACME", "unknown party"),
     (BL_ACT, "A110,X,task,10,,,,,as-late-as-possible,2026-02-02,,,,,", "constraint",
      "as-late-as-possible", "expected one of"),
-    (BL_ACT, "A110,X,task,10,,,,,start-on,,,,,,", "constraint_date", "", "needs a constraint_date"),
+    (BL_ACT, "A110,X,task,10,,,,,start-fixed,,,,,,", "constraint_date", "", "needs a constraint_date"),
     (BL_ACT, "A110,X,task,10,,,,,,2026-02-02,,,,,", "constraint_date", "2026-02-02", "without a constraint"),
-    (BL_ACT, "A110,X,task,10,,,,,start-on,2026-02-30,,,,,", "constraint_date", "2026-02-30", "no such date"),
-    (BL_ACT, "A110,X,task,10,,,,,start-on,02/03/2026,,,,,", "constraint_date", "02/03/2026", "ISO date"),
-    (BL_ACT, "A110,X,task,10,,,,,start-on,1899-12-31,,,,,", "constraint_date", "1899-12-31", "1900-2200"),
-    (BL_ACT, "A110,X,task,10,,,,,start-on,2201-01-01,,,,,", "constraint_date", "2201-01-01", "1900-2200"),
+    (BL_ACT, "A110,X,task,10,,,,,start-fixed,2026-02-30,,,,,", "constraint_date", "2026-02-30", "no such date"),
+    (BL_ACT, "A110,X,task,10,,,,,start-fixed,02/03/2026,,,,,", "constraint_date", "02/03/2026", "ISO date"),
+    (BL_ACT, "A110,X,task,10,,,,,start-fixed,1899-12-31,,,,,", "constraint_date", "1899-12-31", "1900-2200"),
+    (BL_ACT, "A110,X,task,10,,,,,start-fixed,2201-01-01,,,,,", "constraint_date", "2201-01-01", "1900-2200"),
     (BL_ACT, "A110,X,task,10,,,,,,,,,120,,", "percent_complete", "120", "between 0 and 100"),
     (BL_ACT, "A110,X,task,10,,,,,,,,,-5,,", "percent_complete", "-5", "between 0 and 100"),
     (BL_ACT, "A110,X,task,10,,,,,,,,,NaN,,", "percent_complete", "NaN", "decimal number"),
     (BL_ACT, "A110,X,task,10,,,,,,,,,,-2,", "crash_days", "-2", "at least 0"),
     (BL_ACT, "A110,X,task,10,,,,,,,,,,11,", "crash_days", "11", "more than the duration"),
     (BL_ACT, "A110,X,task,10,,,,,,,,,,,-100", "crash_cost", "-100", "at least 0"),
-    (BL_ACT, "A110,X,finish-milestone,3,,,,,,,,,,,", "duration", "3", "milestone has duration 0"),
-    (BL_ACT, "A110,X,finish-milestone,0,2,,,,,,,,,,", "remaining", "2", "milestone has remaining 0"),
+    (BL_ACT, "A110,X,closing-milestone,3,,,,,,,,,,,", "duration", "3", "milestone has duration 0"),
+    (BL_ACT, "A110,X,closing-milestone,0,2,,,,,,,,,,", "remaining", "2", "milestone has remaining 0"),
 ]
 PROGRESS_CASES = [
     # In U01 (data date 2026-02-02); the format, Progress and Time and dates.
@@ -316,7 +316,7 @@ PROGRESS_CASES = [
      "before the data date"),
     (U01_ACT, "A110,X,task,10,4,2026-02-03,,,,,,,,,", "actual_start", "2026-02-03", "before the data date"),
     (U01_ACT, "A110,X,task,10,3,2026-01-06,2026-01-19,,,,,,,,", "remaining", "3", "finished activity"),
-    (U01_ACT, "A110,X,start-milestone,0,,2026-01-06,2026-01-07,,,,,,,,", "actual_finish", "2026-01-07",
+    (U01_ACT, "A110,X,opening-milestone,0,,2026-01-06,2026-01-07,,,,,,,,", "actual_finish", "2026-01-07",
      "one date"),
 ]
 
@@ -522,6 +522,6 @@ def test_record_moved_to_another_line_keeps_every_other_field():
     from forensic._records import _moved
     from forensic.model import Activity
 
-    a = Activity("A1", "Pour slab", 5, "task", 3, date(2026, 1, 5), None, "5d", "start-on-or-after",
+    a = Activity("A1", "Pour slab", 5, "task", 3, date(2026, 1, 5), None, "5d", "start-from",
                  date(2026, 1, 2), "CON", "Z1", 40.0, 2, 900.0, 17)
     assert _moved(a, 99) == replace(a, line=99)

@@ -74,7 +74,7 @@ def test_but_for_json_and_text(case, monkeypatch):
     last = snap(
         [Activity("A", "", 10, actual_start=day(0), actual_finish=day(15)),
          Activity("B", "", 6, actual_start=day(0), actual_finish=day(5)),
-         Activity("END", "", 0, kind="finish-milestone", actual_start=day(15), actual_finish=day(15))],
+         Activity("END", "", 0, kind="closing-milestone", actual_start=day(15), actual_finish=day(15))],
         [Link("A", "END"), Link("B", "END")], "U2", day(30))
     events = [Event("E1", "E1", "OWN", "excusable-compensable", day(3), day(8), ("A",))]
     cf = casefile([case.snapshots[0], last], events)

@@ -46,10 +46,10 @@ def _pair():
     Each side activity carries exactly one change; the lead put on C->END (0 -> -2) makes
     X the longest path.
     """
-    end = Activity("END", "complete", 0, kind="finish-milestone", calendar="5d",
-                   constraint="finish-on-or-before", constraint_date=date(2026, 2, 13))
+    end = Activity("END", "complete", 0, kind="closing-milestone", calendar="5d",
+                   constraint="finish-by", constraint_date=date(2026, 2, 13))
     common = [
-        Activity("ST", "start", 0, kind="start-milestone", calendar="5d"),
+        Activity("ST", "start", 0, kind="opening-milestone", calendar="5d"),
         act("A", 5), act("B", 5), act("C", 5), act("X", 14), end,
     ]
     started = dict(actual_start=date(2026, 1, 12))
@@ -60,7 +60,7 @@ def _pair():
         act("G", 10, remaining=4, **started),
         act("H", 10, remaining=6, **started),
         act("I", 2),
-        act("J", 2, constraint="start-on-or-after", constraint_date=date(2026, 1, 26)),
+        act("J", 2, constraint="start-from", constraint_date=date(2026, 1, 26)),
         act("K", 2),
         act("L", 2, area="A1"),
         act("N", 5, actual_start=date(2026, 1, 5), actual_finish=date(2026, 1, 9)),
@@ -75,7 +75,7 @@ def _pair():
         act("G", 12, remaining=4, **started),  # duration (scope up, remaining kept)
         act("H", 10, remaining=3, **started),  # remaining (ordinary progress)
         act("I", 2, calendar="7d"),  # calendar
-        act("J", 2, constraint="finish-on-or-after", constraint_date=date(2026, 1, 26)),  # constraint
+        act("J", 2, constraint="finish-from", constraint_date=date(2026, 1, 26)),  # constraint
         act("K", 2, party="OWN"),  # party
         act("L", 2, area="A2"),  # area
         act("N", 5, actual_start=date(2026, 1, 5), actual_finish=date(2026, 1, 8)),  # actual revised
@@ -110,7 +110,7 @@ def test_one_change_of_every_kind_is_listed_exactly():
         ("duration", "G", "duration", 10, 12, False, None, None),
         ("remaining", "H", "remaining", 6, 3, False, None, None),
         ("calendar", "I", "calendar", "5d", "7d", False, None, None),
-        ("constraint", "J", "constraint", "start-on-or-after", "finish-on-or-after", False, None, None),
+        ("constraint", "J", "constraint", "start-from", "finish-from", False, None, None),
         ("party", "K", "party", None, "OWN", False, None, None),
         ("area", "L", "area", "A1", "A2", False, None, None),
         ("link-added", "D", "link", None, "FS lag 0", True, "A", "D"),  # A was on the old path
@@ -144,11 +144,11 @@ def test_a_snapshot_compared_with_itself_has_no_changes():
 def test_link_type_change_and_revised_actual_start_and_constraint_date():
     """A link's type, an actual start and a constraint date each show as their own field."""
     started = dict(actual_start=date(2026, 1, 12), remaining=3)
-    old = [act("A", 5, **started), act("B", 5, constraint="start-on-or-after", constraint_date=date(2026, 2, 2)),
-           Activity("END", "end", 0, kind="finish-milestone")]
+    old = [act("A", 5, **started), act("B", 5, constraint="start-from", constraint_date=date(2026, 2, 2)),
+           Activity("END", "end", 0, kind="closing-milestone")]
     new = [act("A", 5, actual_start=date(2026, 1, 13), remaining=3),
-           act("B", 5, constraint="start-on-or-after", constraint_date=date(2026, 2, 9)),
-           Activity("END", "end", 0, kind="finish-milestone")]
+           act("B", 5, constraint="start-from", constraint_date=date(2026, 2, 9)),
+           Activity("END", "end", 0, kind="closing-milestone")]
     cf = casefile(old, [Link("A", "B"), Link("B", "END")], new, [Link("A", "B", "SS"), Link("B", "END")])
     r = compare_snapshots(cf, "U1", "U2")
     got = {(c.kind, c.activity, c.field, c.before, c.after) for c in r.changes}
@@ -160,7 +160,7 @@ def test_link_type_change_and_revised_actual_start_and_constraint_date():
 def test_remaining_up_with_more_scope_is_not_progress_backwards():
     """Remaining 4 -> 8 with duration 10 -> 14 is a scope change, not a step back (common practice)."""
     started = dict(actual_start=date(2026, 1, 12))
-    end = Activity("END", "end", 0, kind="finish-milestone")
+    end = Activity("END", "end", 0, kind="closing-milestone")
     cf = casefile([act("A", 10, remaining=4, **started), end], [Link("A", "END")],
                   [act("A", 14, remaining=8, **started), end], [Link("A", "END")])
     kinds = [(c.kind, c.field) for c in compare_snapshots(cf, "U1", "U2").changes]

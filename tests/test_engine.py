@@ -35,7 +35,7 @@ HOUSE_PREDS = dict(B="A", C="B", D="C", E="C", F="E", G="D", H="EG", I="C", J="F
 
 def house(extra_links=()):
     acts = [Activity(k, f"house {k}", v) for k, v in HOUSE_DURATIONS.items()]
-    acts.append(Activity("END", "house complete", 0, kind="finish-milestone"))
+    acts.append(Activity("END", "house complete", 0, kind="closing-milestone"))
     links = [Link(p, s) for s, ps in HOUSE_PREDS.items() for p in ps]
     links += [Link("M", "END"), Link("N", "END"), *extra_links]
     return acts, links
@@ -124,7 +124,7 @@ def test_links_across_calendars_pass_the_day_after_the_finish():
         Activity("A", "", 5, calendar="5d"),
         Activity("CURE", "", 3, calendar="7d"),
         Activity("B", "", 1, calendar="5d"),
-        Activity("M", "", 0, kind="finish-milestone", calendar="5d"),
+        Activity("M", "", 0, kind="closing-milestone", calendar="5d"),
     ]
     links = [Link("A", "CURE"), Link("CURE", "B"), Link("A", "M")]
     r = run(acts, links, cal="5d")
@@ -139,10 +139,10 @@ def test_links_across_calendars_pass_the_day_after_the_finish():
 
 
 def test_finish_on_or_before_that_cannot_be_met_gives_negative_float():
-    """A 10-day chain with a finish-on-or-before 7 days after the start shows -3 days of float (common practice)."""
+    """A 10-day chain with a finish-by 7 days after the start shows -3 days of float (common practice)."""
     acts = [
         Activity("A", "", 4),
-        Activity("B", "", 6, constraint="finish-on-or-before", constraint_date=MONDAY + timedelta(days=6)),
+        Activity("B", "", 6, constraint="finish-by", constraint_date=MONDAY + timedelta(days=6)),
     ]
     r = run(acts, [Link("A", "B")])
     assert r["B"].early_finish == MONDAY + timedelta(days=9)
@@ -152,8 +152,8 @@ def test_finish_on_or_before_that_cannot_be_met_gives_negative_float():
 
 
 def test_start_on_or_after_pushes_early_dates_only():
-    """A start-on-or-after date later than logic allows delays the start and leaves late dates alone."""
-    acts = [Activity("A", "", 3, constraint="start-on-or-after", constraint_date=MONDAY + timedelta(days=5)), Activity("B", "", 10)]
+    """A start-from date later than logic allows delays the start and leaves late dates alone."""
+    acts = [Activity("A", "", 3, constraint="start-from", constraint_date=MONDAY + timedelta(days=5)), Activity("B", "", 10)]
     r = run(acts, [])
     assert r["A"].early_start == MONDAY + timedelta(days=5)
     assert r["A"].total_float == 2  # project ends day 9 (B), A ends day 7

@@ -32,7 +32,7 @@ CALS = {
     "7d": Calendar("7d", ("mon", "tue", "wed", "thu", "fri", "sat", "sun")),
 }
 START = date(2026, 3, 2)
-KINDS = ("task", "task", "task", "start-milestone", "finish-milestone")
+KINDS = ("task", "task", "task", "opening-milestone", "closing-milestone")
 
 
 @st.composite

@@ -143,7 +143,7 @@ def test_csv_folder_and_json_hold_every_table(small, tmp_path: Path) -> None:
     by_name = {t["name"]: t for t in doc["tables"]}
     assert list(by_name) == [t.name for t in export.tables]
     first = by_name["activities-BL"]["rows"][0]
-    assert first["id"] == "M100" and first["kind"] == "start-milestone"
+    assert first["id"] == "M100" and first["kind"] == "opening-milestone"
     schedule = by_name["schedule-U01"]["rows"]
     assert {r["id"]: r["early_start"] for r in schedule}["A110"] == "2026-01-06"
 

@@ -32,7 +32,7 @@ NASTY = [
     "", " ", "-1", "+3", "0", "1e9", "NaN", "inf", "-inf", "1.5", "99999999999999999999",
     "2026-02-30", "2026-13-01", "0000-01-01", "9999-12-31", "2026-1-5", "FS", "SF", "XX",
     "M100", "A110", "A120", "M900", "F10", "EV02", "5d", "7d", "OWN", "WX", "task",
-    "finish-milestone", "start-on", '"', '""', "=1+1", "@SUM(A1)", "\t", "\r", "\x1b[2J",
+    "closing-milestone", "start-fixed", '"', '""', "=1+1", "@SUM(A1)", "\t", "\r", "\x1b[2J",
     "\u202e", "\ufeff", "\x00", "é", "𝔘", "a\nb", ",", "%s%n{0}", "{__import__('os')}",
 ]
 cells = st.one_of(st.sampled_from(NASTY), st.text(max_size=12))

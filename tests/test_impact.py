@@ -70,7 +70,7 @@ def event(eid, start=MONDAY, fragnet_id=None, activities=(), party="OWN", finish
 
 def two_paths(a=5, b=3):
     """A (a days) and B (b days) in parallel into the completion END; B has a - b days of float."""
-    acts = [Activity("A", "", a), Activity("B", "", b), Activity("END", "done", 0, kind="finish-milestone")]
+    acts = [Activity("A", "", a), Activity("B", "", b), Activity("END", "done", 0, kind="closing-milestone")]
     return acts, [Link("A", "END"), Link("B", "END")]
 
 
@@ -131,7 +131,7 @@ def test_two_fragnets_on_parallel_paths_are_not_additive():
 def test_cumulative_equals_all_fragnets_inserted_at_once_into_the_same_update():
     """Inserting fragnets one by one in date order ends where inserting all of them at once does (common practice)."""
     acts = [Activity("A", "", 4), Activity("B", "", 6), Activity("C", "", 3),
-            Activity("END", "done", 0, kind="finish-milestone")]
+            Activity("END", "done", 0, kind="closing-milestone")]
     links = [Link("A", "B"), Link("B", "END"), Link("A", "C"), Link("C", "END")]
     frags = [on_path("F1", "A", 2, "C"), on_path("F2", "C", 5), on_path("F3", "A", 1, "B")]
     events = [event("E3", day(3), fragnet_id="F3"), event("E1", day(1), fragnet_id="F1"),
@@ -192,7 +192,7 @@ def test_unimpacted_schedule_is_the_last_update_on_or_before_the_event():
 
 def test_progress_as_planned_to_the_event_keeps_completion_and_splits_work():
     """Progress as planned to day 7: A finished, B in progress with 3 days left, completion unchanged."""
-    acts = [Activity("A", "", 5), Activity("B", "", 5), Activity("END", "", 0, kind="finish-milestone")]
+    acts = [Activity("A", "", 5), Activity("B", "", 5), Activity("END", "", 0, kind="closing-milestone")]
     links = [Link("A", "B"), Link("B", "END")]
     cf = casefile([snap(acts, links)])
     s = progress_to(cf.snapshots[0], cf.calendars, cf.project, day(7))
@@ -208,7 +208,7 @@ def test_progress_as_planned_to_the_event_keeps_completion_and_splits_work():
 
 def test_progress_to_the_event_makes_a_tie_into_finished_work_ineffective():
     """A fragnet that holds A's start delays completion unless A is already finished at the event's start."""
-    acts = [Activity("A", "", 5), Activity("B", "", 5), Activity("END", "", 0, kind="finish-milestone")]
+    acts = [Activity("A", "", 5), Activity("B", "", 5), Activity("END", "", 0, kind="closing-milestone")]
     links = [Link("A", "B"), Link("B", "END")]
     late_info = fragnet("F1", [Activity("X", "late drawings", 3)], [Link("X", "A")])
     cf = casefile([snap(acts, links)], [event("E1", day(6), fragnet_id="F1")], [late_info])
@@ -233,8 +233,8 @@ def test_event_without_fragnet_adds_its_overlap_to_the_activity_it_names():
 
 def test_milestones_are_reported_before_and_after():
     """Every milestone of the unimpacted schedule is reported with its move (AACE RP 52R-06)."""
-    acts = [Activity("A", "", 5), Activity("M1", "key date", 0, kind="finish-milestone"), Activity("B", "", 3),
-            Activity("END", "done", 0, kind="finish-milestone")]
+    acts = [Activity("A", "", 5), Activity("M1", "key date", 0, kind="closing-milestone"), Activity("B", "", 3),
+            Activity("END", "done", 0, kind="closing-milestone")]
     links = [Link("A", "M1"), Link("M1", "B"), Link("B", "END")]
     cf = casefile([snap(acts, links)], [event("E1", fragnet_id="F1")], [on_path("F1", "A", 2, "M1")])
     r = time_impact(cf, "E1")
@@ -251,7 +251,7 @@ def test_impact_in_working_days_counts_the_default_calendar():
     assert delay_between(Project("t", "5d", delay_unit="working-days"), {"5d": FIVE}, fri, mon) == 1
     assert delay_between(Project("t", "5d"), {"5d": FIVE}, fri, mon) == 3
     assert delay_between(Project("t", "5d", delay_unit="working-days"), {"5d": FIVE}, mon, fri) == -1
-    acts = [Activity("A", "", 5, calendar="5d"), Activity("END", "", 0, kind="finish-milestone", calendar="5d")]
+    acts = [Activity("A", "", 5, calendar="5d"), Activity("END", "", 0, kind="closing-milestone", calendar="5d")]
     frag = fragnet("F1", [Activity("X", "", 2, calendar="5d")], [Link("A", "X"), Link("X", "END")])
     cf = casefile([snap(acts, [Link("A", "END")])], [event("E1", fragnet_id="F1")], [frag],
                   unit="working-days", cal="5d")

@@ -18,11 +18,11 @@ def task(aid, d, **kw):
 
 
 def start(aid="ST", **kw):
-    return Activity(aid, "start", 0, kind="start-milestone", calendar="5d", **kw)
+    return Activity(aid, "start", 0, kind="opening-milestone", calendar="5d", **kw)
 
 
 def finish(aid="END", **kw):
-    return Activity(aid, "finish", 0, kind="finish-milestone", calendar="5d", **kw)
+    return Activity(aid, "finish", 0, kind="closing-milestone", calendar="5d", **kw)
 
 
 def snap(acts, links, sid="BL", dd=MON, role="baseline"):
@@ -112,9 +112,9 @@ def test_hard_constraints_at_and_over_five_percent(hard, expected):
     for i in range(20):
         kw = {}
         if i < hard:
-            kw = dict(constraint="finish-on-or-before", constraint_date=far)
+            kw = dict(constraint="finish-by", constraint_date=far)
         elif i == 19:
-            kw = dict(constraint="start-on-or-after", constraint_date=MON)  # soft: not counted
+            kw = dict(constraint="start-from", constraint_date=MON)  # soft: not counted
         acts.append(task(f"T{i:02d}", 2, **kw))
     acts.append(finish())
     links = chain("ST", *[f"T{i:02d}" for i in range(20)], "END")
@@ -135,7 +135,7 @@ def test_high_float_counts_float_above_44_working_days():
 def test_negative_float_from_a_finish_constraint_that_cannot_be_met():
     """Check 7: a 10-day task due in 5 working days floats -5; 1 / 2 tasks (DCMA-EA PAM 200.1, 0 %)."""
     acts = [
-        start(), task("A", 10, constraint="finish-on-or-before", constraint_date=date(2026, 1, 9)),
+        start(), task("A", 10, constraint="finish-by", constraint_date=date(2026, 1, 9)),
         task("B", 3), finish(),
     ]
     links = [Link("ST", "A"), Link("ST", "B"), Link("A", "END"), Link("B", "END")]

@@ -51,7 +51,7 @@ def house():
         Activity(k, f"house {k}", n, crash_days=n - c, crash_cost=(cc - nc) / (n - c))
         for k, (n, c, nc, cc) in HOUSE.items()
     ]
-    acts.append(Activity("END", "house complete", 0, kind="finish-milestone"))
+    acts.append(Activity("END", "house complete", 0, kind="closing-milestone"))
     links = [Link(p, s) for s, ps in HOUSE_PREDS.items() for p in ps]
     links += [Link("M", "END"), Link("N", "END")]
     # One "week" is one working day of a 7-day calendar.
@@ -114,7 +114,7 @@ def test_two_parallel_critical_paths_both_need_a_cut():
     acts = [
         Activity("A", "", 10, crash_days=3, crash_cost=10),
         Activity("B", "", 10, crash_days=3, crash_cost=12),
-        Activity("END", "", 0, kind="finish-milestone"),
+        Activity("END", "", 0, kind="closing-milestone"),
     ]
     cf = casefile(acts, [Link("A", "END"), Link("B", "END")], completion="END")
     r = recover(cf, "S", days=1)
@@ -129,7 +129,7 @@ def test_two_parallel_paths_with_a_shared_activity(shared_cost, expected):
         Activity("S", "", 5, crash_days=2, crash_cost=shared_cost),
         Activity("A", "", 10, crash_days=3, crash_cost=10),
         Activity("B", "", 10, crash_days=3, crash_cost=10),
-        Activity("END", "", 0, kind="finish-milestone"),
+        Activity("END", "", 0, kind="closing-milestone"),
     ]
     links = [Link("S", "A"), Link("S", "B"), Link("A", "END"), Link("B", "END")]
     r = recover(casefile(acts, links, completion="END"), "S", days=1)
@@ -142,7 +142,7 @@ def test_shortening_that_would_delay_the_completion_is_never_chosen():
         Activity("A", "", 10),
         Activity("B", "", 10, crash_days=5, crash_cost=1),
         Activity("C", "", 10, crash_days=2, crash_cost=50),
-        Activity("END", "", 0, kind="finish-milestone"),
+        Activity("END", "", 0, kind="closing-milestone"),
     ]
     links = [Link("A", "B", "FF"), Link("B", "C", "SS"), Link("C", "END")]
     cf = casefile(acts, links, completion="END")
@@ -161,7 +161,7 @@ def test_in_progress_work_shortens_its_remaining_duration_only():
                  crash_days=3, crash_cost=1),
         Activity("B", "", 10, actual_start=MONDAY - timedelta(days=5), remaining=6, crash_days=4, crash_cost=5),
         Activity("C", "", 4, crash_days=2, crash_cost=8),
-        Activity("END", "", 0, kind="finish-milestone"),
+        Activity("END", "", 0, kind="closing-milestone"),
     ]
     links = [Link("A", "B"), Link("B", "C"), Link("C", "END")]
     cf = casefile(acts, links, completion="END")
@@ -177,7 +177,7 @@ def test_a_task_keeps_at_least_one_day_and_milestones_are_not_shortened():
     """A crash limit above the duration leaves one working day; milestones carry no crash (definition used here)."""
     acts = [
         Activity("A", "", 3, crash_days=10, crash_cost=1),
-        Activity("M", "", 0, kind="finish-milestone", crash_days=5, crash_cost=0),
+        Activity("M", "", 0, kind="closing-milestone", crash_days=5, crash_cost=0),
     ]
     r = recover(casefile(acts, [Link("A", "M")], completion="M"), "S", days=2)
     assert [(s.id, s.days, s.limit, s.remaining_after) for s in r.plan.shortenings] == [("A", 2, 2, 1)]
@@ -250,7 +250,7 @@ def crash_networks(draw, progress=True):
             links.append(Link(f"A{p}", f"A{s}", typ, lag))
     named = draw(st.booleans())
     if named:
-        acts.append(Activity("END", "", 0, kind="finish-milestone"))
+        acts.append(Activity("END", "", 0, kind="closing-milestone"))
         links += [Link(f"A{i}", "END") for i in range(n)]
     cal = draw(st.sampled_from(["7d", "5d"]))
     logic = draw(st.sampled_from(["retained", "override"]))

@@ -32,16 +32,16 @@ ESCAPE_NAME = 'Pour <slab> & "cure"'
 
 def _snapshot(sid, dd, role, progress):
     acts = [
-        Activity("M000", "Notice to proceed", 0, kind="start-milestone"),
+        Activity("M000", "Notice to proceed", 0, kind="opening-milestone"),
         Activity("A100", "Site set-up", 10),
         Activity("A200", ESCAPE_NAME, 20),
         Activity("A300", "Steel frame erection — level 1–3", 30),
         Activity("A310", "Façade panels", 25),
         Activity("A400", "Fit-out & services", 40),
-        Activity("M500", "Weathertight", 0, kind="finish-milestone",
-                 constraint="finish-on-or-before", constraint_date=date(2026, 7, 15)),
+        Activity("M500", "Weathertight", 0, kind="closing-milestone",
+                 constraint="finish-by", constraint_date=date(2026, 7, 15)),
         Activity("A450", "Landscaping", 15),
-        Activity("M900", "Practical completion", 0, kind="finish-milestone"),
+        Activity("M900", "Practical completion", 0, kind="closing-milestone"),
     ]
     acts = [replace(a, **progress.get(a.id, {})) for a in acts]
     links = (

@@ -81,9 +81,9 @@ def test_network_has_every_feature_the_issue_asks_for(casefile):
     assert min(lags) < 0 < max(lags)
     assert {a.calendar for a in acts if a.kind == "task"} == {"5d", "6d", "7d"}
     kinds = Counter(a.constraint for a in acts)
-    assert kinds["start-on-or-after"] > 0 and kinds["finish-on-or-before"] > 0
-    assert all(a.kind == "finish-milestone" for a in acts if a.constraint == "finish-on-or-before")
-    assert Counter(a.kind for a in acts)["finish-milestone"] > 20
+    assert kinds["start-from"] > 0 and kinds["finish-by"] > 0
+    assert all(a.kind == "closing-milestone" for a in acts if a.constraint == "finish-by")
+    assert Counter(a.kind for a in acts)["closing-milestone"] > 20
     statuses = Counter(a.status for a in last.activities.values())
     assert statuses["finished"] > 0 and statuses["in-progress"] > 0 and statuses["not-started"] > 0
 

@@ -16,9 +16,9 @@ def _snap(sid, dd, role, acts):
 def casefile(delay_unit="calendar-days"):
     """A(10) -> B(20) -> M, and C(5) -> M, on a Monday-to-Friday calendar from Monday 5 January 2026."""
     base = [Activity("A", "a", 10), Activity("B", "b", 20), Activity("C", "c", 5),
-            Activity("M", "done", 0, kind="finish-milestone")]
+            Activity("M", "done", 0, kind="closing-milestone")]
     upd = [Activity("A", "a", 10, actual_start=date(2026, 1, 5), actual_finish=date(2026, 1, 23)),
-           Activity("B", "b", 20), Activity("C", "c", 5), Activity("M", "done", 0, kind="finish-milestone")]
+           Activity("B", "b", 20), Activity("C", "c", 5), Activity("M", "done", 0, kind="closing-milestone")]
     project = Project("t", "5d", completion="M", contract_completion=date(2026, 2, 20), delay_unit=delay_unit)
     snaps = (_snap("BL", date(2026, 1, 5), "baseline", base), _snap("U01", date(2026, 2, 2), "update", upd))
     return Casefile(project, frozen_mapping({"5d": FIVE}), frozen_mapping(), snaps)

@@ -52,7 +52,7 @@ def path_chart(
             until = data_date
         else:
             until = None
-        kind = None if not act.is_milestone else "start" if act.kind == "start-milestone" else "finish"
+        kind = None if not act.is_milestone else "start" if act.kind == "opening-milestone" else "finish"
         bars.append(charts.Bar(f"{aid} {act.name}", x.early_start, x.early_finish, until, kind))
     return charts.bars_on_time_scale(
         bars, width=FRAME_WIDTH, data_date=data_date,

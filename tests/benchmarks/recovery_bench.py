@@ -32,7 +32,7 @@ def bench_network(n: int = 2000, crashable: int = 300, seed: int = 7) -> Casefil
         if i in crash_ids:
             kw = dict(crash_days=rng.randint(1, 5), crash_cost=float(rng.randint(100, 5000)))
         acts.append(Activity(f"A{i:04d}", f"activity {i}", rng.randint(2, 20), **kw))
-    acts.append(Activity("DONE", "completion", 0, kind="finish-milestone"))
+    acts.append(Activity("DONE", "completion", 0, kind="closing-milestone"))
     links = []
     for i in range(width, n):
         layer = i // width
