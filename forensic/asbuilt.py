@@ -4,9 +4,9 @@ This is the observational, static-logic comparison of AACE RP 29R-03
 method implementation protocols 3.1 (gross) and 3.2 (periodic): each
 activity's planned start, finish and duration in the baseline against its
 actual (or, where not yet reached, forecast) start, finish and duration in
-the last update, with the variances. Start and finish variances are in the
-casefile's delay unit (a negative variance is earlier than planned);
-duration variances in working days of the activity's calendar.
+the last update, with the slips (AACE RP 29R-03 terms: as-planned, as-built). Start and
+finish slips are in the casefile's delay unit (a negative slip is earlier than planned);
+duration growth in working days of the activity's calendar.
 
 References
 ----------
@@ -37,23 +37,23 @@ class AsBuiltRow:
     ``status`` is ``finished``, ``in-progress``, ``not-started``, ``added``
     (not in the baseline) or ``deleted`` (not in the last update). For an
     activity not finished the "actual" finish is the last update's forecast
-    (``forecast`` is then true). Variances are ``None`` where one side is
+    (``forecast`` is then true). Slips are ``None`` where one side is
     missing.
     """
 
     id: str
     name: str
     status: str
-    planned_start: date | None
-    planned_finish: date | None
-    planned_duration: int | None
-    actual_start: date | None
-    actual_finish: date | None
-    actual_duration: int | None
+    as_planned_start: date | None
+    as_planned_finish: date | None
+    as_planned_days: int | None
+    as_built_start: date | None
+    as_built_finish: date | None
+    as_built_days: int | None
     forecast: bool
-    start_variance: int | None
-    finish_variance: int | None
-    duration_variance: int | None
+    start_slip: int | None
+    finish_slip: int | None
+    duration_growth: int | None
 
 
 def as_planned_vs_as_built(casefile: Casefile) -> tuple[AsBuiltRow, ...]:

@@ -360,21 +360,21 @@ def test_demo_report_as_built_summary_counts_the_comparison_rows(demo, demo_text
     from forensic.asbuilt import as_planned_vs_as_built
 
     rows = as_planned_vs_as_built(demo)
-    compared = [r for r in rows if r.finish_variance is not None]
-    late = sum(1 for r in compared if r.finish_variance > 0)
+    compared = [r for r in rows if r.finish_slip is not None]
+    late = sum(1 for r in compared if r.finish_slip > 0)
     finished = sum(1 for r in rows if r.status == "finished")
-    worst = max(compared, key=lambda r: r.finish_variance)
+    worst = max(compared, key=lambda r: r.finish_slip)
     comp = next(r for r in rows if r.id == "M900")
     assert "Appendix: as-planned versus as-built" in demo_text
     assert f"Of the {len(compared)} activities that are both in the baseline and in U10" in demo_text
     assert f"{finished} are finished" in demo_text
     assert f"{late} finish (or are forecast to finish) later than planned" in demo_text
-    assert f"{worst.name} ({worst.id}), {worst.finish_variance} calendar days late" in demo_text
-    assert (f"was planned for {long_date(comp.planned_finish)} and is forecast for "
-            f"{long_date(comp.actual_finish)}, {comp.finish_variance} calendar days later") in demo_text
+    assert f"{worst.name} ({worst.id}), {worst.finish_slip} calendar days late" in demo_text
+    assert (f"was planned for {long_date(comp.as_planned_finish)} and is forecast for "
+            f"{long_date(comp.as_built_finish)}, {comp.finish_slip} calendar days later") in demo_text
 
 
-def test_as_built_subset_takes_the_longest_path_then_the_largest_finish_variances():
+def test_as_built_subset_takes_the_longest_path_then_the_largest_finish_slips():
     """The report's subset: the final path in path order, then the latest finishes, late only (our rule, docs/report.md)."""
     from forensic.asbuilt import AsBuiltRow
     from forensic.report.asbuilt_sections import asbuilt_subset

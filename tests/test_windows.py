@@ -184,10 +184,10 @@ def test_as_planned_vs_as_built_variances():
 
     rows = {r.id: r for r in as_planned_vs_as_built(chain_case())}
     a = rows["A"]
-    assert (a.planned_start, a.planned_finish, a.planned_duration) == (D0, day(9), 10)
-    assert (a.actual_start, a.actual_finish, a.forecast) == (D0, day(13), True)
-    assert (a.start_variance, a.finish_variance, a.duration_variance) == (0, 4, 4)
-    assert rows["M"].finish_variance == 4
+    assert (a.as_planned_start, a.as_planned_finish, a.as_planned_days) == (D0, day(9), 10)
+    assert (a.as_built_start, a.as_built_finish, a.forecast) == (D0, day(13), True)
+    assert (a.start_slip, a.finish_slip, a.duration_growth) == (0, 4, 4)
+    assert rows["M"].finish_slip == 4
     assert asbuilt_table(tuple(rows.values())).records()[0]["id"] == "A"
 
 
@@ -213,3 +213,12 @@ def test_windows_command_prints_json_and_tables(monkeypatch):
     bad = runner.invoke(main, ["windows", "x", "--windows", "U09"])
     assert bad.exit_code == 1 and "Error: --windows: no snapshot 'U09'" in bad.output
     assert "Example:" in runner.invoke(main, ["windows", "--help"]).output
+
+
+def test_as_built_table_headers_use_the_as_planned_as_built_terms():
+    """The table's columns carry AACE RP 29R-03's as-planned / as-built terms and our word "slip"."""
+    from forensic.asbuilt import ASBUILT_COLUMNS
+
+    assert ASBUILT_COLUMNS == ("id", "name", "status", "as_planned_start", "as_planned_finish", "as_planned_days",
+                               "as_built_start", "as_built_finish", "as_built_days", "forecast",
+                               "start_slip", "finish_slip", "duration_growth")

@@ -161,11 +161,11 @@ def asbuilt_subset(rows: Any, longest_path: Any, limit: int) -> list[Any]:
     a finish variance (added or deleted activities) are left to the export.
     """
     by_id = {r.id: r for r in rows}
-    picked = [by_id[a] for a in longest_path if a in by_id and by_id[a].finish_variance is not None][:limit]
+    picked = [by_id[a] for a in longest_path if a in by_id and by_id[a].finish_slip is not None][:limit]
     seen = {r.id for r in picked}
-    rest = sorted((r for r in rows if r.id not in seen and r.finish_variance is not None),
-                  key=lambda r: -r.finish_variance)
-    return picked + [r for r in rest if r.finish_variance > 0][: max(0, limit - len(picked))]
+    rest = sorted((r for r in rows if r.id not in seen and r.finish_slip is not None),
+                  key=lambda r: -r.finish_slip)
+    return picked + [r for r in rest if r.finish_slip > 0][: max(0, limit - len(picked))]
 
 
 def as_built(ctx: ReportContext, section: Section) -> list[Flowable]:
@@ -173,10 +173,10 @@ def as_built(ctx: ReportContext, section: Section) -> list[Flowable]:
     cf = ctx.casefile
     unit = cf.project.delay_unit
     latest = ctx.trend.latest
-    compared = [r for r in rows if r.finish_variance is not None]
+    compared = [r for r in rows if r.finish_slip is not None]
     status = {k: sum(1 for r in rows if r.status == k) for k in ("finished", "in-progress", "not-started", "added", "deleted")}
-    late = [r for r in compared if r.finish_variance > 0]
-    worst = max(compared, key=lambda r: r.finish_variance, default=None)
+    late = [r for r in compared if r.finish_slip > 0]
+    worst = max(compared, key=lambda r: r.finish_slip, default=None)
     comp = next((r for r in rows if r.id == latest.completion_id), None)
     limit = max(1, int(section.options["rows"]))
     shown = asbuilt_subset(rows, latest.longest_path, limit)
@@ -185,15 +185,15 @@ def as_built(ctx: ReportContext, section: Section) -> list[Flowable]:
         baseline=cf.baseline.id, snapshot=latest.snapshot_id, data_date=long_date(latest.data_date),
         compared=len(compared), finished=status["finished"], in_progress=status["in-progress"],
         not_started=status["not-started"], added=status["added"], deleted=status["deleted"],
-        late=len(late), early=sum(1 for r in compared if r.finish_variance < 0),
-        on_time=sum(1 for r in compared if r.finish_variance == 0),
+        late=len(late), early=sum(1 for r in compared if r.finish_slip < 0),
+        on_time=sum(1 for r in compared if r.finish_slip == 0),
         worst=worst.id if worst else "", worst_name=worst.name if worst else "",
-        worst_days=days_words(unit, worst.finish_variance) if worst else "",
+        worst_days=days_words(unit, worst.finish_slip) if worst else "",
         completion_id=latest.completion_id,
         completion_name=activity_name(cf, latest.completion_id, latest.snapshot_id),
-        planned_completion=long_date(comp.planned_finish) if comp else "—",
-        completion=long_date(comp.actual_finish) if comp else "—",
-        completion_variance=_move_words(unit, comp.finish_variance if comp else None),
+        planned_completion=long_date(comp.as_planned_finish) if comp else "—",
+        completion=long_date(comp.as_built_finish) if comp else "—",
+        completion_variance=_move_words(unit, comp.finish_slip if comp else None),
         shown=len(shown), path_count=sum(1 for r in shown if r.id in set(latest.longest_path)),
     )
     out = paragraphs(text_or_none(ctx, section, "intro"))
@@ -202,15 +202,15 @@ def as_built(ctx: ReportContext, section: Section) -> list[Flowable]:
     path = set(latest.longest_path)
     u = "wd" if unit == "working-days" else "cd"
     cols = (_col(section, "activity", "Activity"), _col(section, "name", "Name"),
-            _col(section, "planned_start", "Planned start"), _col(section, "planned_finish", "Planned finish"),
-            _col(section, "actual_start", "Actual start"), _col(section, "actual_finish", "Actual finish"),
-            _col(section, "start_variance", f"Start var. ({u})"), _col(section, "finish_variance", f"Finish var. ({u})"))
+            _col(section, "as_planned_start", "As-planned start"), _col(section, "as_planned_finish", "As-planned finish"),
+            _col(section, "as_built_start", "As-built start"), _col(section, "as_built_finish", "As-built finish"),
+            _col(section, "start_slip", f"Start slip ({u})"), _col(section, "finish_slip", f"Finish slip ({u})"))
     body = []
     for r in shown:
-        finish = short_date(r.actual_finish) + (" (f)" if r.forecast else "")
-        started = short_date(r.actual_start) + (" (f)" if r.actual_start and r.status == "not-started" else "")
-        body.append((r.id + (" *" if r.id in path else ""), r.name, short_date(r.planned_start),
-                     short_date(r.planned_finish), started, finish, _signed(r.start_variance), _signed(r.finish_variance)))
+        finish = short_date(r.as_built_finish) + (" (f)" if r.forecast else "")
+        started = short_date(r.as_built_start) + (" (f)" if r.as_built_start and r.status == "not-started" else "")
+        body.append((r.id + (" *" if r.id in path else ""), r.name, short_date(r.as_planned_start),
+                     short_date(r.as_planned_finish), started, finish, _signed(r.start_slip), _signed(r.finish_slip)))
     if body:
         out += [data_table(cols, body, (1, 3, 1, 1, 1, 1, 0.9, 0.9), numeric=(6, 7), small_head=True, fit=(0, 2, 3, 4, 5))]
     out += paragraphs(text_or_none(ctx, section, "legend", fields), "caption")
