@@ -296,6 +296,9 @@ def to_xlsx(tables: Sequence[Table], *, title: str = "forensic tables") -> bytes
         widths = [len(c) for c in table.columns]
         for row in table.rows:
             ws.append([_xlsx_cell(v) for v in row])
+            for cell in ws[ws.max_row]:
+                if isinstance(cell.value, str) and cell.value.startswith("="):
+                    cell.data_type = "s"  # a bare operator kept as text, never a formula
             for i, v in enumerate(row):
                 widths[i] = max(widths[i], _shown_width(v))
         for col in ws.iter_cols(min_row=2):

@@ -16,6 +16,7 @@ import csv
 import io
 import json
 import math
+import re
 from dataclasses import dataclass
 from datetime import date
 from typing import Any
@@ -34,6 +35,7 @@ __all__ = [
 ]
 
 _FORMULA_LEADS = ("=", "+", "-", "@", "\t", "\r")
+_BARE_OPERATOR = re.compile(r"[=<>]{1,2}")
 
 
 @dataclass(frozen=True, slots=True)
@@ -49,8 +51,14 @@ class Table:
 
 
 def neutralise(value: Any) -> Any:
-    """Make a text cell inert in a spreadsheet (OWASP, CSV injection); other values pass."""
-    if isinstance(value, str) and value.startswith(_FORMULA_LEADS):
+    """Make a text cell inert in a spreadsheet (OWASP, CSV injection); other values pass.
+
+    A bare comparison operator (``==``, ``<=``, ``>=``: the quality checks'
+    documented ``comparison`` column) has no operand, so a spreadsheet has
+    nothing to evaluate: it is kept as written rather than given an
+    apostrophe (common practice; the XLSX writer stores it as a text cell).
+    """
+    if isinstance(value, str) and value.startswith(_FORMULA_LEADS) and not _BARE_OPERATOR.fullmatch(value):
         return "'" + value
     return value
 

@@ -1,4 +1,4 @@
-"""A plain scalar implementation of the engine's rules, kept as a test oracle.
+"""A plain scalar implementation of the engine's rules, kept as the tests' reference implementation.
 
 This was the first version of :mod:`forensic.engine`: one Python loop per
 pass, link by link. The production engine now works level by level on numpy

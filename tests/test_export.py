@@ -192,3 +192,17 @@ def test_analysis_commands_take_xlsx(small, tmp_path: Path, command: list[str], 
     assert result.exit_code == 0, result.output
     assert load_workbook(out).sheetnames == sheets
     assert f"wrote {out}" in result.output
+
+
+def test_bare_operator_is_a_text_cell_in_xlsx() -> None:
+    """"==" is written as a text cell (data type "s"), not as a formula (openpyxl cell types)."""
+    import io
+
+    from openpyxl import load_workbook
+
+    from forensic.export import to_xlsx
+    from forensic.tables import Table
+
+    data = to_xlsx([Table("t", ("comparison",), (("==",), ("<=",)))])
+    ws = load_workbook(io.BytesIO(data)).active
+    assert [(c.value, c.data_type) for c in ws["A"][1:]] == [("==", "s"), ("<=", "s")]

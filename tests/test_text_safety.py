@@ -130,3 +130,11 @@ def test_schedule_xlsx_holds_hostile_names_as_inert_text(tmp_path):
     for aid, name in HOSTILE.items():
         cell = names[aid]
         assert cell.data_type == "s" and cell.value == "'" + name  # a string, not a formula ("f")
+
+
+def test_a_bare_comparison_operator_is_kept_as_written():
+    """Quality check 12's comparison "==" has no operand: nothing to evaluate, so no apostrophe (common practice)."""
+    assert neutralise("==") == "=="
+    assert neutralise("<=") == "<="
+    assert neutralise("==1") == "'==1"  # an operand follows: a spreadsheet would evaluate it
+    assert neutralise("=SUM(A1)") == "'=SUM(A1)"
