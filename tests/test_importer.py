@@ -123,7 +123,7 @@ def test_fractional_days_are_rounded_only_when_asked(example: Path, tmp_path: Pa
     edit(example / "tasks-baseline.csv", "Abutment caps,Work,56", "Abutment caps,Work,58")
     err = problems_of(example / "mapping.toml", tmp_path / "refused")
     # Expected: 58/8 = 7.25 (arithmetic); the default rounding is "refuse".
-    assert "tasks-baseline.csv, line 5, Planned Dur (h)" in str(err)
+    assert "tasks-baseline.csv, line 5, Span (h)" in str(err)
     assert "58 hours is 7.25 days" in str(err)
     edit(example / "mapping.toml", "hours_per_day = 8", f'hours_per_day = 8\nrounding = "{rounding}"')
     report = import_casefile(example / "mapping.toml", tmp_path / "case")
@@ -148,7 +148,7 @@ def test_unknown_relationship_code_is_an_error_naming_the_codes(example: Path, t
     """A code the mapping does not list is refused with the file, row, column and the codes known."""
     edit(example / "logic-baseline.csv", "KL-210,KL-300,fs,-", "KL-210,KL-300,F2S,-")
     err = problems_of(example / "mapping.toml", tmp_path / "case")
-    assert "logic-baseline.csv, line 8, Rel: type: unknown code; expected one of FF, FS, SF, SS" in str(err)
+    assert "logic-baseline.csv, line 8, Tie: type: unknown code; expected one of FF, FS, SF, SS" in str(err)
     assert "'F2S'" in str(err)
     assert not (tmp_path / "case").exists()
 
@@ -240,7 +240,7 @@ def test_workbook_with_a_sheet_per_table(example: Path, tmp_path: Path) -> None:
 
 def test_missing_sheet_lists_the_sheets(example: Path, tmp_path: Path) -> None:
     """A sheet name not in the workbook is an error that lists the sheets it has."""
-    _workbook(example / "programme.xlsx", {"Tasks": [["Task Code"]], "Logic": [["From Task"]]})
+    _workbook(example / "programme.xlsx", {"Tasks": [["Item Ref"]], "Logic": [["First Item"]]})
     edit(example / "mapping.toml", 'activities = "tasks-baseline.csv"',
          'activities = { file = "programme.xlsx", sheet = "Task" }')
     err = problems_of(example / "mapping.toml", tmp_path / "case")
@@ -249,26 +249,26 @@ def test_missing_sheet_lists_the_sheets(example: Path, tmp_path: Path) -> None:
 
 def test_mapped_column_not_found_lists_the_columns_found(example: Path, tmp_path: Path) -> None:
     """A column the mapping names but the file lacks is an error listing every column found."""
-    edit(example / "mapping.toml", 'duration = "Planned Dur (h)"', 'duration = "Plan Dur (h)"')
+    edit(example / "mapping.toml", 'duration = "Span (h)"', 'duration = "Spn (h)"')
     err = problems_of(example / "mapping.toml", tmp_path / "case")
     assert ("tasks-baseline.csv, line 1, duration: column for duration not found; the columns found are "
-            "'Task Code', 'Task Title', 'Type', 'Planned Dur (h)', 'Left Dur (h)', 'Began', 'Ended', "
-            "'Cal', 'Resp', 'Done', 'Notes' (value: 'Plan Dur (h)')") in str(err)
+            "'Item Ref', 'Item', 'Type', 'Span (h)', 'To go (h)', 'Began', 'Ended', "
+            "'Cal', 'Resp', 'Done', 'Notes' (value: 'Spn (h)')") in str(err)
     assert str(err).startswith("2 problems in the import:")  # one per tasks file
     assert "delays.csv" not in str(err)  # no cascade of unknown ids from the unread tables
 
 
 def test_required_field_without_a_column_lists_the_columns_found(example: Path, tmp_path: Path) -> None:
     """A required field neither mapped nor present under our name is an error listing the columns."""
-    edit(example / "mapping.toml", 'succ = "To Task"\n', "")
+    edit(example / "mapping.toml", 'succ = "Next Item"\n', "")
     err = problems_of(example / "mapping.toml", tmp_path / "case")
     assert "logic-baseline.csv, line 1, succ: no column for the required field succ" in str(err)
-    assert "the columns found are 'From Task', 'To Task', 'Rel', 'Offset (h)'" in str(err)
+    assert "the columns found are 'First Item', 'Next Item', 'Tie', 'Gap (h)'" in str(err)
 
 
 def test_unknown_mapping_keys_and_fields_are_errors(example: Path, tmp_path: Path) -> None:
     """A misspelt key or field in the mapping is refused, naming the mapping key and what is allowed."""
-    edit(example / "mapping.toml", 'duration = "Planned Dur (h)"', 'duraton = "Planned Dur (h)"')
+    edit(example / "mapping.toml", 'duration = "Span (h)"', 'duraton = "Span (h)"')
     edit(example / "mapping.toml", "hours_per_day = 8", "hours_per_day = 8\nhour_per_day = 8")
     err = problems_of(example / "mapping.toml", tmp_path / "case")
     assert "mapping.toml, columns.activities.duraton: unknown field; the activities fields are id, name" in str(err)
@@ -339,7 +339,7 @@ def test_cli_import_prints_the_report(example: Path, tmp_path: Path) -> None:
 def test_logic_loop_found_on_reload_names_the_source_rows(example: Path, tmp_path: Path) -> None:
     """A loop only the reload finds is reported at the user's file and rows, not the temporary casefile's."""
     # A blank line after the header shifts every source row one below its line in the written casefile.
-    edit(example / "logic-baseline.csv", "Offset (h)\n", "Offset (h)\n\n")
+    edit(example / "logic-baseline.csv", "Gap (h)\n", "Gap (h)\n\n")
     edit(example / "logic-baseline.csv", "KL-300,KL-900,Finish-Finish,0\n",
          "KL-300,KL-900,Finish-Finish,0\nKL-300,KL-120,Finish-Start,0\n")
     err = problems_of(example / "mapping.toml", tmp_path / "case")
@@ -355,7 +355,7 @@ def test_logic_loop_found_on_reload_names_the_source_rows(example: Path, tmp_pat
 def test_reload_warning_names_the_source_row(example: Path, tmp_path: Path) -> None:
     """A loader warning on the written casefile (a link into finished work) names the source file and row."""
     # In U01, KL-100 is finished; a new link into it from unfinished KL-200 (not after it) is a warning.
-    edit(example / "logic-update1.csv", "Offset (h)\n", "Offset (h)\nKL-200,KL-100,Finish-Finish,0\n")
+    edit(example / "logic-update1.csv", "Gap (h)\n", "Gap (h)\nKL-200,KL-100,Finish-Finish,0\n")
     report = import_casefile(example / "mapping.toml", tmp_path / "case")
     # Expected: the row just added is line 2 of logic-update1.csv (casefiles/README.md: such a link is a warning).
     assert any(w.startswith("logic-update1.csv, line 2: link KL-200 -> KL-100 has no effect") for w in report.warnings), \
