@@ -186,7 +186,7 @@ def _baseline(n: int, links_per_activity: float, rng: random.Random, opts: dict)
 
 
 def _deadlines(net: _Net, cals: dict[str, Calendar], project: Project, rng: random.Random) -> None:
-    """Finish-on-or-before on the area milestones: the baseline date plus a little margin."""
+    """Finish-by constraints on the area milestones: the baseline date plus a little margin."""
     snap = Snapshot("BL", _START, frozen_mapping(net.acts), tuple(net.links), role="baseline")
     table = schedule(snap, cals, project).activities
     for aid, a in list(net.acts.items()):
