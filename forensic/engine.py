@@ -36,7 +36,15 @@ activity in progress is scheduled from the data date; under ``retained``
 logic its FS links still hold the remaining work until the predecessor
 finishes and its FF and SF links still hold its finish (SS links are
 satisfied by the actual start); under ``override`` no link holds the
-remaining work of a started activity. This is the usual meaning of the two
+remaining work of a started activity. In the backward pass a start-type
+link (SS, SF) from an activity already started is satisfied by that
+start, so it does not pull the late finish of the remaining work.
+
+The backward pass starts from the project finish, the completion's early
+finish, and caps every late finish there, as the precedence-diagramming
+backward pass does: an activity whose successors are only start-type links
+(a dangling finish) gets no late finish after the project's, and the
+completion none after its own finish (AACE RP 49R-06; common CPM practice). This is the usual meaning of the two
 settings (AACE RP 29R-03, sec. 2.2, on progress override versus retained
 logic; common practice).
 
@@ -507,7 +515,11 @@ def _schedule(
         active = succ_status == 0
     else:
         active = (succ_status == 0) | (held & (ltyp != 1))
-    back_active = active & (status[lp] != 2)
+    # Backward pass links (AACE RP 49R-06; common CPM practice for progress):
+    # a link from finished work constrains nothing, and a start-type link
+    # (SS, SF) from work already started is satisfied by its actual start,
+    # so it does not limit the late finish of the remaining work.
+    back_active = active & (status[lp] != 2) & ~(start_type & (status[lp] == 1))
 
     early_bound = np.full(n, -_BIG, dtype=np.int64)
     late_bound = np.full(n, _BIG, dtype=np.int64)
@@ -581,7 +593,10 @@ def _schedule(
     if comp is None:
         key = np.lexsort((np.arange(n), -finish_day, -F))  # ties: first in file order
         comp = int(key[0])
-    t_end = int(F.max())
+    # The project finish is the completion's early finish; no late finish
+    # may fall after it (the precedence-diagramming backward pass starts
+    # from the project finish and caps every late finish there).
+    t_end = int(F[comp])
 
     # Backward pass over the work still to schedule, latest level first.
     lf = np.full(n, _BIG, dtype=np.int64)
@@ -619,7 +634,7 @@ def _schedule(
             k_early = np.where(late_type, first_at[cp, t_early + 1 - lo] - 1, first_at[cp, t_early - lo]) + off
             np.minimum.at(lf, p, k_late)
             np.minimum.at(early_f, p, k_early)
-        lf[nodes] = np.minimum(lf[nodes], late_bound[nodes])
+        lf[nodes] = np.minimum(np.minimum(lf[nodes], k_end[nodes]), late_bound[nodes])
         ls_[nodes] = lf[nodes] - dur[nodes]
         if ls_[nodes].min() < 1:
             raise _HorizonTooShort

@@ -259,7 +259,7 @@ def _schedule(
     comp = pos.get(project.completion) if project.completion else None
     if comp is None:
         comp = max(order, key=lambda i: (F[i], finish_day[i], -i))  # ties: first in file order
-    t_end = max(F)
+    t_end = F[comp]  # the project finish: no late finish after the completion's
 
     # Backward pass over the work still to schedule.
     big = 1 << 60
@@ -282,6 +282,8 @@ def _schedule(
                 continue
             if stj == 1 and (logic == "override" or typ == "SS"):
                 continue
+            if status[i] == 1 and typ in _START_TYPES:
+                continue  # satisfied by the predecessor's actual start
             any_succ = True
             Cj = cal_idx[j]
             if typ in _FINISH_ON_SUCC:
@@ -304,9 +306,10 @@ def _schedule(
                 late_f = k_late
             if k_early < early_f:
                 early_f = k_early
+        k_end = (first_at[t_end + 1 - lo] - 1) if finish_late[i] else first_at[t_end - lo]
         if not any_succ:
-            k_end = (first_at[t_end + 1 - lo] - 1) if finish_late[i] else first_at[t_end - lo]
             late_f = early_f = k_end
+        late_f = min(late_f, k_end)  # capped at the project finish
         if a.constraint is not None and a.constraint_date is not None:
             bound = _late_constraint_bound(a, status[i], d, C, lo, start_late[i], finish_late[i])
             if bound is not None and bound < late_f:
