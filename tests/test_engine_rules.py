@@ -30,11 +30,11 @@ def run(engine, acts, links, data_date, completion="FIN", logic="retained"):
 def started_work(link_type, lag):
     """ST -> A FS; A started, 10 of 20 days left; A -> B by ``link_type``; A -> C FS; B, C -> FIN."""
     acts = [
-        Activity("ST", "start", 0, kind="start-milestone", actual_start=date(2026, 3, 1)),
+        Activity("ST", "start", 0, kind="opening-milestone", actual_start=date(2026, 3, 1)),
         Activity("A", "Excavate", 20, remaining=10, actual_start=date(2026, 3, 1)),
         Activity("B", "Formwork", 30),
         Activity("C", "Short tail", 2),
-        Activity("FIN", "finish", 0, kind="finish-milestone"),
+        Activity("FIN", "finish", 0, kind="closing-milestone"),
     ]
     links = [
         Link("ST", "A"),
@@ -99,7 +99,7 @@ def test_ss_link_from_work_not_started_still_holds_it(engine):
     #   FIN 04-01. Backward: B LS 03-03, so A LS <= 03-01, A LF 03-20, TF 0.
     acts, links = started_work("SS", 2)
     acts = [
-        Activity("ST", "start", 0, kind="start-milestone"),
+        Activity("ST", "start", 0, kind="opening-milestone"),
         Activity("A", "Excavate", 20),
         *acts[2:],
     ]
@@ -116,7 +116,7 @@ def dangling(extra=()):
         Activity("A", "dangling finish", 10),
         Activity("B", "overlapping work", 5),
         Activity("D", "long work", 12),
-        Activity("FIN", "finish", 0, kind="finish-milestone"),
+        Activity("FIN", "finish", 0, kind="closing-milestone"),
         *extra,
     ]
     links = [Link("A", "B", "SS", 2), Link("B", "FIN"), Link("D", "FIN")]
