@@ -31,6 +31,13 @@ def refuse_casefile_paths(target: Path, protected: Iterable[Path]) -> None:
             raise OutputError(msg)
 
 
+def _umask() -> int:
+    """The process umask (read by setting and restoring it; there is no getter)."""
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
+
+
 def atomic_write(target: str | os.PathLike, data: bytes | str, protected: Iterable[Path] = ()) -> Path:
     """Write ``data`` to ``target`` atomically; return the path written.
 
@@ -47,6 +54,9 @@ def atomic_write(target: str | os.PathLike, data: bytes | str, protected: Iterab
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=folder)
     try:
         with os.fdopen(fd, "wb") as fh:
+            # mkstemp creates the file 0600; give it the mode a plain open() would.
+            if hasattr(os, "fchmod"):
+                os.fchmod(fh.fileno(), 0o666 & ~_umask())
             fh.write(payload)
             fh.flush()
             os.fsync(fh.fileno())

@@ -154,3 +154,19 @@ def test_commands_open_casefile_files_read_only(tmp_path, monkeypatch):
     inside = [(f, m) for f, m in opened if Path(f).resolve().is_relative_to(root)]
     assert len(inside) >= 2 * len(FILES)  # the spy saw every file, twice
     assert all(set(m) <= {"r", "b", "t"} for _, m in inside), inside
+
+
+@pytest.mark.parametrize(("umask", "expected"), [(0o022, 0o644), (0o077, 0o600)])
+def test_outputs_follow_the_umask_through_the_cli(tmp_path, umask, expected):
+    demo = Path(__file__).resolve().parent.parent / "casefiles" / "riverside"
+    out = tmp_path / "schedule.json"
+    code = (
+        f"import os, sys; os.umask({umask:#o}); from forensic.cli import main; "
+        f"sys.argv = ['forensic', 'schedule', {str(demo)!r}, '--snapshot', 'BL', '--json', '--out', {str(out)!r}]; "
+        "main()"
+    )
+    env = {**os.environ, "PYTHONPATH": str(Path(__file__).resolve().parent.parent)}
+    proc = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True, timeout=120)
+    assert proc.returncode == 0, proc.stderr
+    assert out.stat().st_mode & 0o777 == expected
+    assert not list(tmp_path.glob("*.part"))
