@@ -36,17 +36,17 @@ activity in progress is scheduled from the data date; under ``retained``
 logic its FS links still hold the remaining work until the predecessor
 finishes and its FF and SF links still hold its finish (SS links are
 satisfied by the actual start); under ``override`` no link holds the
-remaining work of a started activity. In the backward pass a start-type
-link (SS, SF) from an activity already started is satisfied by that
-start, so it does not pull the late finish of the remaining work.
+remaining work of a started activity. This is the usual meaning of the two
+settings (AACE RP 29R-03, sec. 2.2, on progress override versus retained
+logic; common practice). In the backward pass a start-type link (SS, SF)
+from an activity already started is satisfied by that start, so it does
+not pull the late finish of the remaining work.
 
 The backward pass starts from the project finish, the completion's early
 finish, and caps every late finish there, as the precedence-diagramming
 backward pass does: an activity whose successors are only start-type links
 (a dangling finish) gets no late finish after the project's, and the
-completion none after its own finish (AACE RP 49R-06; common CPM practice). This is the usual meaning of the two
-settings (AACE RP 29R-03, sec. 2.2, on progress override versus retained
-logic; common practice).
+completion none after its own finish (AACE RP 49R-06; common CPM practice).
 
 References
 ----------

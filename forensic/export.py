@@ -295,10 +295,11 @@ def to_xlsx(tables: Sequence[Table], *, title: str = "forensic tables") -> bytes
             cell.font = bold
         widths = [len(c) for c in table.columns]
         for row in table.rows:
-            ws.append([_xlsx_cell(v) for v in row])
-            for cell in ws[ws.max_row]:
-                if isinstance(cell.value, str) and cell.value.startswith("="):
-                    cell.data_type = "s"  # a bare operator kept as text, never a formula
+            cells = [_xlsx_cell(v) for v in row]
+            ws.append(cells)
+            for i, v in enumerate(cells):
+                if isinstance(v, str) and v.startswith("="):  # only a bare operator is left so
+                    ws.cell(ws.max_row, i + 1).data_type = "s"  # text, never a formula
             for i, v in enumerate(row):
                 widths[i] = max(widths[i], _shown_width(v))
         for col in ws.iter_cols(min_row=2):

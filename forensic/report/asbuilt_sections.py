@@ -153,12 +153,12 @@ def but_for(ctx: ReportContext, section: Section) -> list[Flowable]:
 
 
 def asbuilt_subset(rows: Any, longest_path: Any, limit: int) -> list[Any]:
-    """The rows the report shows: the final longest path, then the largest finish variances, up to ``limit``.
+    """The rows the report shows: the final longest path, then the largest finish slips, up to ``limit``.
 
     Activities on the latest update's longest path come first (in path
     order); the remaining places go to the other activities with the
-    largest finish variance (late first, ties in file order). Rows without
-    a finish variance (added or deleted activities) are left to the export.
+    largest finish slip (late first, ties in file order). Rows without
+    a finish slip (added or deleted activities) are left to the export.
     """
     by_id = {r.id: r for r in rows}
     picked = [by_id[a] for a in longest_path if a in by_id and by_id[a].finish_slip is not None][:limit]
