@@ -372,11 +372,14 @@ def bars_on_time_scale(
     to_do_label: str = "to do",
     milestone_label: str = "milestone",
     data_date_label: str = "data date",
+    span: tuple[date, date] | None = None,
 ) -> Drawing:
     """One row per bar on a date axis, with the data date as a vertical line.
 
     The part done (to ``done_until``) is dark, the part still to do light
-    with a dark outline; a milestone is a diamond.
+    with a dark outline; a milestone is a diamond. ``span`` (first and last
+    day) widens the axis to cover more than the bars drawn, so that charts
+    continued over several pages share one axis that reaches the completion.
     """
     f = font_family().regular
     row = 11.5
@@ -397,6 +400,8 @@ def bars_on_time_scale(
     top = height - 6
     bottom = axis_h + legend_h
     days = [b.start.toordinal() for b in bars] + [b.finish.toordinal() + 1 for b in bars] + [data_date.toordinal()]
+    if span is not None:
+        days += [span[0].toordinal(), span[1].toordinal() + 1]
     xlo, xhi, xticks = _date_ticks(min(days) - 3, max(days) + 3, right - left)
 
     def px(v: float) -> float:

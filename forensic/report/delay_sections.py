@@ -28,6 +28,7 @@ from .narrative import (
     short_date,
     text_or_none,
     unit_words,
+    window_last_day,
 )
 from .paths import path_chart, paths_table
 from .pdf import FRAME_WIDTH, Heading, data_table, paragraphs, styles
@@ -110,7 +111,8 @@ def window_fields(ctx: ReportContext, run: Any, att: Any) -> dict[str, Any]:
     fields = common_fields(ctx)
     events = {e.id: e for e in ctx.casefile.events}
     fields.update(
-        window=w.label, from_id=w.from_id, to_id=w.to_id, start=long_date(w.start), end=long_date(w.end),
+        window=w.label, from_id=w.from_id, to_id=w.to_id, start=long_date(w.start), end=long_date(window_last_day(w)),
+        next_data_date=long_date(w.end),
         completion_before=long_date(w.completion_before), completion_after=long_date(w.completion_after),
         half_step_completion=long_date(w.half_step_completion),
         days=abs(w.slip), days_unit=unit_words(unit, w.slip),
@@ -147,7 +149,7 @@ def windows(ctx: ReportContext, section: Section) -> list[Flowable]:
             _col(section, "revision", "Revision"), _col(section, "concurrent", "Concurrent"),
         )
         body = [
-            (r.window.label, short_date(r.window.start), short_date(r.window.end), short_date(r.window.completion_before),
+            (r.window.label, short_date(r.window.start), short_date(window_last_day(r.window)), short_date(r.window.completion_before),
              short_date(r.window.completion_after), _signed(r.window.slip), _signed(r.window.progress_slip),
              _signed(r.window.revision_slip), a.concurrent.days)
             for r, a in runs
@@ -159,7 +161,7 @@ def windows(ctx: ReportContext, section: Section) -> list[Flowable]:
         w = run.window
         f = window_fields(ctx, run, att)
         block: list[Flowable] = [Heading(
-            escape(f"Window {w.label}: {long_date(w.start)} to {long_date(w.end)}"), st["h2"],
+            escape(f"Window {w.label}: {long_date(w.start)} to {long_date(window_last_day(w))}"), st["h2"],
             f"window-{section.number}-{w.label}", 1,
         )]
         key = "later" if w.slip > 0 else "earlier" if w.slip < 0 else "unchanged"
@@ -187,8 +189,8 @@ def windows(ctx: ReportContext, section: Section) -> list[Flowable]:
             out += [paths_table(section, w.critical_path_before, w.critical_path_after, names_b, names_a, heads,
                                 max(2, int(section.options["path_rows"]))), Spacer(1, 6)]
         if section.options["path_chart"]:
-            out.append(path_chart(section, w.critical_path_after, run.after, run.later, w.end,
-                                  max(1, int(section.options["path_rows"]))))
+            out += path_chart(section, w.critical_path_after, run.after, run.later, w.end,
+                              max(2, int(section.options["path_rows"])))
             out += _paras(text_or_none(ctx, section, "path_caption", f), "caption")
         if section.options["contributors"] and att.contributors:
             events = {e.id: e for e in ctx.casefile.events}

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
-from datetime import date
+from datetime import date, timedelta
 from typing import Any
 
 from .. import __version__
@@ -23,6 +23,9 @@ from .templates import Section, Template, fill
 
 __all__ = [
     "MONTHS",
+    "CriticalCounts",
+    "count_words",
+    "critical_counts",
     "ReportContext",
     "common_fields",
     "long_date",
@@ -34,6 +37,7 @@ __all__ = [
     "path_words",
     "short_date",
     "unit_words",
+    "window_last_day",
 ]
 
 MONTHS = (
@@ -63,9 +67,72 @@ class ReportContext:
     left_out: frozenset[str] = frozenset()  # section kinds with nothing to show for this casefile
 
 
+@dataclass(frozen=True, slots=True)
+class CriticalCounts:
+    """Why the count of critical activities and the longest path can differ, counted from one schedule.
+
+    ``critical`` counts the engine's critical flags (total float at most the
+    critical float, work not finished); ``path_count`` the activities of the
+    longest path. ``off_path`` are critical activities not on the longest
+    path, ``off_path_negative`` those of them with negative float (held by a
+    key date or constraint earlier than the work can finish, so critical to
+    that date rather than to the completion). ``path_not_critical`` are
+    unfinished longest-path activities whose float is above the critical
+    float, with the smallest and largest such float in working days: float
+    is counted on each activity's own calendar, and where paths on different
+    working weeks meet, the chain that drives the completion can keep some
+    float. AACE RP 49R-06 (from memory: in schedules with several calendars
+    or constraints, lowest float does not identify the critical path; the
+    longest path does).
+    """
+
+    critical: int
+    path_count: int
+    off_path: int
+    off_path_negative: int
+    path_not_critical: int
+    path_float_min: int | None
+    path_float_max: int | None
+
+
+def critical_counts(result: Any, longest_path: Sequence[str]) -> CriticalCounts:
+    """Count the critical activities against the longest path of one :class:`~forensic.engine.ScheduleResult`."""
+    on_path = set(longest_path)
+    critical = result.critical_ids
+    off = [a for a in critical if a not in on_path]
+    negative = [a for a in off if (result.activities[a].total_float or 0) < 0]
+    loose = [
+        result.activities[a].total_float for a in longest_path
+        if result.activities[a].status != "finished" and not result.activities[a].critical
+        and result.activities[a].total_float is not None
+    ]
+    return CriticalCounts(
+        critical=len(critical), path_count=len(longest_path), off_path=len(off), off_path_negative=len(negative),
+        path_not_critical=len(loose), path_float_min=min(loose, default=None), path_float_max=max(loose, default=None),
+    )
+
+
+def count_words(n: int, one: str, many: str | None = None) -> str:
+    """``1 activity``, ``21 activities``: a count with its noun in the right number."""
+    return f"{n} {one if n == 1 else many or one + 's'}"
+
+
 def long_date(d: date | None) -> str:
     """``4 May 2026`` (English month names, no locale)."""
     return "—" if d is None else f"{d.day} {MONTHS[d.month - 1]} {d.year}"
+
+
+def window_last_day(window: Any) -> date:
+    """The last day a window covers: the day before its later data date.
+
+    A data date is the first day of the work still to do (common practice;
+    the casefile format defines it so), so the progress a window observes
+    runs from its earlier data date up to the day before its later one. The
+    window BL-U01 with data dates 2 March and 7 April covers 2 March to
+    6 April, and the next window starts on 7 April: printed so, consecutive
+    windows never share a day under the inclusive reading of dates.
+    """
+    return window.end - timedelta(days=1)
 
 
 def short_date(d: date | None) -> str:

@@ -11,13 +11,14 @@ from __future__ import annotations
 from collections.abc import Sequence
 from datetime import date, timedelta
 from itertools import zip_longest
+from xml.sax.saxutils import escape
 
-from reportlab.platypus import Flowable
+from reportlab.platypus import Flowable, KeepTogether, Paragraph
 
 from ..engine import ScheduleResult
 from ..model import Snapshot
 from . import charts
-from .pdf import FRAME_WIDTH, data_table
+from .pdf import FRAME_WIDTH, data_table, styles
 from .templates import Section
 
 __all__ = ["path_chart", "path_shown", "paths_table"]
@@ -28,37 +29,83 @@ def _col(section: Section, key: str, default: str) -> str:
 
 
 def path_shown(path: Sequence[str], result: ScheduleResult, limit: int) -> list[str]:
-    """At most ``limit`` activities of ``path``: the work still to do first, then the latest finished work."""
+    """At most ``limit`` activities of ``path``, always ending on its last (the completion).
+
+    The work still to do comes first, then the latest finished work; when
+    even the work to do is longer than ``limit``, its first ``limit - 1``
+    activities and the path's last are kept, so that a summarised chart
+    still reaches the completion. The caller states how many were left out.
+    """
     shown = list(path)
     if len(shown) <= limit:
         return shown
     remaining = [a for a in shown if result.activities[a].status != "finished"]
     done = [a for a in shown if result.activities[a].status == "finished"]
-    keep_done = done[len(done) - max(0, limit - len(remaining)):] if limit > len(remaining) else []
-    return keep_done + remaining[:limit]
+    if len(remaining) >= limit:
+        head = remaining[: max(0, limit - 1)]
+        return head + [shown[-1]] if shown[-1] not in head else head
+    keep_done = done[len(done) - (limit - len(remaining)):]
+    return keep_done + remaining
+
+
+def _bar(aid: str, result: ScheduleResult, snap: Snapshot, data_date: date) -> charts.Bar:
+    x = result.activities[aid]
+    act = snap.activities[aid]
+    if x.status == "finished":
+        until = x.early_finish + timedelta(days=1)
+    elif x.status == "in-progress":
+        until = data_date
+    else:
+        until = None
+    kind = None if not act.is_milestone else "start" if act.kind == "opening-milestone" else "finish"
+    return charts.Bar(f"{aid} {act.name}", x.early_start, x.early_finish, until, kind)
 
 
 def path_chart(
     section: Section, path: Sequence[str], result: ScheduleResult, snap: Snapshot, data_date: date, limit: int,
-) -> Flowable:
-    """The bars of ``path`` (at most ``limit``) on a time scale, with the data date."""
-    bars = []
-    for aid in path_shown(path, result, limit):
-        x = result.activities[aid]
-        act = snap.activities[aid]
-        if x.status == "finished":
-            until = x.early_finish + timedelta(days=1)
-        elif x.status == "in-progress":
-            until = data_date
-        else:
-            until = None
-        kind = None if not act.is_milestone else "start" if act.kind == "opening-milestone" else "finish"
-        bars.append(charts.Bar(f"{aid} {act.name}", x.early_start, x.early_finish, until, kind))
-    return charts.bars_on_time_scale(
-        bars, width=FRAME_WIDTH, data_date=data_date,
+    *, continued: bool = False,
+) -> list[Flowable]:
+    """The bars of ``path`` on a time scale, with the data date; never silently cut.
+
+    With ``continued`` every activity is drawn, ``limit`` rows to a chart,
+    the charts sharing one date axis from the path's first start to its
+    last finish (the completion), each after the first labelled with the
+    rows it continues. Otherwise a path longer than ``limit`` is summarised
+    (:func:`path_shown`) and a line under the chart states how many
+    activities were left out; its axis still spans the whole path.
+    """
+    if not path:
+        return []
+    bars_all = [_bar(a, result, snap, data_date) for a in path]
+    span = (min(b.start for b in bars_all), max(b.finish for b in bars_all))
+    opts = dict(
+        width=FRAME_WIDTH, data_date=data_date, span=span,
         done_label=_col(section, "done", "done"), to_do_label=_col(section, "to_do", "to do"),
         milestone_label=_col(section, "milestone", "milestone"), data_date_label=_col(section, "data_date", "data date"),
     )
+    st = styles()
+    if continued:
+        out: list[Flowable] = []
+        for k in range(0, len(path), limit):
+            chart = charts.bars_on_time_scale(bars_all[k:k + limit], **opts)
+            if not k:
+                out.append(chart)
+                continue
+            # The line that says what is continued stays on the page of its chart.
+            out.append(KeepTogether([Paragraph(escape(
+                f"Continued: activities {k + 1} to {min(k + limit, len(path))} of the {len(path)} on the path."
+            ), st["caption"]), chart]))
+        return out
+    shown = set(path_shown(path, result, limit))
+    out = [charts.bars_on_time_scale([b for a, b in zip(path, bars_all, strict=True) if a in shown], **opts)]
+    left_out = len(path) - len(shown)
+    if left_out:
+        out.append(Paragraph(escape(
+            f"{len(shown)} of the {len(path)} activities on the path are drawn; {left_out} "
+            f"{'is' if left_out == 1 else 'are'} left out of the chart (finished work first, then the work "
+            f"to do before the last), and the axis runs to the completion {path[-1]}."
+        ), st["caption"]))
+    return out
 
 
 def paths_table(

@@ -13,7 +13,7 @@ from xml.sax.saxutils import escape
 
 from reportlab.platypus import CondPageBreak, Flowable, KeepTogether, PageBreak, Paragraph, Spacer
 
-from ..trend import SnapshotTrend
+from ..trend import SnapshotTrend, delay_between
 from . import charts
 from .asbuilt_sections import ASBUILT_RENDERERS
 from .delay_sections import DELAY_RENDERERS, parties_words, party_totals
@@ -21,7 +21,11 @@ from .narrative import (
     ReportContext,
     activity_name,
     common_fields,
+    count_words,
+    critical_counts,
+    days_words,
     float_words,
+    join_words,
     long_date,
     milestone_sentence,
     move_sentence,
@@ -125,6 +129,72 @@ def _trend_chart(ctx: ReportContext, section: Section, rows: Sequence[SnapshotTr
     )
 
 
+def _critical_notes(ctx: ReportContext, section: Section, row: SnapshotTrend) -> list[Flowable]:
+    """Say why the critical count and the longest path differ at one snapshot, when they do."""
+    res = ctx.trend.schedules[[r.snapshot_id for r in ctx.trend.snapshots].index(row.snapshot_id)]
+    c = critical_counts(res, row.longest_path)
+    crit = ctx.casefile.project.critical_float
+    reasons = []
+    if c.off_path_negative:
+        reasons.append(f"{c.off_path_negative} with negative float, held by a key date or a constraint earlier than "
+                       "the work can finish, and so critical to that date rather than to the completion")
+    if c.off_path - c.off_path_negative:
+        reasons.append(f"{c.off_path - c.off_path_negative} with a total float of at most {float_words(crit)} on a path "
+                       "that ties with the longest path or meets it on another calendar")
+    if c.path_float_min is None:
+        path_float = ""
+    elif c.path_float_min == c.path_float_max:
+        path_float = float_words(c.path_float_min)
+    else:
+        path_float = f"{c.path_float_min} to {float_words(c.path_float_max)}"
+    fields = common_fields(ctx)
+    fields.update(
+        snapshot=row.snapshot_id, critical=c.critical, critical_float=crit, path_count=count_words(c.path_count, "activity", "activities"),
+        off_path=c.off_path, off_path_reasons=join_words(reasons), path_not_critical=c.path_not_critical, path_float=path_float,
+    )
+    out: list[Flowable] = []
+    if c.off_path:
+        out += _paras(text_or_none(ctx, section, "critical_off_path", fields))
+    if c.path_not_critical:
+        out += _paras(text_or_none(ctx, section, "path_not_critical", fields))
+    return out
+
+
+def key_date_words(ctx: ReportContext) -> list[str]:
+    """Each key milestone that is late against its key date or lost float in the latest update, for reading.
+
+    A key milestone is late when its forecast is after the date of its
+    finish-by (or finish-fixed, start-by, start-fixed) constraint in the
+    latest update, the contractual or sectional date it carries (casefile
+    format, Constraints); it lost float when its total float fell from the
+    update before. Finished milestones are left out. The days late are in
+    the project's delay unit (:func:`forensic.trend.delay_between`).
+    """
+    t = ctx.trend
+    if len(t.snapshots) < 2:
+        return []
+    last, prev = t.snapshots[-1], t.snapshots[-2]
+    snap = ctx.casefile.snapshot(last.snapshot_id)
+    words = []
+    for m in t.milestones:
+        tf, when = last.milestone_floats.get(m), last.milestone_dates.get(m)
+        act = snap.activities.get(m)
+        if tf is None or when is None or act is None:
+            continue
+        parts = []
+        if act.constraint in ("finish-by", "finish-fixed", "start-by", "start-fixed") and act.constraint_date is not None \
+                and when > act.constraint_date:
+            late = delay_between(ctx.casefile, act.constraint_date, when)
+            parts.append(f"{days_words(t.delay_unit, late)} after its key date of {long_date(act.constraint_date)}")
+        before = prev.milestone_floats.get(m)
+        if before is not None and tf < before:
+            parts.append(f"{float_words(before - tf)} of float lost since {prev.snapshot_id}")
+        if parts:
+            words.append(f"{activity_name(ctx.casefile, m, last.snapshot_id)} ({m}), forecast {long_date(when)}, "
+                         f"total float {float_words(tf)}: " + " and ".join(parts))
+    return words
+
+
 def summary(ctx: ReportContext, section: Section) -> list[Flowable]:
     t = ctx.trend
     last = t.latest
@@ -152,6 +222,10 @@ def summary(ctx: ReportContext, section: Section) -> list[Flowable]:
         "completion_name": activity_name(ctx.casefile, last.completion_id, last.snapshot_id),
         "critical": last.critical,
     }))
+    out += _critical_notes(ctx, section, last)
+    keys = key_date_words(ctx)
+    if keys:
+        out += _paras(text_or_none(ctx, section, "key_dates", {"key_dates": "; ".join(keys), "count": len(keys)}))
     if ctx.delay is not None:
         led = ctx.delay.ledger
         totals, concurrent = party_totals(ctx.delay)
@@ -394,11 +468,13 @@ def longest_path(ctx: ReportContext, section: Section) -> list[Flowable]:
             Heading(escape(f"{r.snapshot_id}: data date {long_date(r.data_date)}"), st["h2"], f"path-{section.number}-{r.snapshot_id}", 1),
         ]
         block += _paras(fill(section.texts["sentence"], fields, _where(ctx, section, "sentence")))
-        chart = path_chart(section, r.longest_path, res, snap, r.data_date, limit)
-        block.append(chart)
+        block += _critical_notes(ctx, section, r)
+        charts_ = path_chart(section, r.longest_path, res, snap, r.data_date, limit, continued=True)
+        block.append(charts_[0])
         caption = text_or_none(ctx, section, "caption", {"snapshot": r.snapshot_id, "data_date": long_date(r.data_date)})
         block += _paras(caption, "caption")
         out.append(KeepTogether(block))
+        out += charts_[1:]
         if section.options["table"]:
             cols = (_col(section, "id", "Activity"), _col(section, "name", "Name"), _col(section, "start", "Start"),
                     _col(section, "finish", "Finish"), _col(section, "float_col", "Total float (wd)"), _col(section, "status", "Status"))

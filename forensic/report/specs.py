@@ -59,7 +59,7 @@ _MILESTONE = (
 
 _WINDOW = (
     *COMMON, "window", "from_id", "to_id", "start", "end", "completion_before", "completion_after",
-    "half_step_completion", "days", "days_unit", "progress", "progress_text", "revision", "revision_text",
+    "half_step_completion", "next_data_date", "days", "days_unit", "progress", "progress_text", "revision", "revision_text",
     "joined", "left", "contributors", "revision_events", "parties", "concurrent", "concurrent_parties",
 )
 _LEDGER = (
@@ -74,6 +74,10 @@ _RECOVERY = (
     *COMMON, "snapshot", "data_date", "asked", "asked_unit", "target", "current_completion", "completion",
     "recovered", "recovered_unit", "cost", "count", "activities", "earliest_completion", "max_working_days",
 )
+
+# Why the critical count and the longest path differ (summary and longest-path sections).
+_CRITICAL_NOTE = (*COMMON, "snapshot", "critical", "critical_float", "path_count", "off_path", "off_path_reasons",
+                  "path_not_critical", "path_float")
 
 _AS_BUILT = (*COMMON, "source", "data_date", "completion", "pins", "pin_list", "relinked", "relinked_list", "warnings")
 _BUTFOR = (
@@ -108,6 +112,9 @@ SPECS: dict[str, SectionSpec] = {
                 "contract_before": (*COMMON, "contract_completion", "variance", "variance_unit"),
                 "contract_on": (*COMMON, "contract_completion"),
                 "float": (*COMMON, "float", "completion_id", "completion_name", "critical"),
+                "critical_off_path": _CRITICAL_NOTE,
+                "path_not_critical": _CRITICAL_NOTE,
+                "key_dates": (*COMMON, "key_dates", "count"),
                 "caption": COMMON,
                 "parties": (*COMMON, "parties", "compensable", "noncompensable", "nonexcusable", "concurrent",
                             "gains", "unassigned", "unattributed", "total_slip", "total_unit"),
@@ -157,7 +164,8 @@ SPECS: dict[str, SectionSpec] = {
                     "completion", "completion_id", "completion_name", "float",
                 ),
             },
-            optional_texts={"intro": COMMON, "caption": (*COMMON, "snapshot", "data_date")},
+            optional_texts={"intro": COMMON, "caption": (*COMMON, "snapshot", "data_date"),
+                            "critical_off_path": _CRITICAL_NOTE, "path_not_critical": _CRITICAL_NOTE},
             options={"scope": OptionSpec(str, "all", ("all", "latest", "last-two")),
                      "table": OptionSpec(bool, False), "rows": OptionSpec(int, 30)},
             protocol=(

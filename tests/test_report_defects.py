@@ -1,0 +1,132 @@
+"""The report never misleads: window dates, critical counts, key dates, charts never cut.
+
+Each figure checked here is counted independently in the test from the
+engine's result or the casefile, not read back from the report's helpers.
+"""
+
+from __future__ import annotations
+
+import io
+from datetime import date, timedelta
+
+import pytest
+from pypdf import PdfReader
+
+from forensic.casefile import load_casefile
+from forensic.demo import demo_source
+from forensic.engine import schedule
+from forensic.report import build_report
+from forensic.report.narrative import long_date
+from forensic.trend import completion_trend
+
+
+def _pages(data: bytes) -> list[str]:
+    return [" ".join(p.extract_text().split()) for p in PdfReader(io.BytesIO(data)).pages]
+
+
+@pytest.fixture(scope="module")
+def demo():
+    return load_casefile(demo_source())
+
+
+@pytest.fixture(scope="module")
+def full_pages(demo) -> list[str]:
+    return _pages(build_report(demo, "full"))
+
+
+@pytest.fixture(scope="module")
+def monthly_text(demo) -> str:
+    return " ".join(_pages(build_report(demo, "monthly")))
+
+
+def test_windows_are_printed_from_the_earlier_data_date_to_the_day_before_the_later(demo, full_pages):
+    """Under the inclusive reading of dates no day falls in two windows.
+
+    Hand working: BL has data date 2 March 2026 and U01 7 April 2026, so the
+    window BL-U01 covers 2 March to 6 April 2026 and U01-U02 starts on
+    7 April (common practice: the data date is the first day of the work
+    still to do, casefile format).
+    """
+    text = " ".join(full_pages)
+    assert "Window BL-U01: 2 March 2026 to 6 April 2026" in text
+    assert "Window BL-U01: 2 March 2026 to 7 April 2026" not in text
+    snaps = demo.snapshots
+    for a, b in zip(snaps, snaps[1:], strict=False):
+        last_day = b.data_date - timedelta(days=1)
+        assert f"Window {a.id}-{b.id}: {long_date(a.data_date)} to {long_date(last_day)}" in text
+        # The next window starts the day after this one's last day.
+        assert last_day + timedelta(days=1) == b.data_date
+
+
+def test_summary_says_why_critical_activities_outnumber_the_longest_path(demo, full_pages):
+    """At U10, 28 activities are critical and the longest path has 21: the 7 others carry negative float.
+
+    Counted here from the engine's result: critical = not finished with total
+    float <= the casefile's critical float (0); off the path = critical and
+    not on the longest path; every one of them has negative float, held by
+    the key date M-RIV (finish-by 25 March 2027), earlier than the work can
+    finish.
+    """
+    latest = demo.snapshots[-1]
+    res = schedule(latest, demo.calendars, demo.project)
+    crit = [a for a, x in res.activities.items() if x.status != "finished" and x.total_float <= 0]
+    off = [a for a in crit if a not in set(res.longest_path)]
+    negative = [a for a in off if res.activities[a].total_float < 0]
+    assert (len(crit), len(res.longest_path), len(off), len(negative)) == (28, 21, 7, 7)
+    summary = next(p for p in full_pages if "2. Executive summary" in p)
+    assert (f"The longest path at U10 holds {len(res.longest_path)} activities, fewer than the {len(crit)} critical "
+            f"activities: {len(off)} lie off it, {len(negative)} with negative float") in summary
+
+
+def test_longest_path_section_says_why_the_path_is_not_all_critical(demo, full_pages):
+    """At BL the longest path holds 36 activities but only 6 are critical: 30 carry 1-2 working days of float.
+
+    Counted from the engine: unfinished activities of the longest path whose
+    total float is above 0. Their float is counted on their own calendars
+    (five-, six- and seven-day, fabrication) (AACE RP 49R-06, from memory: with several calendars
+    the longest path, not lowest float, identifies the critical path).
+    """
+    bl = demo.baseline
+    res = schedule(bl, demo.calendars, demo.project)
+    loose = [res.activities[a].total_float for a in res.longest_path if res.activities[a].total_float > 0]
+    assert len(res.longest_path) == 36 and len(loose) == 30
+    # The stated cause needs calendars with different working weeks on the path: here four of them.
+    assert {bl.activities[a].calendar for a in res.longest_path} == {"5d", "6d", "7d", "fab"}
+    text = " ".join(full_pages)
+    assert (f"{len(loose)} of the activities still to do on this longest path carry {min(loose)} to {max(loose)} "
+            "working days of total float") in text
+
+
+def test_every_longest_path_chart_reaches_the_completion(demo, full_pages):
+    """No silent cut at 30 rows: each update's chart names the completion milestone M900, continued if need be.
+
+    BL's longest path has 36 activities and U06's 47 (counted from the
+    engine): both continue on a second chart, and no chart stops before the
+    completion.
+    """
+    trend = completion_trend(demo)
+    start = next(i for i, p in enumerate(full_pages) if "Appendix: longest path at each update" in p and "BL: data date" in p)
+    appendix = " ".join(full_pages[start:])
+    appendix = appendix[: appendix.index("Appendix: record of inputs")]
+    heads = [f"{r.snapshot_id}: data date {long_date(r.data_date)}" for r in trend.snapshots]
+    parts = []
+    for h, nxt in zip(heads, [*heads[1:], None], strict=True):
+        at = appendix.index(h)
+        parts.append(appendix[at: appendix.index(nxt) if nxt else None])
+    for r, part in zip(trend.snapshots, parts, strict=True):
+        assert "M900 Practical completion" in part, r.snapshot_id
+        if len(r.longest_path) > 30:
+            assert f"Continued: activities 31 to {len(r.longest_path)} of the {len(r.longest_path)} on the path." in part
+    assert {r.snapshot_id for r in trend.snapshots if len(r.longest_path) > 30} >= {"BL", "U06"}
+
+
+def test_monthly_brief_lists_a_key_date_forecast_late(monthly_text):
+    """M-RIV (finish-by 25 March 2027) is forecast 6 April 2027 at U10 with float -6, after -3 at U09.
+
+    Hand working: 25 March to 6 April 2027 is 12 calendar days (the demo's
+    delay unit); float fell from -3 to -6 working days, 3 lost since U09.
+    """
+    assert (date(2027, 4, 6) - date(2027, 3, 25)).days == 12
+    assert ("Key dates late or losing float this month: River terrace complete (M-RIV), forecast 6 April 2027, "
+            "total float -6 working days: 12 calendar days after its key date of 25 March 2027 and 3 working days "
+            "of float lost since U09.") in monthly_text
