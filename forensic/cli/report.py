@@ -10,6 +10,7 @@ from ..outputs import atomic_write
 from ..report import DEFAULT_TEMPLATE, build_report, builtin_templates, load_template
 from ._base import main
 from ._common import casefile_argument, load
+from ._progress import status_printer
 
 
 @main.command("report")
@@ -50,7 +51,7 @@ def report_command(casefile: Path, template_name: str, out: Path | None, recover
     command = f"forensic report {casefile.resolve().name} --template {shown}"
     if recover_days is not None:
         command += f" --recover-days {recover_days}"
-    pdf = build_report(cf, template, command=command, recover_days=recover_days)
+    pdf = build_report(cf, template, command=command, recover_days=recover_days, progress=status_printer("report"))
     if out is None:
         out = Path(f"{casefile.resolve().name}-{template.name}.pdf")
     protected = [cf.root / rel for rel in cf.inputs] if cf.root is not None else []

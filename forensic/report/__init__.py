@@ -13,6 +13,7 @@ applicable law.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from pathlib import Path
 
 from .. import __version__
@@ -33,7 +34,7 @@ from .templates import Template, builtin_templates, load_template
 __all__ = ["DEFAULT_TEMPLATE", "build_report", "builtin_templates", "load_template"]
 
 DEFAULT_TEMPLATE = "full"
-_NEEDS_DELAY = {"windows", "slip-by-party", "ledger"}
+_NEEDS_DELAY = {"windows", "slip-by-party", "ledger", "window-charts"}
 
 
 def build_report(
@@ -42,6 +43,7 @@ def build_report(
     *,
     command: str = "",
     recover_days: int | None = None,
+    progress: Callable[[str], None] | None = None,
 ) -> bytes:
     """Build the PDF report of ``casefile`` with ``template`` and return its bytes.
 
@@ -55,6 +57,9 @@ def build_report(
     recover_days : int, optional
         Days to recover on the latest update (delay unit); the acceleration
         section is shown only when this is given.
+    progress : callable, optional
+        Called with the name of each step before it starts (the CLI prints
+        them on standard error); it cannot change the report.
 
     Returns
     -------
@@ -67,8 +72,10 @@ def build_report(
     (sec. 1.4 and 4: the analyst's report states the method, the sources and
     the settings so that another analyst can reproduce it).
     """
+    step = progress or (lambda _name: None)
     tpl = template if isinstance(template, Template) else load_template(template)
     s = tpl.settings
+    step(f"scheduling {len(casefile.snapshots)} snapshots")
     trend = completion_trend(
         casefile,
         milestones=s["key_milestones"] or None,
@@ -83,18 +90,25 @@ def build_report(
             command += f" --recover-days {recover_days}"
     kinds = set(tpl.kinds())
     delay = impacts = recovery = None
-    if kinds & {"windows", "slip-by-party", "ledger", "summary"} and len(casefile.snapshots) > 1:
+    if kinds & {"windows", "slip-by-party", "ledger", "summary", "window-charts"} and len(casefile.snapshots) > 1:
+        step("windows analysis")
         delay = analyse_delay(casefile, casefile.windows or None)
     if "time-impact" in kinds and any(e.fragnet or e.activities for e in casefile.events):
+        step("time impact analyses")
         impacts = time_impacts(casefile)
+    if "quality" in kinds:
+        step("schedule quality")
     quality = assess_casefile(casefile) if "quality" in kinds else None
     comparisons = None
     if "changes" in kinds and len(casefile.snapshots) > 1:
         snaps = casefile.snapshots
         comparisons = tuple(compare_snapshots(casefile, a.id, b.id) for a, b in zip(snaps, snaps[1:], strict=False))
+    if "but-for" in kinds and len(casefile.snapshots) > 1:
+        step("but-for analysis")
     butfor = but_for(casefile) if "but-for" in kinds and len(casefile.snapshots) > 1 else None
     asbuilt = as_planned_vs_as_built(casefile) if "as-built" in kinds and len(casefile.snapshots) > 1 else None
     if "acceleration" in kinds and recover_days is not None:
+        step("acceleration analysis")
         recovery = recover(casefile, casefile.snapshots[-1].id, days=recover_days)
     left_out = set()
     if delay is None:
@@ -112,6 +126,7 @@ def build_report(
         delay=delay, impacts=impacts, recovery=recovery, recover_days=recover_days,
         quality=quality, comparisons=comparisons, butfor=butfor, asbuilt=asbuilt, left_out=frozenset(left_out),
     )
+    step("writing the pages")
     story = []
     number = 0
     for section in tpl.sections:

@@ -17,6 +17,7 @@ from ..trend import SnapshotTrend, delay_between
 from . import charts
 from .asbuilt_sections import ASBUILT_RENDERERS
 from .delay_sections import DELAY_RENDERERS, parties_words, party_totals
+from .exhibit_sections import EXHIBIT_RENDERERS
 from .narrative import (
     ReportContext,
     activity_name,
@@ -500,6 +501,7 @@ RENDERERS: dict[str, Renderer] = {
     **DELAY_RENDERERS,
     **RECORD_RENDERERS,
     **ASBUILT_RENDERERS,
+    **EXHIBIT_RENDERERS,
 }
 
 

@@ -94,6 +94,49 @@ SPECS: dict[str, SectionSpec] = {
     s.kind: s
     for s in (
         SectionSpec(
+            "window-charts",
+            texts={},
+            optional_texts={
+                "intro": COMMON,
+                "caption": (*COMMON, "window", "from_id", "to_id", "start", "end", "days", "days_unit", "count",
+                            "total", "movement", "events", "completion_before", "completion_after"),
+            },
+            options={"scope": _SCOPE},
+            protocol=(
+                "Critical path at the start and end of each window on a calendar axis, with the events acting in "
+                "it (AACE RP 29R-03, MIP 3.4 exhibits; SCL Delay and Disruption Protocol 2nd ed., time slice windows)"
+            ),
+        ),
+        SectionSpec(
+            "as-built-path",
+            texts={},
+            optional_texts={
+                "intro": (*COMMON, "count", "worked", "forecast", "windows", "first", "last", "data_date", "snapshot"),
+                "caption": (*COMMON, "count", "worked", "forecast", "windows", "first", "last", "data_date", "snapshot"),
+            },
+            options={"table": OptionSpec(bool, True)},
+            protocol=(
+                "As-built critical path from the contemporaneous updates, window by window "
+                "(AACE RP 49R-06; AACE RP 29R-03, MIPs 3.1-3.4)"
+            ),
+        ),
+        SectionSpec(
+            "near-critical",
+            texts={},
+            optional_texts={
+                "intro": (*COMMON, "critical_float", "margins"),
+                "caption": COMMON,
+                "latest": (*COMMON, "snapshot", "counts"),
+                "key_dates_intro": COMMON,
+                "late": (*COMMON, "snapshot", "late"),
+            },
+            options={"margins": OptionSpec(list, [0, 5, 10])},
+            protocol=(
+                "Near-critical paths and float to the key dates, update by update "
+                "(GAO Schedule Assessment Guide, GAO-16-89G, best practice 6; AACE RP 49R-06)"
+            ),
+        ),
+        SectionSpec(
             "cover",
             texts={"lead": (*COMMON, "snapshots", "updates", "version", "template")},
             optional_texts={"note": (*COMMON, "version", "template")},
