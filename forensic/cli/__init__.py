@@ -8,6 +8,7 @@ from . import batch as _batch  # noqa: F401
 from . import check as _check  # noqa: F401  (registers commands)
 from . import compare as _compare  # noqa: F401
 from . import demo as _demo  # noqa: F401
+from . import eot as _eot  # noqa: F401
 from . import export as _export  # noqa: F401
 from . import impact as _impact  # noqa: F401
 from . import importer as _importer  # noqa: F401
