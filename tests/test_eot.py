@@ -142,3 +142,21 @@ def test_cli_eot_json_and_text(tmp_path):
     assert res.output.splitlines()[0].startswith("method,")
     res = runner.invoke(main, ["eot", str(demo_source()), "--snapshot", "U99"])
     assert res.exit_code == 1 and "Error: --snapshot: no snapshot 'U99'" in res.output
+
+
+def test_report_carries_the_per_event_table_and_the_reconciliation(demo_summary):
+    """The full report prints every event's windows figure and each pair's difference from the summary."""
+    import io
+
+    from pypdf import PdfReader
+
+    from forensic.report import build_report
+
+    pdf = build_report(load_casefile(demo_source()), "full")
+    text = " ".join(" ".join(p.extract_text().split()) for p in PdfReader(io.BytesIO(pdf)).pages)
+    assert "Delay per event by every method" in text and "Reconciliation of methods" in text
+    assert f"Not from events {sum(demo_summary.not_from_events.values())}" in text
+    words = {"windows": "windows", "impact": "time impact alone", "but_for": "but-for"}
+    for r in demo_summary.reconciliation:
+        a, b = (words[m] for m in r.methods)
+        assert f"The {a} and the {b} differ by {r.difference} calendar days" in text

@@ -107,6 +107,14 @@ def build_report(
         step("but-for analysis")
     butfor = but_for(casefile) if "but-for" in kinds and len(casefile.snapshots) > 1 else None
     asbuilt = as_planned_vs_as_built(casefile) if "as-built" in kinds and len(casefile.snapshots) > 1 else None
+    eot = None
+    if kinds & {"delay-summary", "reconciliation"} and len(casefile.snapshots) > 1 and casefile.events:
+        from ..eot import delay_summary
+
+        if delay is None:
+            step("windows analysis")
+            delay = analyse_delay(casefile, casefile.windows or None)
+        eot = delay_summary(casefile, delay=delay, sensitivity="reconciliation" in kinds, progress=step)
     if "acceleration" in kinds and recover_days is not None:
         step("acceleration analysis")
         recovery = recover(casefile, casefile.snapshots[-1].id, days=recover_days)
@@ -121,10 +129,12 @@ def build_report(
         left_out.add("but-for")
     if asbuilt is None:
         left_out.add("as-built")
+    if eot is None:
+        left_out |= {"delay-summary", "reconciliation"}
     ctx = ReportContext(
         casefile=casefile, template=tpl, trend=trend, command=command, font=family.source,
         delay=delay, impacts=impacts, recovery=recovery, recover_days=recover_days,
-        quality=quality, comparisons=comparisons, butfor=butfor, asbuilt=asbuilt, left_out=frozenset(left_out),
+        quality=quality, comparisons=comparisons, butfor=butfor, asbuilt=asbuilt, eot=eot, left_out=frozenset(left_out),
     )
     step("writing the pages")
     story = []

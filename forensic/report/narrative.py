@@ -64,6 +64,7 @@ class ReportContext:
     comparisons: Any = None  # tuple of forensic.compare.Comparison, one per consecutive pair
     butfor: Any = None  # forensic.butfor.ButForReport
     asbuilt: Any = None  # tuple of forensic.asbuilt.AsBuiltRow
+    eot: Any = None  # forensic.eot.DelaySummary, when a section needs it
     left_out: frozenset[str] = frozenset()  # section kinds with nothing to show for this casefile
 
 

@@ -17,6 +17,7 @@ from ..trend import SnapshotTrend, delay_between
 from . import charts
 from .asbuilt_sections import ASBUILT_RENDERERS
 from .delay_sections import DELAY_RENDERERS, parties_words, party_totals
+from .eot_sections import EOT_RENDERERS
 from .exhibit_sections import EXHIBIT_RENDERERS
 from .narrative import (
     ReportContext,
@@ -502,6 +503,7 @@ RENDERERS: dict[str, Renderer] = {
     **RECORD_RENDERERS,
     **ASBUILT_RENDERERS,
     **EXHIBIT_RENDERERS,
+    **EOT_RENDERERS,
 }
 
 

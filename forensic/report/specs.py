@@ -94,6 +94,28 @@ SPECS: dict[str, SectionSpec] = {
     s.kind: s
     for s in (
         SectionSpec(
+            "delay-summary",
+            texts={},
+            optional_texts={"intro": (*COMMON, "slip", "slip_unit"), "not_applicable": (*COMMON, "list"),
+                            "caption": (*COMMON, "not_from_events", "unit")},
+            options={"short": OptionSpec(bool, False)},
+            protocol=(
+                "Delay per event by every method side by side: windows (AACE RP 29R-03 MIP 3.4), time impact "
+                "alone and in series (RP 52R-06; MIP 3.6/3.7), but-for (MIP 3.8)"
+            ),
+        ),
+        SectionSpec(
+            "reconciliation",
+            texts={},
+            optional_texts={"intro": COMMON, "pair": (*COMMON, "first", "second", "difference", "unit", "causes"),
+                            "sensitivity": (*COMMON, "tolerance", "unit"), "moved": (*COMMON, "moved", "tolerance", "unit"),
+                            "robust": (*COMMON, "moved", "tolerance", "unit")},
+            protocol=(
+                "Cross-check between methods and sensitivity of the windows split to its settings (AACE RP 29R-03, "
+                "choice of method; SCL Delay and Disruption Protocol 2nd ed., Part B)"
+            ),
+        ),
+        SectionSpec(
             "window-charts",
             texts={},
             optional_texts={
