@@ -17,11 +17,11 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 from datetime import date
 from pathlib import Path
-from types import MappingProxyType
 
 from .errors import NotFoundError
 
 __all__ = [
+    "FrozenDict",
     "ACTIVITY_KINDS",
     "CATEGORIES",
     "CONSTRAINT_KINDS",
@@ -66,9 +66,45 @@ DEFAULT_CATEGORY = {
 }
 
 
+class FrozenDict(dict):
+    """A dict that refuses every change after it is built: records stay immutable and serialise.
+
+    Reads are the built-in dict's (as fast as a plain dict); every mutating
+    method raises ``TypeError``. Unlike a ``types.MappingProxyType`` view it
+    serialises (``__reduce__`` rebuilds it from a plain dict) and deep-copies,
+    so casefiles and results can go to a process pool, a cache or a cluster.
+    """
+
+    __slots__ = ()
+
+    def _refuse(self, *_args, **_kwargs):
+        msg = "a casefile record is immutable; build a new one with dataclasses.replace"
+        raise TypeError(msg)
+
+    __setitem__ = __delitem__ = __ior__ = _refuse
+    clear = pop = popitem = setdefault = update = _refuse
+
+    def __reduce__(self):
+        return (FrozenDict, (dict(self),))
+
+    def __reduce_ex__(self, protocol):
+        return self.__reduce__()
+
+    def __copy__(self):
+        return self
+
+    def __deepcopy__(self, memo):
+        from copy import deepcopy
+
+        return FrozenDict({deepcopy(k, memo): deepcopy(v, memo) for k, v in self.items()})
+
+    def __repr__(self) -> str:
+        return f"FrozenDict({dict.__repr__(self)})"
+
+
 def frozen_mapping(items: Mapping | None = None) -> Mapping:
-    """A read-only view of a fresh dict, so records stay immutable."""
-    return MappingProxyType(dict(items or {}))
+    """A fresh immutable mapping (:class:`FrozenDict`) of ``items``, so records stay immutable."""
+    return FrozenDict(items or {})
 
 
 @dataclass(frozen=True, slots=True)
