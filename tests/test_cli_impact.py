@@ -35,8 +35,9 @@ def test_impact_json_has_exactly_the_contract_keys(case):
     assert res.exit_code == 0, res.output
     obj = json.loads(res.output)
     assert list(obj) == ["event", "into", "completion_before", "completion_after", "impact", "milestones",
-                         "critical_path"]
+                         "critical_path", "represented_as", "days", "events", "warnings"]
     assert (obj["event"], obj["into"], obj["impact"]) == ("E1", "U1", 6)  # 6 days on the critical path
+    assert (obj["represented_as"], obj["days"]) == ("fragnet", {"F1-X": 6})
     assert obj["completion_after"] == date(2026, 1, 20).isoformat()
 
 
@@ -70,7 +71,11 @@ def test_impact_errors_are_plain_messages(case):
 
 
 def test_but_for_json_and_text(case, monkeypatch):
-    """but-for on a finished job: removing the critical delay E1 gives back its 6 days."""
+    """but-for on a finished job: removing the critical delay E1 gives back its 6 days.
+
+    A planned 10 took 16 (days 0-15); E1 (days 3-8) holds 6 of its working
+    days, the overrun is 6: estimated min(6, 6) = 6, all on the only path.
+    """
     last = snap(
         [Activity("A", "", 10, actual_start=day(0), actual_finish=day(15)),
          Activity("B", "", 6, actual_start=day(0), actual_finish=day(5)),
@@ -82,7 +87,12 @@ def test_but_for_json_and_text(case, monkeypatch):
     res = run("but-for", "X", "--json")
     assert res.exit_code == 0, res.output
     obj = json.loads(res.output)
-    assert [(c["case"], c["difference"]) for c in obj["cases"]] == [("party OWN", 6), ("all owner delays", 6)]
+    assert [(c["case"], c["difference"]) for c in obj["cases"]] == [
+        ("party OWN", 6), ("all owner delays", 6), ("all events", 6), ("all excusable events", 6)]
+    assert obj["events"][0]["represented_as"] == "estimated" and obj["events"][0]["days"] == {"A": 6}
+    assert obj["overlap"] == 0
+    res = run("but-for", "X")
+    assert res.exit_code == 0 and "Overlap: 0." in res.output
     res = run("but-for", "X", "--event", "E1")
     assert res.exit_code == 0 and "as-built from U2" in res.output
     res = run("but-for", "X", "--party", "OWN", "--event", "E1")

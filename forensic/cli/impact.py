@@ -37,8 +37,14 @@ def _impact_text(r: ImpactResult) -> str:
     )
     if r.inserted:
         lines.append("Fragnet activities inserted: " + " ".join(r.inserted))
+    for rep in r.represented:
+        if rep.how == "not-represented":
+            lines.append(f"{rep.event} not represented (nothing inserted): {rep.why}")
+        elif rep.how != "fragnet":
+            lines.append(f"{rep.event} represented as {rep.how}: {rep.why}")
     for h in r.hold_ups:
-        lines.append(f"No fragnet: {h.activity} extended by {h.days} working days")
+        how = next((rep.how for rep in r.represented if rep.event == h.event), "")
+        lines.append(f"{h.activity} extended by {h.days} working days ({how})")
     out = "\n".join(lines) + "\n\nMilestones\n" + to_text(milestones_table(r))
     if r.float_consumed:
         out += "\nTotal float consumed on the paths touched (working days)\n" + to_text(float_table(r))
@@ -152,7 +158,7 @@ def but_for_command(
         raise click.UsageError("choose --party or --event, not both")
     cf = load(casefile)
     report = but_for(cf, party=party, event=event, snapshot_id=snapshot_id)
-    _warn(report.as_built.warnings)
+    _warn([*report.as_built.warnings, *(w for c in report.cases for w in c.warnings)])
     emit_xlsx([but_for_table(report), as_built_table(report)], cf)
     if as_json:
         emit(dumps_json(but_for_json(report)))
@@ -169,3 +175,8 @@ def but_for_command(
     emit(to_text(as_built_table(report)))
     click.echo("\nBut-for cases")
     emit(to_text(but_for_table(report)))
+    for e in b.events:
+        if e.how == "not-represented":
+            click.echo(f"{e.event} not represented: {e.why}")
+    if report.overlap is not None:
+        click.echo(f"\nOverlap: {report.overlap}. {report.overlap_note}")
