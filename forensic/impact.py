@@ -64,14 +64,18 @@ from .model import Activity, Calendar, Casefile, Event, Fragnet, Project, Snapsh
 from .tables import Table
 
 __all__ = [
+    "ContemporaneousSeries",
     "CumulativeStep",
     "FloatChange",
     "HoldUp",
     "ImpactResult",
     "Representation",
+    "SeriesStep",
     "ImpactSeries",
     "MilestoneChange",
     "apply_hold_up",
+    "contemporaneous_json",
+    "contemporaneous_table",
     "delay_between",
     "estimate_days",
     "float_table",
@@ -86,6 +90,7 @@ __all__ = [
     "series_json",
     "series_table",
     "time_impact",
+    "time_impact_series",
     "time_impacts",
     "unimpacted_snapshot",
 ]
@@ -219,6 +224,45 @@ class ImpactSeries:
     sum_of_individual: int
     non_additivity: int
     unit: str
+    warnings: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True, slots=True)
+class SeriesStep:
+    """One step of the contemporaneous series: one event inserted into its own unimpacted update.
+
+    ``carried`` is true when the event went into the impacted result of the
+    step before (both events' unimpacted update is the same); ``running_total``
+    is the sum of the impacts so far, in the delay unit.
+    """
+
+    event: str
+    into: str
+    completion_before: date
+    completion_after: date
+    impact: int
+    represented_as: str
+    running_total: int
+    carried: bool
+
+
+@dataclass(frozen=True, slots=True)
+class ContemporaneousSeries:
+    """Every event in date order, each inserted into the last update before it (AACE RP 29R-03, MIP 3.7).
+
+    ``total`` is the sum of the steps' impacts; ``windows_total`` the slip
+    the windows analysis measures over the whole record (the last update's
+    completion against the baseline's); ``difference_from_windows`` is
+    ``total - windows_total``: the slip the modelled events do not explain
+    (negative), or the modelled delay the record did not show (positive).
+    """
+
+    unit: str
+    steps: tuple[SeriesStep, ...]
+    total: int
+    windows_total: int
+    difference_from_windows: int
+    warnings: tuple[str, ...] = ()
 
 
 # --- the steps ---------------------------------------------------------------
@@ -740,7 +784,88 @@ def time_impacts(
     cumulative = time_impact(casefile, [e.id for e in events], into=snap.id, progress_to_event=progress_to_event,
                              record=record)
     total = sum(r.impact for r in individual)
-    return ImpactSeries(individual, cumulative, tuple(steps), total, total - cumulative.impact, _unit(project))
+    # The cumulative run puts every event into one update; an event that
+    # starts after a later update exists is then inserted into a schedule
+    # older than its own unimpacted one: an impacted as-planned, not a time
+    # impact analysis (AACE RP 52R-06; RP 29R-03, MIP 3.6 against 3.7).
+    late = []
+    for e in events:
+        own = [x for x in casefile.snapshots if x.data_date <= e.start]
+        if own and own[-1].data_date > snap.data_date:
+            late.append((e.id, own[-1].id))
+    warnings = []
+    if late:
+        warnings.append(
+            f"cumulative into {snap.id} (data date {snap.data_date.isoformat()}): events "
+            + ", ".join(f"{e} (its own update {u})" for e, u in late)
+            + " start after later updates exist; inserted into the older update they model an impacted "
+            "as-planned, not a time impact analysis (use --series to insert each into its own update)")
+    return ImpactSeries(individual, cumulative, tuple(steps), total, total - cumulative.impact, _unit(project),
+                        tuple(warnings))
+
+
+def time_impact_series(
+    casefile: Casefile,
+    event_ids: Sequence[str] | None = None,
+    *,
+    progress_to_event: bool = False,
+) -> ContemporaneousSeries:
+    """The contemporaneous time impact series (AACE RP 29R-03, MIP 3.7, modelled / additive / multiple base).
+
+    The events, in order of their start dates, are each inserted into the
+    last update on or before their start, their own unimpacted schedule
+    (:func:`unimpacted_snapshot`; AACE RP 52R-06). When the event before
+    went into the same update, the event goes into that impacted result,
+    carried forward, so events in one period add up in it; when a later
+    update exists it is taken as it stands, since it already records the
+    earlier events as they happened. Each step reports the completion
+    before and after and its impact; ``total`` is their sum, compared with
+    the windows analysis's slip over the record.
+
+    ``event_ids`` defaults to every event. With ``progress_to_event`` each
+    step first brings its schedule to the event's start, as planned.
+
+    References
+    ----------
+    AACE RP 29R-03, MIP 3.7; AACE RP 52R-06, on the unimpacted schedule and
+    a series of time impact analyses; SCL Protocol 2nd ed., on time impact
+    analysis.
+    """
+    ids = list(event_ids) if event_ids is not None else [e.id for e in casefile.events]
+    if not ids:
+        msg = "the casefile has no event; there is nothing to analyse"
+        raise NotFoundError(msg)
+    events = sorted((casefile.event(e) for e in ids), key=lambda e: (e.start, e.id))
+    cals, project = casefile.calendars, casefile.project
+    record = schedule(casefile.snapshots[-1], cals, project)
+    steps: list[SeriesStep] = []
+    warnings: list[str] = []
+    current: Snapshot | None = None
+    into: str | None = None
+    total = 0
+    for ev in events:
+        snap = unimpacted_snapshot(casefile, ev)
+        carried = snap.id == into and current is not None
+        base = current if carried else snap
+        if progress_to_event:
+            base = progress_to(base, cals, project, ev.start)
+        before = schedule(base, cals, project)
+        current, _, _, w, reps = _impose(casefile, base, [ev], False, record)
+        after = schedule(current, cals, project)
+        done = after[before.completion_id].early_finish
+        impact = delay_between(project, cals, before.completion, done)
+        total += impact
+        warnings.extend(w)
+        if impact < 0:
+            warnings.append(f"event {ev.id}: the time impact shortens the schedule ({impact}); check its representation")
+        steps.append(SeriesStep(ev.id, snap.id, before.completion, done, impact,
+                                "+".join(r.how for r in reps), total, carried))
+        into = snap.id
+    first = schedule(casefile.baseline, cals, project)
+    windows_total = delay_between(project, cals, first.completion, record[first.completion_id].early_finish
+                                  if first.completion_id in record.activities else record.completion)
+    return ContemporaneousSeries(_unit(project), tuple(steps), total, windows_total, total - windows_total,
+                                 tuple(warnings))
 
 
 # --- tables and JSON ---------------------------------------------------------
@@ -817,4 +942,33 @@ def series_json(series: ImpactSeries) -> dict:
         },
         "sum_of_individual": series.sum_of_individual,
         "non_additivity": series.non_additivity,
+        "into": c.into,
+        "warnings": list(series.warnings),
+    }
+
+
+def contemporaneous_table(series: ContemporaneousSeries) -> Table:
+    """One row per step of the contemporaneous series, with the running total."""
+    return Table(
+        "impact-contemporaneous",
+        ("event", "into", "represented_as", "completion_before", "completion_after", "impact", "running_total"),
+        tuple((s.event, s.into, s.represented_as, s.completion_before, s.completion_after, s.impact, s.running_total)
+              for s in series.steps),
+    )
+
+
+def contemporaneous_json(series: ContemporaneousSeries) -> dict:
+    """The ``forensic impact --series --json`` object (docs/impact-and-butfor.md)."""
+    return {
+        "unit": series.unit.replace(" ", "-"),
+        "steps": [
+            {"event": s.event, "into": s.into, "completion_before": s.completion_before,
+             "completion_after": s.completion_after, "impact": s.impact, "represented_as": s.represented_as,
+             "running_total": s.running_total, "carried_forward": s.carried}
+            for s in series.steps
+        ],
+        "total": series.total,
+        "windows_total": series.windows_total,
+        "difference_from_windows": series.difference_from_windows,
+        "warnings": list(series.warnings),
     }

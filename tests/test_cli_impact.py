@@ -97,3 +97,33 @@ def test_but_for_json_and_text(case, monkeypatch):
     assert res.exit_code == 0 and "as-built from U2" in res.output
     res = run("but-for", "X", "--party", "OWN", "--event", "E1")
     assert res.exit_code == 2
+
+
+def test_impact_series_json_text_and_refusals(monkeypatch):
+    """--series prints the steps, the running total and the windows difference (test_impact's series_case)."""
+    from .test_impact import series_case
+
+    monkeypatch.setattr(cli_impact, "load", lambda path: series_case())
+    res = run("impact", "X", "--all", "--series", "--json")
+    assert res.exit_code == 0, res.output
+    obj = json.loads(res.output)
+    assert [(s["event"], s["into"], s["impact"]) for s in obj["steps"]] == [("E1", "BL", 2), ("E2", "U1", 3),
+                                                                            ("E3", "U1", 1)]
+    assert (obj["total"], obj["windows_total"], obj["difference_from_windows"]) == (6, 4, 2)
+    res = run("impact", "X", "--all", "--series")
+    assert res.exit_code == 0 and "Total 6 calendar days" in res.output and "difference of +2" in res.output
+    res = run("impact", "X", "--all", "--series", "--cumulative")
+    assert res.exit_code == 2 and "--series" in res.output
+    res = run("impact", "X", "--all", "--cumulative")
+    assert res.exit_code == 0 and "Cumulative into BL (data date 2026-01-05)" in res.output
+    assert "impacted as-planned" in res.output  # the warning (stderr is mixed into the output here)
+
+
+def test_impact_text_says_when_an_event_is_not_represented(monkeypatch):
+    """An event with no work in its period: the text says 'not represented' and why (issue 17)."""
+    from .test_impact import overrun_case
+
+    monkeypatch.setattr(cli_impact, "load", lambda path: overrun_case(start=12, finish=14))
+    res = run("impact", "X", "--event", "E1")
+    assert res.exit_code == 0
+    assert "E1 not represented (nothing inserted)" in res.output and "time impact 0" in res.output

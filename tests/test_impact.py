@@ -445,3 +445,63 @@ def test_demo_ev05_ev01_ev11_cost_what_the_record_shows():
     r = time_impact(cf, "EV11")
     assert (r.represented_as, r.days, r.impact, r.hold_ups) == ("not-represented", {}, 0, ())
     assert "was not worked inside the event's period" in r.represented[0].why
+
+
+# --- the contemporaneous series (AACE RP 29R-03, MIP 3.7) ------------------------------------
+
+def series_case():
+    """BL (day 0): A 10 days then B 10, END day 19. U1 (day 14): A built days 0-11, B to start day 14, END day 23.
+
+    E1 (contractor, days 0-11) hit A: A took 12 against 10 planned, all
+    inside E1, estimated 2. E2 (owner, day 14) has fragnet F2: a 3-day X
+    ahead of B. E3 (owner, day 16) states 1 day lost on B.
+    """
+    acts = [Activity("A", "", 10), Activity("B", "", 10), Activity("END", "", 0, kind="closing-milestone")]
+    links = [Link("A", "B"), Link("B", "END")]
+    bl = snap(acts, links, "BL", MONDAY, "baseline")
+    u1 = snap([Activity("A", "", 10, actual_start=day(0), actual_finish=day(11)), *acts[1:]], links, "U1", day(14))
+    events = [Event("E1", "slow gang", "CON", "non-excusable", day(0), day(11), ("A",)),
+              Event("E2", "late design", "OWN", "excusable-compensable", day(14), day(14), (), "F2"),
+              Event("E3", "access", "OWN", "excusable-compensable", day(16), day(16), ("B",), days_lost=(("B", 1),))]
+    frag = fragnet("F2", [Activity("X", "redesign", 3)], [Link("X", "B")])
+    return casefile([bl, u1], events, [frag])
+
+
+def test_series_inserts_each_event_into_its_own_update_and_carries_the_result_forward():
+    """Steps 2, 3 and 1 days, total 6 against the windows' 4 (worked by hand; AACE RP 29R-03, MIP 3.7).
+
+    E1 into BL (the last update on or before day 0): A 10 + 2 = 12 days, END
+    day 19 -> 21: +2. E2 into U1 (data date day 14, its own update, not BL):
+    X days 14-16, B days 17-26, END day 23 -> 26: +3. E3 also belongs to U1,
+    so it goes into E2's impacted result, carried forward: B 11 days, END 26
+    -> 27: +1. Running total 2, 5, 6. The windows analysis measures BL's day
+    19 to U1's day 23: 4, so the series models 2 days more than the record
+    shows.
+    """
+    from forensic.impact import contemporaneous_json, time_impact_series
+    from forensic.windows import analyse_windows
+
+    cf = series_case()
+    s = time_impact_series(cf)
+    got = [(x.event, x.into, x.completion_before, x.completion_after, x.impact, x.running_total, x.carried)
+           for x in s.steps]
+    assert got == [("E1", "BL", day(19), day(21), 2, 2, False),
+                   ("E2", "U1", day(23), day(26), 3, 5, False),
+                   ("E3", "U1", day(26), day(27), 1, 6, True)]
+    assert [x.represented_as for x in s.steps] == ["estimated", "fragnet", "days-lost"]
+    assert (s.total, s.windows_total, s.difference_from_windows) == (6, 4, 2)
+    assert s.windows_total == analyse_windows(cf).total_slip  # the windows module's own figure
+    obj = contemporaneous_json(s)
+    assert list(obj)[:3] == ["unit", "steps", "total"] and obj["unit"] == "calendar-days"
+    assert list(obj["steps"][0])[:5] == ["event", "into", "completion_before", "completion_after", "impact"]
+    assert obj["total"] == 6
+
+
+def test_cumulative_names_its_update_and_warns_of_events_after_later_updates():
+    """--cumulative keeps its meaning (all into one update) but warns that E2 and E3 belong to U1 (AACE RP 52R-06)."""
+    series = time_impacts(series_case())
+    assert series.cumulative.into == "BL"
+    (warning,) = series.warnings
+    assert "cumulative into BL" in warning and "E2 (its own update U1)" in warning and "E3" in warning
+    assert "E1 (" not in warning and "impacted as-planned" in warning
+    assert series_json(series)["warnings"] == [warning] and series_json(series)["into"] == "BL"
