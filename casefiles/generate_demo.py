@@ -672,8 +672,13 @@ CONCURRENCY_PARTIES = ["CON", "OWN"]
 LEDGER_TOTAL = {"excusable_compensable": 2, "excusable_noncompensable": 14, "non_excusable": 16,
                 "concurrent": 13, "gains": -2, "unexplained": 0, "total": FINAL_SLIP_DAYS}
 # But-for (collapsed as-built from U10, forensic.butfor): days by which completion
-# would have been earlier without each party's delays.
-BUT_FOR_DAYS = {"OWN": 9, "CON": 25, "WX": 0, "UTL": 0, "all owner delays": 9}
+# would have been earlier without each party's delays, then the combined cases.
+# Events without a fragnet take out what the record shows they cost (issue 17):
+# the contractor's curtain wall labour shortage EV05, for one, 6/4/4/2 days on
+# the elevations, not their whole time on site; EV10 and EV11 are not represented.
+BUT_FOR_DAYS = {"OWN": 9, "CON": 2, "WX": 0, "UTL": 0, "all owner delays": 9, "all events": 36,
+                "all excusable events": 22}
+BUT_FOR_OVERLAP = 0
 AREAS = {
     "GEN": "general milestones", "PRE": "design, reviews and off-site fabrication",
     "SITE": "site establishment and enabling works", "HALL": "civic hall",
@@ -1197,7 +1202,12 @@ def _readme(snaps: dict[str, Snapshot], facts: dict) -> str:
         f"employer's delays completion would have been {BUT_FOR_DAYS['OWN']} days earlier, "
         f"without the contractor's {BUT_FOR_DAYS['CON']}, without the weather's "
         f"{BUT_FOR_DAYS['WX']} and the utility's {BUT_FOR_DAYS['UTL']} (by the end the library "
-        "path controls, so the flood on the hall no longer counts). The collapsed as-built "
+        "path controls, so the flood on the hall no longer counts); without every event "
+        f"{BUT_FOR_DAYS['all events']} and without the excusable ones {BUT_FOR_DAYS['all excusable events']}. "
+        "The single-party figures add up to less than the all-events one (overlap "
+        f"{BUT_FOR_OVERLAP}): taking out one party's delays leaves the others' to control completion. "
+        "Events without a fragnet count what the record shows they cost (estimated), and "
+        "the contractor's re-plans EV10 and EV11 are not represented. The collapsed as-built "
         "and the contemporaneous windows answer different questions and differ here.",
         f"- **Float erosion**: `{SECONDARY_PATH}` on the river terrace path loses float month "
         f"by month against its key date and is critical from {SECONDARY_CRITICAL_FROM}.",

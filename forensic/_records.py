@@ -64,7 +64,7 @@ LINK_COLUMNS = (("pred", "succ"), ("type", "lag"))
 _BLANK = re.compile(r"\s")
 EVENT_COLUMNS = (
     ("id", "title", "party", "start", "finish"),
-    ("category", "activities", "fragnet", "reference"),
+    ("category", "activities", "fragnet", "days_lost", "reference"),
 )
 
 
@@ -455,7 +455,38 @@ def read_events(
                 problems.add(rel, line, "activities", aid, "no activity with this id in any snapshot or in the event's fragnet")
         if len(set(hit)) != len(hit):
             problems.add(rel, line, "activities", row.get("activities"), "an activity is listed twice")
+        raw = row.get("days_lost")
+        lost = _days_lost(raw, hit, rel, line, problems) if raw else ()
         if len(problems) == before:
             events.append(Event(eid, title, pid, category, span["start"], span["finish"], hit,
-                                fragnet, row.get("reference") or None, line))
+                                fragnet, row.get("reference") or None, line, lost))
     return events
+
+
+def _days_lost(raw: str, hit: tuple[str, ...], rel: str, line: int, problems: Problems) -> tuple[tuple[str, int], ...]:
+    """``days_lost``: one number for every activity hit, or ``ACT:days`` pairs (casefile format 2).
+
+    A pair's activity must be one the event hit; a hit activity that no pair
+    names lost 0 days (the stated figure is the whole of it).
+    """
+    parts = raw.split()
+    if len(parts) == 1 and ":" not in parts[0]:
+        n = parse_int(parts[0], rel, line, "days_lost", problems, what="whole working days, or ACT:days pairs")
+        if n is not None and not hit:
+            problems.add(rel, line, "days_lost", raw, "a number of days lost needs the activities the event hit")
+        return tuple((aid, n) for aid in hit) if n is not None else ()
+    given: dict[str, int] = {}
+    for part in parts:
+        aid, sep, num = part.partition(":")
+        if not sep or not aid:
+            problems.add(rel, line, "days_lost", part, "expected one number, or ACT:days pairs separated by blanks")
+            continue
+        n = parse_int(num, rel, line, "days_lost", problems)
+        if aid not in hit:
+            problems.add(rel, line, "days_lost", part,
+                         f"{aid} is not among the activities the event hit ({' '.join(hit) or 'none'})")
+        elif aid in given:
+            problems.add(rel, line, "days_lost", part, f"activity {aid} is given twice")
+        elif n is not None:
+            given[aid] = n
+    return tuple((aid, given.get(aid, 0)) for aid in hit)

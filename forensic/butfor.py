@@ -79,7 +79,14 @@ from datetime import date, timedelta
 from .calendars import is_workday, next_workday, workdays_between
 from .engine import ScheduleResult, schedule
 from .errors import NotFoundError
-from .impact import delay_between, fragnet_of
+from .impact import (
+    Representation,
+    delay_between,
+    estimate_days,
+    fragnet_of,
+    planned_duration,
+    record_span,
+)
 from .model import Activity, Casefile, Event, Link, Snapshot, frozen_mapping
 from .tables import Table
 
@@ -94,6 +101,7 @@ __all__ = [
     "but_for",
     "but_for_json",
     "but_for_table",
+    "overlap_note",
     "remove_events",
 ]
 
@@ -105,8 +113,11 @@ class EventDelay:
     """How one event's delay is represented in the as-built schedule.
 
     ``how`` is ``"fragnet"`` (``activities`` are its fragnet's activities in
-    the as-built), ``"hold-up"`` (``days`` maps each named task to the
-    working days the event held it up) or ``"none"``.
+    the as-built, ``days`` their as-built durations), ``"days-lost"`` (the
+    working days events.csv states it cost each activity it hit),
+    ``"estimated"`` (those days estimated from the record,
+    :func:`forensic.impact.estimate_days`) or ``"not-represented"``;
+    ``why`` says how the figure was found, or why there is none.
     """
 
     event: str
@@ -114,6 +125,7 @@ class EventDelay:
     how: str
     activities: tuple[str, ...] = ()
     days: tuple[tuple[str, int], ...] = ()
+    why: str = ""
 
 
 @dataclass(frozen=True, slots=True)
@@ -156,14 +168,24 @@ class ButForCase:
     difference: int
     unit: str
     critical_path: tuple[str, ...]
+    warnings: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True, slots=True)
 class ButForReport:
-    """The as-built schedule and each but-for case run on it."""
+    """The as-built schedule and each but-for case run on it.
+
+    ``overlap`` (default run only, else ``None``) is the days, in the delay
+    unit, by which the single-party differences add up to more than the
+    difference with all events removed together; ``overlap_note`` says what
+    it means (each party's delay is a but-for cause of the same days; the
+    split then depends on who owns the float).
+    """
 
     as_built: AsBuilt
     cases: tuple[ButForCase, ...]
+    overlap: int | None = None
+    overlap_note: str = ""
 
 
 # --- the as-built schedule ---------------------------------------------------
@@ -265,7 +287,7 @@ def as_built(casefile: Casefile, snapshot_id: str | None = None) -> AsBuilt:
         for aid in acts
         if final[aid].early_start != target[aid]
     ]
-    reps = tuple(_represent(casefile, src, ev) for ev in casefile.events)
+    reps = tuple(_represent(casefile, src, ev, forecast) for ev in casefile.events)
     return AsBuilt(
         source=src.id,
         snapshot=net,
@@ -279,34 +301,45 @@ def as_built(casefile: Casefile, snapshot_id: str | None = None) -> AsBuilt:
     )
 
 
-def _represent(casefile: Casefile, src: Snapshot, ev: Event) -> EventDelay:
+def _represent(casefile: Casefile, src: Snapshot, ev: Event, record: ScheduleResult) -> EventDelay:
+    """Fragnet activities in the as-built, else ``days_lost``, else the estimate from the record."""
     frag = fragnet_of(casefile, ev)
     if frag is not None:
         present = tuple(a for a in frag.activities if a in src.activities)
         if present:
-            return EventDelay(ev.id, ev.party, "fragnet", present)
-    days = []
-    for aid, n in _held_days(casefile, src, ev).items():
-        if n:
-            days.append((aid, len(n)))
-    if days:
-        return EventDelay(ev.id, ev.party, "hold-up", tuple(a for a, _ in days), tuple(days))
-    return EventDelay(ev.id, ev.party, "none")
+            days = tuple((a, record_span(src.activities[a], record[a], src.data_date, _cal(casefile, src.activities[a]))[2]
+                          if not (src.activities[a].is_milestone or src.activities[a].duration == 0) else 0)
+                         for a in present)
+            return EventDelay(ev.id, ev.party, "fragnet", present, days,
+                              f"fragnet {frag.id}: its activities are in {src.id}")
+    if ev.days_lost:
+        rep = Representation(ev.id, "days-lost", ev.days_lost, "days_lost stated in events.csv")
+    else:
+        rep = estimate_days(casefile, ev, record)
+    return EventDelay(ev.id, ev.party, rep.how, tuple(a for a, _ in rep.days), rep.days, rep.why)
 
 
-def _held_days(casefile: Casefile, src: Snapshot, ev: Event) -> dict[str, set[date]]:
-    """Working dates on which the event overlapped the actual work of each task it names."""
-    out: dict[str, set[date]] = {}
-    for aid in ev.activities:
-        a = src.activities.get(aid)
-        if a is None or not a.is_started or a.is_milestone or a.duration == 0:
-            continue
-        end = a.actual_finish or (src.data_date - _DAY)
-        lo, hi = max(ev.start, a.actual_start), min(ev.finish, end)
-        cal = _cal(casefile, a)
-        span = (lo + timedelta(days=i) for i in range((hi - lo).days + 1)) if lo <= hi else ()
-        out[aid] = {d for d in span if is_workday(cal, d)}
-    return out
+def _estimate_cap(casefile: Casefile, src: Snapshot, record: ScheduleResult, aid: str,
+                  events: Sequence[Event]) -> int:
+    """The most that estimated events removed together may take off one task.
+
+    Its overrun against the plan at the earliest of their starts, counted on
+    working days inside the union of their periods, so that events whose
+    periods overlap on one task do not count the same days twice.
+    """
+    a = src.activities[aid]
+    cal = _cal(casefile, a)
+    start, finish, dur = record_span(a, record[aid], src.data_date, cal)
+    planned = planned_duration(casefile, aid, min(e.start for e in events)) or 0
+    inside: set[date] = set()
+    for e in events:
+        lo, hi = max(start, e.start), min(finish, e.finish)
+        d = lo
+        while d <= hi:
+            if is_workday(cal, d):
+                inside.add(d)
+            d += _DAY
+    return min(max(0, dur - planned), len(inside))
 
 
 # --- removing delays ---------------------------------------------------------
@@ -339,6 +372,12 @@ def bridge_links(links: Sequence[Link], removed: set[str]) -> list[Link]:
 def remove_events(casefile: Casefile, built: AsBuilt, event_ids: Iterable[str]) -> tuple[Snapshot, tuple[str, ...]]:
     """The as-built network with these events' delays taken out, and the ids not represented.
 
+    A fragnet's activities are deleted and their links bridged; a task an
+    event cost days (stated or estimated) is shortened by them, at least to
+    one day. Estimated days of several events on one task are capped
+    together (:func:`_estimate_cap`); no event is removed as a total
+    stoppage of the work it names.
+
     References
     ----------
     AACE RP 29R-03, MIP 3.8, on subtracting the delays from the as-built model.
@@ -349,7 +388,9 @@ def remove_events(casefile: Casefile, built: AsBuilt, event_ids: Iterable[str]) 
     snap = built.snapshot
     acts = dict(snap.activities)
     drop: set[str] = set()
-    held: dict[str, set[date]] = {}
+    stated: dict[str, int] = {}
+    estimated: dict[str, int] = {}
+    estimated_by: dict[str, list[Event]] = {}
     missing = []
     for ev in casefile.events:
         if ev.id not in ids:
@@ -357,26 +398,50 @@ def remove_events(casefile: Casefile, built: AsBuilt, event_ids: Iterable[str]) 
         e = rep[ev.id]
         if e.how == "fragnet":
             drop.update(e.activities)
-        elif e.how == "hold-up":
-            for aid, days in _held_days(casefile, src, ev).items():
-                held.setdefault(aid, set()).update(days)
+        elif e.how == "days-lost":
+            for aid, n in e.days:
+                stated[aid] = stated.get(aid, 0) + n
+        elif e.how == "estimated":
+            for aid, n in e.days:
+                estimated[aid] = estimated.get(aid, 0) + n
+                estimated_by.setdefault(aid, []).append(ev)
         else:
             missing.append(ev.id)
-    for aid, days in held.items():
-        if aid in acts and aid not in drop:
-            acts[aid] = replace(acts[aid], duration=max(1, acts[aid].duration - len(days)))
+    record = schedule(src, casefile.calendars, casefile.project) if estimated else None
+    for aid in set(stated) | set(estimated):
+        if aid not in acts or aid in drop:
+            continue
+        a = acts[aid]
+        if a.is_milestone or a.duration == 0:
+            continue
+        take = stated.get(aid, 0)
+        if aid in estimated:
+            take += min(estimated[aid], _estimate_cap(casefile, src, record, aid, estimated_by[aid]))
+        if take:
+            acts[aid] = replace(a, duration=max(1, a.duration - take))
     for aid in drop:
         del acts[aid]
     links = bridge_links(snap.links, drop) if drop else list(snap.links)
     return replace(snap, activities=frozen_mapping(acts), links=tuple(links)), tuple(missing)
 
 
-def _case(casefile: Casefile, built: AsBuilt, label: str, events: Sequence[str]) -> ButForCase:
+def _case(casefile: Casefile, built: AsBuilt, label: str, events: Sequence[str],
+          baseline_completion: date | None = None) -> ButForCase:
     cals, project = casefile.calendars, casefile.project
     net, missing = remove_events(casefile, built, events)
     r = schedule(net, cals, project)
     comp = built.schedule.completion_id
     after = r[comp].early_finish if comp in r.activities else r.completion
+    warnings = []
+    if baseline_completion is not None and after < baseline_completion:
+        # Never below the as-planned: taking delays out cannot make the work
+        # finish before the baseline planned it (AACE RP 29R-03, MIP 3.8).
+        rep = {e.event: e for e in built.events}
+        acts = sorted({a for e in events if e in rep for a in rep[e].activities})
+        warnings.append(
+            f"{label}: the but-for completion {after.isoformat()} is before the baseline's completion "
+            f"{baseline_completion.isoformat()}; events {' '.join(events)} (activities {' '.join(acts) or 'none'}) "
+            "take out more than they added: check their fragnets, days_lost or the as-built")
     return ButForCase(
         label=label,
         removed=tuple(events),
@@ -386,7 +451,22 @@ def _case(casefile: Casefile, built: AsBuilt, label: str, events: Sequence[str])
         difference=delay_between(project, cals, after, built.completion),
         unit="working days" if project.delay_unit == "working-days" else "calendar days",
         critical_path=r.longest_path,
+        warnings=tuple(warnings),
     )
+
+
+def overlap_note(overlap: int, singles: int, together: int, unit: str) -> str:
+    """The sentence on overlapping but-for figures and float ownership (SCL Protocol 2nd ed.)."""
+    if overlap <= 0:
+        return (f"The single-party differences add up to {singles} {unit}, no more than the {together} with all "
+                "events removed together, so no day is counted under two parties; where the sum is less, the rest "
+                "is delay that only removing several parties' events together takes out (their paths ran in "
+                "parallel, each with the float the other left).")
+    return (f"The single-party differences add up to {singles} {unit} against {together} with all events "
+            f"removed together: {overlap} {unit} are counted under more than one party, because each party's "
+            "delay alone is a but-for cause of them (the other's path had float to absorb it). How those days "
+            "are split depends on who owns the float, which the contract, not this method, decides "
+            "(SCL Delay and Disruption Protocol, 2nd ed., on float and concurrency).")
 
 
 def but_for(
@@ -411,9 +491,12 @@ def but_for(
     Returns
     -------
     ButForReport
-        With neither option: one case per party that has events, each alone,
-        then one with all owner delays together (events of every party whose
-        role is ``owner``).
+        With neither option: one case per party that has events, each alone;
+        one with all owner delays together (events of every party whose role
+        is ``owner``); ``all events``; and ``all excusable events`` (both
+        excusable categories), with the ``overlap`` of the single-party
+        differences over the all-events one. Every case whose completion
+        falls before the baseline's carries a warning.
 
     Raises
     ------
@@ -422,32 +505,49 @@ def but_for(
 
     References
     ----------
-    AACE RP 29R-03, MIP 3.8; SCL Protocol 2nd ed., on collapsed as-built analysis.
+    AACE RP 29R-03, MIP 3.8; SCL Protocol 2nd ed., on collapsed as-built
+    analysis, concurrency and float ownership.
     """
     if party is not None and event is not None:
         msg = "choose one of a party and an event to remove, not both"
         raise ValueError(msg)
     built = as_built(casefile, snapshot_id)
+    cals, project = casefile.calendars, casefile.project
+    planned = schedule(casefile.baseline, cals, project).completion
     cases = []
+    overlap = None
+    note = ""
     if event is not None:
         ev = casefile.event(event)
-        cases.append(_case(casefile, built, f"event {ev.id}", [ev.id]))
+        cases.append(_case(casefile, built, f"event {ev.id}", [ev.id], planned))
     elif party is not None:
         if party not in casefile.parties:
             known = ", ".join(casefile.parties) or "none"
             msg = f"no party {party!r} in the casefile (known: {known})"
             raise NotFoundError(msg)
-        cases.append(_case(casefile, built, f"party {party}", [e.id for e in casefile.events if e.party == party]))
+        cases.append(_case(casefile, built, f"party {party}",
+                           [e.id for e in casefile.events if e.party == party], planned))
     else:
+        singles = []
         for pid in casefile.parties:
             evs = [e.id for e in casefile.events if e.party == pid]
             if evs:
-                cases.append(_case(casefile, built, f"party {pid}", evs))
+                singles.append(_case(casefile, built, f"party {pid}", evs, planned))
+        cases.extend(singles)
         owners = [pid for pid, p in casefile.parties.items() if p.role == "owner"]
         evs = [e.id for e in casefile.events if e.party in owners]
         if evs:
-            cases.append(_case(casefile, built, "all owner delays", evs))
-    return ButForReport(built, tuple(cases))
+            cases.append(_case(casefile, built, "all owner delays", evs, planned))
+        if casefile.events:
+            every = _case(casefile, built, "all events", [e.id for e in casefile.events], planned)
+            cases.append(every)
+            excusable = [e.id for e in casefile.events if e.category.startswith("excusable")]
+            if excusable:
+                cases.append(_case(casefile, built, "all excusable events", excusable, planned))
+            total = sum(c.difference for c in singles)
+            overlap = max(0, total - every.difference)
+            note = overlap_note(overlap, total, every.difference, every.unit)
+    return ButForReport(built, tuple(cases), overlap, note)
 
 
 # --- tables and JSON ---------------------------------------------------------
@@ -489,14 +589,17 @@ def but_for_json(report: ButForReport) -> dict:
         ],
         "events": [
             {"event": e.event, "party": e.party, "represented_as": e.how,
-             "activities": list(e.activities), "days": dict(e.days)}
+             "activities": list(e.activities), "days": dict(e.days), "why": e.why}
             for e in b.events
         ],
         "cases": [
             {"case": c.label, "events_removed": list(c.removed), "not_represented": list(c.not_represented),
              "as_built_completion": c.as_built_completion, "but_for_completion": c.but_for_completion,
-             "difference": c.difference, "unit": c.unit.replace(" ", "-"), "critical_path": list(c.critical_path)}
+             "difference": c.difference, "unit": c.unit.replace(" ", "-"), "critical_path": list(c.critical_path),
+             "warnings": list(c.warnings)}
             for c in report.cases
         ],
-        "warnings": list(b.warnings),
+        "warnings": [*b.warnings, *(w for c in report.cases for w in c.warnings)],
+        "overlap": report.overlap,
+        "overlap_note": report.overlap_note,
     }

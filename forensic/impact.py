@@ -64,23 +64,33 @@ from .model import Activity, Calendar, Casefile, Event, Fragnet, Project, Snapsh
 from .tables import Table
 
 __all__ = [
+    "ContemporaneousSeries",
     "CumulativeStep",
     "FloatChange",
     "HoldUp",
     "ImpactResult",
+    "Representation",
+    "SeriesStep",
     "ImpactSeries",
     "MilestoneChange",
     "apply_hold_up",
+    "contemporaneous_json",
+    "contemporaneous_table",
     "delay_between",
+    "estimate_days",
     "float_table",
     "fragnet_of",
     "impact_json",
     "insert_fragnet",
     "milestones_table",
+    "planned_duration",
     "progress_to",
+    "record_span",
+    "represent",
     "series_json",
     "series_table",
     "time_impact",
+    "time_impact_series",
     "time_impacts",
     "unimpacted_snapshot",
 ]
@@ -123,6 +133,27 @@ class HoldUp:
 
 
 @dataclass(frozen=True, slots=True)
+class Representation:
+    """How one event is represented in an analysis, and what it cost each activity.
+
+    ``how`` is ``"fragnet"`` (its fragnet's work: ``days`` the working days
+    of each fragnet activity), ``"days-lost"`` (events.csv ``days_lost``),
+    ``"estimated"`` (from the record, see :func:`estimate_days`) or
+    ``"not-represented"``; ``why`` says how the figure was found, or why
+    there is none.
+    """
+
+    event: str
+    how: str
+    days: tuple[tuple[str, int], ...] = ()
+    why: str = ""
+
+    @property
+    def total(self) -> int:
+        return sum(n for _, n in self.days)
+
+
+@dataclass(frozen=True, slots=True)
 class ImpactResult:
     """The time impact of one event (or several inserted together) on one schedule.
 
@@ -149,6 +180,21 @@ class ImpactResult:
     inserted: tuple[str, ...]
     hold_ups: tuple[HoldUp, ...] = ()
     warnings: tuple[str, ...] = ()
+    represented: tuple[Representation, ...] = ()
+
+    @property
+    def represented_as(self) -> str:
+        """The representation of the event (kinds joined by ``+`` when several were inserted together)."""
+        return "+".join(r.how for r in self.represented)
+
+    @property
+    def days(self) -> dict[str, int]:
+        """Working days each activity was given (fragnet activities: their durations), summed over the events."""
+        out: dict[str, int] = {}
+        for rep in self.represented:
+            for aid, n in rep.days:
+                out[aid] = out.get(aid, 0) + n
+        return out
 
 
 @dataclass(frozen=True, slots=True)
@@ -178,6 +224,45 @@ class ImpactSeries:
     sum_of_individual: int
     non_additivity: int
     unit: str
+    warnings: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True, slots=True)
+class SeriesStep:
+    """One step of the contemporaneous series: one event inserted into its own unimpacted update.
+
+    ``carried`` is true when the event went into the impacted result of the
+    step before (both events' unimpacted update is the same); ``running_total``
+    is the sum of the impacts so far, in the delay unit.
+    """
+
+    event: str
+    into: str
+    completion_before: date
+    completion_after: date
+    impact: int
+    represented_as: str
+    running_total: int
+    carried: bool
+
+
+@dataclass(frozen=True, slots=True)
+class ContemporaneousSeries:
+    """Every event in date order, each inserted into the last update before it (AACE RP 29R-03, MIP 3.7).
+
+    ``total`` is the sum of the steps' impacts; ``windows_total`` the slip
+    the windows analysis measures over the whole record (the last update's
+    completion against the baseline's); ``difference_from_windows`` is
+    ``total - windows_total``: the slip the modelled events do not explain
+    (negative), or the modelled delay the record did not show (positive).
+    """
+
+    unit: str
+    steps: tuple[SeriesStep, ...]
+    total: int
+    windows_total: int
+    difference_from_windows: int
+    warnings: tuple[str, ...] = ()
 
 
 # --- the steps ---------------------------------------------------------------
@@ -298,41 +383,166 @@ def insert_fragnet(snapshot: Snapshot, fragnet: Fragnet) -> tuple[Snapshot, tupl
 
 
 def apply_hold_up(
-    snapshot: Snapshot, result: ScheduleResult, event: Event, calendars: Mapping[str, Calendar], project: Project
+    snapshot: Snapshot, rep: Representation
 ) -> tuple[Snapshot, tuple[HoldUp, ...], tuple[str, ...]]:
-    """Represent an event without a fragnet as added duration on the activities it names.
+    """Represent an event without a fragnet by the working days it cost each activity it hit.
 
-    Each named task that is not finished gains the working days (its own
-    calendar) where the event's dates overlap its scheduled dates in
-    ``result``, counted from the data date at the earliest. Milestones,
-    finished work and activities not in the snapshot are passed over with a
-    warning.
+    Each activity of ``rep.days`` that is a task not finished in
+    ``snapshot`` gains its days on its duration and its remaining duration:
+    the work takes longer by what the event cost it (a stated
+    ``days_lost`` or the estimate from the record), never by the whole of
+    the event's period, since an event that slows work is not a total
+    stoppage of it. Milestones, finished work and activities not in the
+    snapshot are passed over with a warning.
 
     References
     ----------
     AACE RP 29R-03, sec. 3.6, on modelling an event as an added or extended
-    activity; common practice for a suspension of work in progress.
+    activity; AACE RP 52R-06, on quantifying the event in the fragnet.
     """
     acts = dict(snapshot.activities)
     holds = []
     warnings = []
-    for aid in event.activities:
+    for aid, days in rep.days:
         a = acts.get(aid)
         if a is None:
-            warnings.append(f"event {event.id}: activity {aid} is not in snapshot {snapshot.id}")
+            warnings.append(f"event {rep.event}: activity {aid} is not in snapshot {snapshot.id}; "
+                            f"its {days} working days are not added")
             continue
         if a.is_finished or a.is_milestone or a.duration == 0:
-            warnings.append(f"event {event.id}: activity {aid} is finished or a milestone; nothing added")
+            warnings.append(f"event {rep.event}: activity {aid} is finished or a milestone in snapshot "
+                            f"{snapshot.id}; its {days} working days are not added")
             continue
-        x = result[aid]
-        lo = max(event.start, x.early_start, snapshot.data_date)
-        hi = min(event.finish, x.early_finish)
-        cal = calendars[a.calendar or project.default_calendar]
-        days = workdays_between(cal, lo, hi + _DAY) if lo <= hi else 0
         if days > 0:
             acts[aid] = replace(a, duration=a.duration + days, remaining=a.remaining_duration + days)
-        holds.append(HoldUp(event.id, aid, days))
+        holds.append(HoldUp(rep.event, aid, days))
     return replace(snapshot, activities=frozen_mapping(acts)), tuple(holds), tuple(warnings)
+
+
+# --- what an event cost ------------------------------------------------------
+
+
+def planned_duration(casefile: Casefile, activity_id: str, when: date | None = None) -> int | None:
+    """The planned duration of an activity as the plan stood on ``when`` (the plan an event disrupted).
+
+    Its duration in the last snapshot whose data date is on or before
+    ``when`` and that holds it (the event's unimpacted schedule, AACE RP
+    52R-06); else in the first snapshot that holds it; ``None`` when none
+    does. With ``when`` omitted, the baseline's (the as-planned).
+    """
+    found = None
+    for snap in casefile.snapshots:
+        a = snap.activities.get(activity_id)
+        if a is None:
+            continue
+        if found is None or (when is not None and snap.data_date <= when):
+            found = a.duration
+    if when is None:
+        a = casefile.baseline.activities.get(activity_id)
+        return a.duration if a is not None else found
+    return found
+
+
+def record_span(a: Activity, x, data_date: date, cal: Calendar) -> tuple[date, date, int]:
+    """An activity's dates and duration in the record: as built when finished, else as forecast.
+
+    ``x`` is its scheduled record (:class:`forensic.engine.ScheduledActivity`)
+    in the snapshot whose data date is ``data_date``. A finished task runs
+    from its actual start to its actual finish; one in progress from its
+    actual start to its forecast finish, worked without a break (the working
+    days to the data date plus its remaining duration); one not started as
+    forecast. The duration is in working days of its calendar.
+    """
+    if a.is_finished:
+        start = a.actual_start or a.actual_finish
+        return start, a.actual_finish, workdays_between(cal, start, a.actual_finish + _DAY)
+    if a.is_started:
+        return a.actual_start, x.early_finish, workdays_between(cal, a.actual_start, data_date) + a.remaining_duration
+    return x.early_start, x.early_finish, a.remaining_duration
+
+
+def estimate_days(casefile: Casefile, event: Event, record: ScheduleResult | None = None) -> Representation:
+    """What an event with neither a fragnet nor ``days_lost`` cost, estimated from the record.
+
+    For each activity the event hit, the working days (its own calendar)
+    by which its as-built, or forecast, duration exceeds its planned
+    duration as the plan stood when the event began (:func:`planned_duration`,
+    its duration in the event's unimpacted update), counted only on working days of
+    its dates that fall inside the event's period: ``min(overrun, days
+    worked inside the period)``, and so never more than the event's working
+    days nor the activity's overrun. An activity not worked inside the
+    period gives no estimate; when none does, the event is
+    ``not-represented``.
+
+    ``record`` is the schedule of the snapshot read as the record (by
+    default the last snapshot, the fullest record).
+
+    References
+    ----------
+    AACE RP 29R-03, sec. 3.6 and 3.8, and AACE RP 52R-06, on quantifying an
+    event from the contemporaneous record; casefile format 2, events.csv
+    (the rule itself). The overrun measure is common practice.
+    """
+    cals, project = casefile.calendars, casefile.project
+    if record is None:
+        record = schedule(casefile.snapshots[-1], cals, project)
+    snap = casefile.snapshot(record.snapshot_id)
+    days: list[tuple[str, int]] = []
+    notes: list[str] = []
+    if not event.activities:
+        return Representation(event.id, "not-represented", (),
+                              "it has no fragnet, no days_lost and names no activity it hit")
+    for aid in event.activities:
+        a = snap.activities.get(aid)
+        planned = planned_duration(casefile, aid, event.start)
+        if a is None or planned is None:
+            notes.append(f"{aid} is not in the record ({snap.id})")
+            continue
+        if a.is_milestone or a.duration == 0:
+            notes.append(f"{aid} is a milestone")
+            continue
+        cal = calendars_of(casefile, a)
+        start, finish, dur = record_span(a, record[aid], snap.data_date, cal)
+        lo, hi = max(start, event.start), min(finish, event.finish)
+        inside = workdays_between(cal, lo, hi + _DAY) if lo <= hi else 0
+        if inside <= 0:
+            notes.append(f"{aid} was not worked inside the event's period ({start.isoformat()} to {finish.isoformat()} "
+                         f"in {snap.id})")
+            continue
+        over = max(0, dur - planned)
+        days.append((aid, min(over, inside)))
+        notes.append(f"{aid} took {dur} working days against {planned} planned, {inside} of them inside the "
+                     f"event's period")
+    if not days:
+        why = ("it has no fragnet and no days_lost, and the record gives no estimate: " + "; ".join(notes))
+        return Representation(event.id, "not-represented", (), why)
+    return Representation(event.id, "estimated", tuple(days), "estimated from the record: " + "; ".join(notes))
+
+
+def calendars_of(casefile: Casefile, a: Activity) -> Calendar:
+    """The calendar an activity works to."""
+    return casefile.calendars[a.calendar or casefile.project.default_calendar]
+
+
+def represent(casefile: Casefile, event: Event, record: ScheduleResult | None = None) -> Representation:
+    """How a time impact analysis represents an event: fragnet, then ``days_lost``, then the estimate.
+
+    A fragnet is inserted as it is (``days``: each fragnet activity's
+    duration); else the stated ``days_lost``; else :func:`estimate_days`;
+    else the event is ``not-represented`` and adds nothing.
+
+    References
+    ----------
+    AACE RP 52R-06, on the fragnet as the model of an event; casefile
+    format 2, events.csv (the order).
+    """
+    frag = fragnet_of(casefile, event)
+    if frag is not None:
+        return Representation(event.id, "fragnet", tuple((a.id, a.duration) for a in frag.activities.values()),
+                              f"fragnet {frag.id} inserted")
+    if event.days_lost:
+        return Representation(event.id, "days-lost", event.days_lost, "days_lost stated in events.csv")
+    return estimate_days(casefile, event, record)
 
 
 def delay_between(project: Project, calendars: Mapping[str, Calendar], before: date, after: date) -> int:
@@ -371,29 +581,34 @@ def fragnet_of(casefile: Casefile, event: Event) -> Fragnet | None:
 
 
 def _impose(
-    casefile: Casefile, snapshot: Snapshot, events: Sequence[Event], progress: bool
-) -> tuple[Snapshot, list[str], list[HoldUp], list[str]]:
+    casefile: Casefile, snapshot: Snapshot, events: Sequence[Event], progress: bool,
+    record: ScheduleResult | None = None,
+) -> tuple[Snapshot, list[str], list[HoldUp], list[str], list[Representation]]:
     """Insert each event in turn (progressing to its start first, if asked)."""
     inserted: list[str] = []
     holds: list[HoldUp] = []
     warnings: list[str] = []
+    reps: list[Representation] = []
     cals, project = casefile.calendars, casefile.project
+    if record is None and any(fragnet_of(casefile, ev) is None and not ev.days_lost for ev in events):
+        record = schedule(casefile.snapshots[-1], cals, project)
     for ev in events:
         if progress:
             snapshot = progress_to(snapshot, cals, project, ev.start)
-        frag = fragnet_of(casefile, ev)
-        if frag is not None:
+        rep = represent(casefile, ev, record)
+        reps.append(rep)
+        w: tuple[str, ...] = ()
+        if rep.how == "fragnet":
+            frag = fragnet_of(casefile, ev)
             snapshot, w = insert_fragnet(snapshot, frag)
             inserted.extend(frag.activities)
-        elif ev.activities:
-            r = schedule(snapshot, cals, project)
-            snapshot, h, w = apply_hold_up(snapshot, r, ev, cals, project)
-            holds.extend(h)
+        elif rep.how == "not-represented":
+            w = (f"event {ev.id} is not represented: {rep.why}",)
         else:
-            msg = f"event {ev.id} has neither a fragnet nor activities it hit; there is nothing to insert"
-            raise FragnetError(msg)
+            snapshot, h, w = apply_hold_up(snapshot, rep)
+            holds.extend(h)
         warnings.extend(w)
-    return snapshot, inserted, holds, warnings
+    return snapshot, inserted, holds, warnings, reps
 
 
 def _touched(snapshot: Snapshot, seeds: Iterable[str]) -> set[str]:
@@ -418,6 +633,7 @@ def _compare(
     inserted: Sequence[str],
     holds: Sequence[HoldUp],
     warnings: Sequence[str],
+    reps: Sequence[Representation] = (),
 ) -> ImpactResult:
     cals, project = casefile.calendars, casefile.project
     before = schedule(before_snap, cals, project)
@@ -439,6 +655,13 @@ def _compare(
         if fb is not None and fa is not None and fb != fa:
             floats.append(FloatChange(aid, before_snap.activities[aid].name, fb, fa, fb - fa))
     floats.sort(key=lambda c: -c.consumed)
+    impact = delay_between(project, cals, before.completion, comp_after)
+    warnings = list(warnings)
+    if impact < 0:
+        # Never below the as-planned: inserting a delay cannot bring completion earlier (AACE RP 52R-06).
+        acts = [*inserted, *(h.activity for h in holds)]
+        warnings.append(f"event {label}: the time impact shortens the schedule ({impact} {_unit(project)}; "
+                        f"activities {' '.join(acts) or 'none'}); check the fragnet's logic and durations")
     return ImpactResult(
         event=label,
         into=into.id,
@@ -446,7 +669,7 @@ def _compare(
         completion_id=comp,
         completion_before=before.completion,
         completion_after=comp_after,
-        impact=delay_between(project, cals, before.completion, comp_after),
+        impact=impact,
         unit=_unit(project),
         milestones=tuple(milestones),
         float_consumed=tuple(floats),
@@ -454,6 +677,7 @@ def _compare(
         inserted=tuple(inserted),
         hold_ups=tuple(holds),
         warnings=tuple(warnings),
+        represented=tuple(reps),
     )
 
 
@@ -463,6 +687,7 @@ def time_impact(
     *,
     into: str | None = None,
     progress_to_event: bool = False,
+    record: ScheduleResult | None = None,
 ) -> ImpactResult:
     """The time impact of one event (or several, inserted together in date order).
 
@@ -498,14 +723,14 @@ def time_impact(
     snap = casefile.snapshot(into) if into else unimpacted_snapshot(casefile, events[0])
     cals, project = casefile.calendars, casefile.project
     base = progress_to(snap, cals, project, events[0].start) if progress_to_event else snap
-    after, inserted, holds, warnings = _impose(casefile, base, events, progress_to_event)
+    after, inserted, holds, warnings, reps = _impose(casefile, base, events, progress_to_event, record)
     if progress_to_event and len(events) > 1:
         # Later events progress the impacted schedule; the unimpacted one is
         # progressed to the same final date, as planned, for a like comparison.
         base = progress_to(snap, cals, project, events[-1].start)
     label = "+".join(e.id for e in events)
     when = events[-1].start if progress_to_event and events[-1].start > snap.data_date else None
-    return _compare(casefile, label, snap, when, base, after, inserted, holds, warnings)
+    return _compare(casefile, label, snap, when, base, after, inserted, holds, warnings, reps)
 
 
 def time_impacts(
@@ -539,25 +764,108 @@ def time_impacts(
         msg = "no event with a fragnet or with activities it hit; there is nothing to analyse"
         raise NotFoundError(msg)
     events = sorted((casefile.event(e) for e in event_ids), key=lambda e: (e.start, e.id))
+    cals, project = casefile.calendars, casefile.project
+    record = schedule(casefile.snapshots[-1], cals, project)
     individual = tuple(
-        time_impact(casefile, e.id, into=into, progress_to_event=progress_to_event) for e in events
+        time_impact(casefile, e.id, into=into, progress_to_event=progress_to_event, record=record) for e in events
     )
     snap = casefile.snapshot(into) if into else unimpacted_snapshot(casefile, events[0])
-    cals, project = casefile.calendars, casefile.project
     steps = []
     current = progress_to(snap, cals, project, events[0].start) if progress_to_event else snap
     for ev in events:
         if progress_to_event:
             current = progress_to(current, cals, project, ev.start)
         before = schedule(current, cals, project)
-        current, _, _, _ = _impose(casefile, current, [ev], False)
+        current, _, _, _, _ = _impose(casefile, current, [ev], False, record)
         after = schedule(current, cals, project)
         done = after[before.completion_id].early_finish
         steps.append(CumulativeStep(ev.id, ev.start, before.completion, done,
                                     delay_between(project, cals, before.completion, done)))
-    cumulative = time_impact(casefile, [e.id for e in events], into=snap.id, progress_to_event=progress_to_event)
+    cumulative = time_impact(casefile, [e.id for e in events], into=snap.id, progress_to_event=progress_to_event,
+                             record=record)
     total = sum(r.impact for r in individual)
-    return ImpactSeries(individual, cumulative, tuple(steps), total, total - cumulative.impact, _unit(project))
+    # The cumulative run puts every event into one update; an event that
+    # starts after a later update exists is then inserted into a schedule
+    # older than its own unimpacted one: an impacted as-planned, not a time
+    # impact analysis (AACE RP 52R-06; RP 29R-03, MIP 3.6 against 3.7).
+    late = []
+    for e in events:
+        own = [x for x in casefile.snapshots if x.data_date <= e.start]
+        if own and own[-1].data_date > snap.data_date:
+            late.append((e.id, own[-1].id))
+    warnings = []
+    if late:
+        warnings.append(
+            f"cumulative into {snap.id} (data date {snap.data_date.isoformat()}): events "
+            + ", ".join(f"{e} (its own update {u})" for e, u in late)
+            + " start after later updates exist; inserted into the older update they model an impacted "
+            "as-planned, not a time impact analysis (use --series to insert each into its own update)")
+    return ImpactSeries(individual, cumulative, tuple(steps), total, total - cumulative.impact, _unit(project),
+                        tuple(warnings))
+
+
+def time_impact_series(
+    casefile: Casefile,
+    event_ids: Sequence[str] | None = None,
+    *,
+    progress_to_event: bool = False,
+) -> ContemporaneousSeries:
+    """The contemporaneous time impact series (AACE RP 29R-03, MIP 3.7, modelled / additive / multiple base).
+
+    The events, in order of their start dates, are each inserted into the
+    last update on or before their start, their own unimpacted schedule
+    (:func:`unimpacted_snapshot`; AACE RP 52R-06). When the event before
+    went into the same update, the event goes into that impacted result,
+    carried forward, so events in one period add up in it; when a later
+    update exists it is taken as it stands, since it already records the
+    earlier events as they happened. Each step reports the completion
+    before and after and its impact; ``total`` is their sum, compared with
+    the windows analysis's slip over the record.
+
+    ``event_ids`` defaults to every event. With ``progress_to_event`` each
+    step first brings its schedule to the event's start, as planned.
+
+    References
+    ----------
+    AACE RP 29R-03, MIP 3.7; AACE RP 52R-06, on the unimpacted schedule and
+    a series of time impact analyses; SCL Protocol 2nd ed., on time impact
+    analysis.
+    """
+    ids = list(event_ids) if event_ids is not None else [e.id for e in casefile.events]
+    if not ids:
+        msg = "the casefile has no event; there is nothing to analyse"
+        raise NotFoundError(msg)
+    events = sorted((casefile.event(e) for e in ids), key=lambda e: (e.start, e.id))
+    cals, project = casefile.calendars, casefile.project
+    record = schedule(casefile.snapshots[-1], cals, project)
+    steps: list[SeriesStep] = []
+    warnings: list[str] = []
+    current: Snapshot | None = None
+    into: str | None = None
+    total = 0
+    for ev in events:
+        snap = unimpacted_snapshot(casefile, ev)
+        carried = snap.id == into and current is not None
+        base = current if carried else snap
+        if progress_to_event:
+            base = progress_to(base, cals, project, ev.start)
+        before = schedule(base, cals, project)
+        current, _, _, w, reps = _impose(casefile, base, [ev], False, record)
+        after = schedule(current, cals, project)
+        done = after[before.completion_id].early_finish
+        impact = delay_between(project, cals, before.completion, done)
+        total += impact
+        warnings.extend(w)
+        if impact < 0:
+            warnings.append(f"event {ev.id}: the time impact shortens the schedule ({impact}); check its representation")
+        steps.append(SeriesStep(ev.id, snap.id, before.completion, done, impact,
+                                "+".join(r.how for r in reps), total, carried))
+        into = snap.id
+    first = schedule(casefile.baseline, cals, project)
+    windows_total = delay_between(project, cals, first.completion, record[first.completion_id].early_finish
+                                  if first.completion_id in record.activities else record.completion)
+    return ContemporaneousSeries(_unit(project), tuple(steps), total, windows_total, total - windows_total,
+                                 tuple(warnings))
 
 
 # --- tables and JSON ---------------------------------------------------------
@@ -608,6 +916,13 @@ def impact_json(result: ImpactResult) -> dict:
             for m in result.milestones
         ],
         "critical_path": list(result.critical_path),
+        "represented_as": result.represented_as,
+        "days": result.days,
+        "events": [
+            {"event": r.event, "represented_as": r.how, "days": dict(r.days), "why": r.why}
+            for r in result.represented
+        ],
+        "warnings": list(result.warnings),
     }
 
 
@@ -627,4 +942,33 @@ def series_json(series: ImpactSeries) -> dict:
         },
         "sum_of_individual": series.sum_of_individual,
         "non_additivity": series.non_additivity,
+        "into": c.into,
+        "warnings": list(series.warnings),
+    }
+
+
+def contemporaneous_table(series: ContemporaneousSeries) -> Table:
+    """One row per step of the contemporaneous series, with the running total."""
+    return Table(
+        "impact-contemporaneous",
+        ("event", "into", "represented_as", "completion_before", "completion_after", "impact", "running_total"),
+        tuple((s.event, s.into, s.represented_as, s.completion_before, s.completion_after, s.impact, s.running_total)
+              for s in series.steps),
+    )
+
+
+def contemporaneous_json(series: ContemporaneousSeries) -> dict:
+    """The ``forensic impact --series --json`` object (docs/impact-and-butfor.md)."""
+    return {
+        "unit": series.unit.replace(" ", "-"),
+        "steps": [
+            {"event": s.event, "into": s.into, "completion_before": s.completion_before,
+             "completion_after": s.completion_after, "impact": s.impact, "represented_as": s.represented_as,
+             "running_total": s.running_total, "carried_forward": s.carried}
+            for s in series.steps
+        ],
+        "total": series.total,
+        "windows_total": series.windows_total,
+        "difference_from_windows": series.difference_from_windows,
+        "warnings": list(series.warnings),
     }

@@ -247,6 +247,9 @@ class Event:
 
     ``start`` and ``finish`` are inclusive calendar dates. ``category`` is
     already resolved from the party's role when events.csv left it blank.
+    ``days_lost`` is the optional stated cost: ``(activity, working days)``
+    for each activity it hit, in the order of ``activities`` (empty when
+    events.csv gives none; casefile format 2, events.csv ``days_lost``).
     """
 
     id: str
@@ -259,6 +262,7 @@ class Event:
     fragnet: str | None = None
     reference: str | None = None
     line: int | None = None
+    days_lost: tuple[tuple[str, int], ...] = ()
 
 
 @dataclass(frozen=True, slots=True)

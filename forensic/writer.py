@@ -84,15 +84,23 @@ def links_csv(links: Iterable[Link]) -> str:
     return _csv(LINK_COLUMNS, ((k.pred, k.succ, k.type, k.lag) for k in links))
 
 
+def _days_lost(e: Event) -> str:
+    values = {n for _, n in e.days_lost}
+    if len(values) == 1 and len(e.days_lost) == len(e.activities):
+        return str(values.pop())
+    return " ".join(f"{a}:{n}" for a, n in e.days_lost)
+
+
 def events_csv(events: Iterable[Event]) -> str:
-    """events.csv text for these events."""
-    return _csv(
-        EVENT_COLUMNS,
-        (
-            (e.id, e.title, e.party, e.category, e.start, e.finish, " ".join(e.activities), e.fragnet, e.reference)
-            for e in events
-        ),
-    )
+    """events.csv text for these events; the ``days_lost`` column only when some event states it."""
+    events = list(events)
+    rows = [(e.id, e.title, e.party, e.category, e.start, e.finish, " ".join(e.activities), e.fragnet, e.reference)
+            for e in events]
+    if not any(e.days_lost for e in events):
+        return _csv(EVENT_COLUMNS, rows)
+    at = EVENT_COLUMNS.index("reference")
+    return _csv((*EVENT_COLUMNS[:at], "days_lost", *EVENT_COLUMNS[at:]),
+                ((*r[:at], _days_lost(e) if e.days_lost else None, *r[at:]) for r, e in zip(rows, events, strict=True)))
 
 
 _ESCAPES = {"\\": "\\\\", '"': '\\"', "\n": "\\n", "\t": "\\t", "\r": "\\r"}

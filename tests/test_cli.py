@@ -152,7 +152,7 @@ def test_json_units_are_spelt_like_the_manifest(args):
             for v in x:
                 walk(v)
 
-    walk(json.loads(result.output))
+    walk(json.loads(result.stdout))  # warnings go to stderr
     assert units == {"calendar-days"}  # the demo's delay_unit
 
 

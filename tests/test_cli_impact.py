@@ -35,8 +35,9 @@ def test_impact_json_has_exactly_the_contract_keys(case):
     assert res.exit_code == 0, res.output
     obj = json.loads(res.output)
     assert list(obj) == ["event", "into", "completion_before", "completion_after", "impact", "milestones",
-                         "critical_path"]
+                         "critical_path", "represented_as", "days", "events", "warnings"]
     assert (obj["event"], obj["into"], obj["impact"]) == ("E1", "U1", 6)  # 6 days on the critical path
+    assert (obj["represented_as"], obj["days"]) == ("fragnet", {"F1-X": 6})
     assert obj["completion_after"] == date(2026, 1, 20).isoformat()
 
 
@@ -70,7 +71,11 @@ def test_impact_errors_are_plain_messages(case):
 
 
 def test_but_for_json_and_text(case, monkeypatch):
-    """but-for on a finished job: removing the critical delay E1 gives back its 6 days."""
+    """but-for on a finished job: removing the critical delay E1 gives back its 6 days.
+
+    A planned 10 took 16 (days 0-15); E1 (days 3-8) holds 6 of its working
+    days, the overrun is 6: estimated min(6, 6) = 6, all on the only path.
+    """
     last = snap(
         [Activity("A", "", 10, actual_start=day(0), actual_finish=day(15)),
          Activity("B", "", 6, actual_start=day(0), actual_finish=day(5)),
@@ -82,8 +87,43 @@ def test_but_for_json_and_text(case, monkeypatch):
     res = run("but-for", "X", "--json")
     assert res.exit_code == 0, res.output
     obj = json.loads(res.output)
-    assert [(c["case"], c["difference"]) for c in obj["cases"]] == [("party OWN", 6), ("all owner delays", 6)]
+    assert [(c["case"], c["difference"]) for c in obj["cases"]] == [
+        ("party OWN", 6), ("all owner delays", 6), ("all events", 6), ("all excusable events", 6)]
+    assert obj["events"][0]["represented_as"] == "estimated" and obj["events"][0]["days"] == {"A": 6}
+    assert obj["overlap"] == 0
+    res = run("but-for", "X")
+    assert res.exit_code == 0 and "Overlap: 0." in res.output
     res = run("but-for", "X", "--event", "E1")
     assert res.exit_code == 0 and "as-built from U2" in res.output
     res = run("but-for", "X", "--party", "OWN", "--event", "E1")
     assert res.exit_code == 2
+
+
+def test_impact_series_json_text_and_refusals(monkeypatch):
+    """--series prints the steps, the running total and the windows difference (test_impact's series_case)."""
+    from .test_impact import series_case
+
+    monkeypatch.setattr(cli_impact, "load", lambda path: series_case())
+    res = run("impact", "X", "--all", "--series", "--json")
+    assert res.exit_code == 0, res.output
+    obj = json.loads(res.output)
+    assert [(s["event"], s["into"], s["impact"]) for s in obj["steps"]] == [("E1", "BL", 2), ("E2", "U1", 3),
+                                                                            ("E3", "U1", 1)]
+    assert (obj["total"], obj["windows_total"], obj["difference_from_windows"]) == (6, 4, 2)
+    res = run("impact", "X", "--all", "--series")
+    assert res.exit_code == 0 and "Total 6 calendar days" in res.output and "difference of +2" in res.output
+    res = run("impact", "X", "--all", "--series", "--cumulative")
+    assert res.exit_code == 2 and "--series" in res.output
+    res = run("impact", "X", "--all", "--cumulative")
+    assert res.exit_code == 0 and "Cumulative into BL (data date 2026-01-05)" in res.output
+    assert "impacted as-planned" in res.output  # the warning (stderr is mixed into the output here)
+
+
+def test_impact_text_says_when_an_event_is_not_represented(monkeypatch):
+    """An event with no work in its period: the text says 'not represented' and why (issue 17)."""
+    from .test_impact import overrun_case
+
+    monkeypatch.setattr(cli_impact, "load", lambda path: overrun_case(start=12, finish=14))
+    res = run("impact", "X", "--event", "E1")
+    assert res.exit_code == 0
+    assert "E1 not represented (nothing inserted)" in res.output and "time impact 0" in res.output

@@ -9,12 +9,15 @@ import click
 from ..butfor import as_built_table, but_for, but_for_json, but_for_table
 from ..impact import (
     ImpactResult,
+    contemporaneous_json,
+    contemporaneous_table,
     float_table,
     impact_json,
     milestones_table,
     series_json,
     series_table,
     time_impact,
+    time_impact_series,
     time_impacts,
 )
 from ..tables import Table, dumps_json, to_csv, to_text
@@ -37,8 +40,14 @@ def _impact_text(r: ImpactResult) -> str:
     )
     if r.inserted:
         lines.append("Fragnet activities inserted: " + " ".join(r.inserted))
+    for rep in r.represented:
+        if rep.how == "not-represented":
+            lines.append(f"{rep.event} not represented (nothing inserted): {rep.why}")
+        elif rep.how != "fragnet":
+            lines.append(f"{rep.event} represented as {rep.how}: {rep.why}")
     for h in r.hold_ups:
-        lines.append(f"No fragnet: {h.activity} extended by {h.days} working days")
+        how = next((rep.how for rep in r.represented if rep.event == h.event), "")
+        lines.append(f"{h.activity} extended by {h.days} working days ({how})")
     out = "\n".join(lines) + "\n\nMilestones\n" + to_text(milestones_table(r))
     if r.float_consumed:
         out += "\nTotal float consumed on the paths touched (working days)\n" + to_text(float_table(r))
@@ -55,8 +64,11 @@ def _warn(warnings) -> None:
 @casefile_argument
 @click.option("--event", "events", metavar="ID", multiple=True, help="Event to analyse (repeat for several).")
 @click.option("--into", metavar="SNAPSHOT", help="Unimpacted snapshot (default: the last on or before the event).")
-@click.option("--all", "all_events", is_flag=True, help="Every event with a fragnet or activities, each alone.")
-@click.option("--cumulative", is_flag=True, help="Also insert the events cumulatively, in date order.")
+@click.option("--all", "all_events", is_flag=True, help="Every event, each alone.")
+@click.option("--cumulative", is_flag=True,
+              help="Also insert the events cumulatively, in date order, into one update.")
+@click.option("--series", is_flag=True,
+              help="Insert each event into the last update before it, carrying the result forward (MIP 3.7).")
 @click.option("--progress-to-event", is_flag=True,
               help="First bring the unimpacted schedule to the event's start, as planned.")
 @format_options
@@ -66,6 +78,7 @@ def impact_command(
     into: str | None,
     all_events: bool,
     cumulative: bool,
+    series: bool,
     progress_to_event: bool,
     as_json: bool,
     as_csv: bool,
@@ -76,7 +89,14 @@ def impact_command(
     before the event's start, unless --into names another. The impact is in
     the project's delay unit. With several events (--event repeated, or
     --all) each is analysed alone; --cumulative adds them one after another
-    in date order and reports the difference from the sum (non-additivity).
+    in date order into one update and reports the difference from the sum
+    (non-additivity). --series (AACE RP 29R-03 MIP 3.7) inserts each event
+    into its own unimpacted update, carries the impacted result forward,
+    and compares the running total with the windows analysis.
+
+    An event is inserted as its fragnet, else as the working days events.csv
+    states it lost (days_lost), else as the days estimated from the record;
+    one that can be none of these is reported as not represented.
 
     Example: forensic impact casefiles/riverside --event EV03 --json
 
@@ -85,11 +105,31 @@ def impact_command(
         raise click.UsageError("give --event ID (one or more) or --all")
     if events and all_events:
         raise click.UsageError("choose --event or --all, not both")
+    if series and (cumulative or into):
+        raise click.UsageError("--series inserts each event into its own update: not with --cumulative or --into")
     cf = load(casefile)
     ids = list(events) if events else None
+    if series:
+        run = time_impact_series(cf, ids, progress_to_event=progress_to_event)
+        _warn(run.warnings)
+        emit_xlsx([contemporaneous_table(run)], cf)
+        if as_json:
+            emit(dumps_json(contemporaneous_json(run)))
+            return
+        if as_csv:
+            emit(to_csv(contemporaneous_table(run)))
+            return
+        click.echo(f"{cf.project.name}: {len(run.steps)} events, each into the last update before it "
+                   f"(AACE RP 29R-03 MIP 3.7), impacts in {run.unit}")
+        if progress_to_event:
+            click.echo(_PROGRESS_NOTE)
+        emit(to_text(contemporaneous_table(run)))
+        click.echo(f"\nTotal {run.total} {run.unit}; the windows analysis measures {run.windows_total} over the "
+                   f"record: a difference of {run.difference_from_windows:+d}.")
+        return
     if cumulative:
         series = time_impacts(cf, ids, into=into, progress_to_event=progress_to_event)
-        _warn(w for r in series.individual for w in r.warnings)
+        _warn([*(w for r in series.individual for w in r.warnings), *series.warnings])
         emit_xlsx([series_table(series)], cf)
         if as_json:
             emit(dumps_json(series_json(series)))
@@ -103,15 +143,16 @@ def impact_command(
             click.echo(_PROGRESS_NOTE)
         emit(to_text(series_table(series)))
         click.echo(
-            f"\nCumulative into {c.into}: {c.completion_before.isoformat()} -> {c.completion_after.isoformat()}, "
+            f"\nCumulative into {c.into} (data date {cf.snapshot(c.into).data_date.isoformat()}): "
+            f"{c.completion_before.isoformat()} -> {c.completion_after.isoformat()}, "
             f"{c.impact} {series.unit}. Sum of impacts alone: {series.sum_of_individual}; "
             f"difference (non-additivity): {series.non_additivity}."
         )
         return
     if ids is None:
-        ids = [e.id for e in cf.events if e.fragnet or e.activities]
+        ids = [e.id for e in cf.events]
         if not ids:
-            raise click.ClickException("no event with a fragnet or with activities it hit")
+            raise click.ClickException("the casefile has no event")
     results = [time_impact(cf, e, into=into, progress_to_event=progress_to_event) for e in ids]
     _warn(w for r in results for w in r.warnings)
     emit_xlsx([t for r in results for t in (milestones_table(r), float_table(r))], cf)
@@ -152,7 +193,7 @@ def but_for_command(
         raise click.UsageError("choose --party or --event, not both")
     cf = load(casefile)
     report = but_for(cf, party=party, event=event, snapshot_id=snapshot_id)
-    _warn(report.as_built.warnings)
+    _warn([*report.as_built.warnings, *(w for c in report.cases for w in c.warnings)])
     emit_xlsx([but_for_table(report), as_built_table(report)], cf)
     if as_json:
         emit(dumps_json(but_for_json(report)))
@@ -169,3 +210,8 @@ def but_for_command(
     emit(to_text(as_built_table(report)))
     click.echo("\nBut-for cases")
     emit(to_text(but_for_table(report)))
+    for e in b.events:
+        if e.how == "not-represented":
+            click.echo(f"{e.event} not represented: {e.why}")
+    if report.overlap is not None:
+        click.echo(f"\nOverlap: {report.overlap}. {report.overlap_note}")

@@ -71,6 +71,10 @@ def _case_words(ctx: ReportContext, case: Any) -> str:
     if case.label == "all owner delays":
         owners = [p.name for p in ctx.casefile.parties.values() if p.role == "owner"]
         return f"every owner delay together, those of {join_words(owners)}"
+    if case.label == "all events":
+        return "every recorded event together"
+    if case.label == "all excusable events":
+        return "every excusable event together"
     return case.label
 
 
@@ -105,6 +109,7 @@ def but_for(ctx: ReportContext, section: Section) -> list[Flowable]:
         out += paragraphs(text_or_none(ctx, section, "warnings", built))
     if not rep.cases:
         return out + paragraphs(text_or_none(ctx, section, "none"))
+    reps = {e.event: e for e in b.events}
     for c in rep.cases:
         fields = dict(
             case=_case_words(ctx, c), events=join_words(list(c.removed)), event_titles=_event_words(ctx, c.removed),
@@ -112,6 +117,7 @@ def but_for(ctx: ReportContext, section: Section) -> list[Flowable]:
             as_built_completion=long_date(c.as_built_completion), but_for_completion=long_date(c.but_for_completion),
             days=abs(c.difference), days_unit=unit_words(_unit_key(c.unit), c.difference),
             not_represented=join_words(list(c.not_represented)), source=b.source,
+            why="; ".join(f"{e}: {reps[e].why}" for e in c.not_represented if e in reps),
         )
         key = "earlier" if c.difference > 0 else "later" if c.difference < 0 else "unchanged"
         text = section.texts.get(key)
@@ -119,6 +125,16 @@ def but_for(ctx: ReportContext, section: Section) -> list[Flowable]:
             out += paragraphs(fill(text, {**common_fields(ctx), **fields}, _where(ctx, section, key)))
         if c.not_represented:
             out += paragraphs(text_or_none(ctx, section, "not_represented", fields))
+        if c.warnings:
+            out += paragraphs(text_or_none(ctx, section, "below_baseline", fields))
+    if rep.overlap is not None:
+        every = next(c for c in rep.cases if c.label == "all events")
+        singles = sum(c.difference for c in rep.cases if case_party(ctx, c) is not None)
+        ukey = _unit_key(every.unit)
+        fields = dict(sum=singles, sum_unit=unit_words(ukey, singles), all_events=every.difference,
+                      all_events_unit=unit_words(ukey, every.difference), overlap=rep.overlap,
+                      overlap_unit=unit_words(ukey, rep.overlap))
+        out += paragraphs(text_or_none(ctx, section, "overlap" if rep.overlap > 0 else "no_overlap", fields))
     if section.options["table"]:
         unit = rep.cases[0].unit
         cols = (_col(section, "case", "Delays removed"), _col(section, "events", "Events"),
@@ -131,8 +147,9 @@ def but_for(ctx: ReportContext, section: Section) -> list[Flowable]:
     if section.options["notes"]:
         lead = paragraphs(text_or_none(ctx, section, "notes_intro"))
         how = {"fragnet": _col(section, "fragnet", "its fragnet's activities, deleted"),
-               "hold-up": _col(section, "hold_up", "days held up, taken off the work"),
-               "none": _col(section, "none", "not represented")}
+               "days-lost": _col(section, "days_lost", "days stated lost, taken off the work"),
+               "estimated": _col(section, "estimated", "days estimated from the record, taken off the work"),
+               "not-represented": _col(section, "none", "not represented")}
         cols = (_col(section, "event", "Event"), _col(section, "party", "Party"),
                 _col(section, "represented", "Represented as"), _col(section, "activities", "Activities (working days)"))
         body = []

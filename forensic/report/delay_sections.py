@@ -273,6 +273,21 @@ def ledger(ctx: ReportContext, section: Section) -> list[Flowable]:
     return out
 
 
+def represented_words(reps: Any) -> str:
+    """How events are represented, in words: their fragnet, or the working days stated or estimated."""
+    out = []
+    for x in reps:
+        if x.how == "fragnet":
+            out.append("its fragnet")
+        elif x.how == "not-represented":
+            out.append("nothing (not represented)")
+        else:
+            what = "stated lost in the events register" if x.how == "days-lost" else "estimated from the record"
+            days = ", ".join(f"{a} {n}" for a, n in x.days)
+            out.append(f"the working days {what} ({days})")
+    return join_words(out)
+
+
 def time_impact(ctx: ReportContext, section: Section) -> list[Flowable]:
     series = ctx.impacts
     cf = ctx.casefile
@@ -291,8 +306,14 @@ def time_impact(ctx: ReportContext, section: Section) -> list[Flowable]:
             days=abs(r.impact), days_unit=unit_words(unit, r.impact), inserted=len(r.inserted),
             path=_ids_words(ctx, [a for a in r.critical_path if a in cf.snapshot(r.into).activities][:4], r.into),
             reference=(ev.reference or "no reference") if ev else "",
+            represented=represented_words(r.represented), why="; ".join(x.why for x in r.represented),
         )
+        # Nothing inserted, or nothing the record shows it cost: say so and why, never that float absorbed it.
         key = "delayed" if r.impact > 0 else "no_delay"
+        if r.represented and all(x.how == "not-represented" for x in r.represented):
+            key = "not_represented" if "not_represented" in section.texts else key
+        elif r.represented and all(x.how != "fragnet" and x.total == 0 for x in r.represented):
+            key = "no_cost" if "no_cost" in section.texts else key
         out += _paras(fill(section.texts[key], fields, _where(ctx, section, key)))
     if section.options["table"]:
         cols = (_col(section, "event", "Event"), _col(section, "title", "Title"), _col(section, "into", "Into"),

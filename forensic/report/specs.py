@@ -68,7 +68,7 @@ _LEDGER = (
 )
 _IMPACT = (
     *COMMON, "event", "title", "party", "category", "into", "completion_before", "completion_after",
-    "days", "days_unit", "inserted", "path", "reference",
+    "days", "days_unit", "inserted", "path", "reference", "represented", "why",
 )
 _RECOVERY = (
     *COMMON, "snapshot", "data_date", "asked", "asked_unit", "target", "current_completion", "completion",
@@ -82,8 +82,9 @@ _CRITICAL_NOTE = (*COMMON, "snapshot", "critical", "critical_float", "path_count
 _AS_BUILT = (*COMMON, "source", "data_date", "completion", "pins", "pin_list", "relinked", "relinked_list", "warnings")
 _BUTFOR = (
     *COMMON, "case", "events", "event_titles", "count", "as_built_completion", "but_for_completion", "days", "days_unit",
-    "not_represented", "source",
+    "not_represented", "source", "why",
 )
+_OVERLAP = (*COMMON, "sum", "sum_unit", "all_events", "all_events_unit", "overlap", "overlap_unit")
 _ASPLANNED = (
     *COMMON, "snapshot", "data_date", "compared", "finished", "in_progress", "not_started", "added", "deleted",
     "late", "early", "on_time", "worst", "worst_name", "worst_days", "completion_id", "completion_name",
@@ -276,6 +277,8 @@ SPECS: dict[str, SectionSpec] = {
             optional_texts={
                 "intro": COMMON,
                 "cumulative": (*COMMON, "into", "impact", "impact_unit", "sum", "sum_unit", "non_additivity", "events"),
+                "not_represented": _IMPACT,
+                "no_cost": _IMPACT,
                 "none": COMMON,
             },
             options={"table": OptionSpec(bool, True)},
@@ -297,13 +300,15 @@ SPECS: dict[str, SectionSpec] = {
             optional_texts={
                 "intro": COMMON, "as_built": _AS_BUILT, "pins": _AS_BUILT, "relinked": _AS_BUILT,
                 "warnings": _AS_BUILT, "later": _BUTFOR, "not_represented": _BUTFOR, "notes_intro": COMMON,
+                "overlap": _OVERLAP, "no_overlap": _OVERLAP, "below_baseline": _BUTFOR,
                 "none": COMMON,
             },
             options={"table": OptionSpec(bool, True), "notes": OptionSpec(bool, True)},
             protocol=(
                 "Modelled / subtractive / single simulation: but-for analysis on the collapsed as-built "
-                "schedule, each party's delays removed alone and all owner delays together (AACE RP 29R-03, "
-                "MIP 3.8; SCL Delay and Disruption Protocol 2nd ed., collapsed as-built)"
+                "schedule, each party's delays removed alone, all owner delays, all events and all excusable "
+                "events together (AACE RP 29R-03, MIP 3.8; SCL Delay and Disruption Protocol 2nd ed., collapsed "
+                "as-built)"
             ),
         ),
         SectionSpec(
