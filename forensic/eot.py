@@ -41,7 +41,7 @@ from .butfor import but_for
 from .concurrency import CONCURRENT
 from .contributors import UNASSIGNED
 from .errors import NotFoundError
-from .impact import time_impacts
+from .impact import time_impact_series, time_impacts
 from .model import Casefile, frozen_mapping
 from .tables import Table
 
@@ -183,31 +183,45 @@ def windows_by_event(delay: DelayAnalysis) -> tuple[dict[str, int], dict[str, in
 
 
 def _impact_alone(casefile: Casefile) -> dict[str, tuple[int | None, str, str]]:
-    """Each event's time impact alone: (days, represented as, reason)."""
+    """Each event's time impact alone, into its own unimpacted update: (days, represented as, reason)."""
+    series = time_impacts(casefile, [e.id for e in casefile.events])
     out: dict[str, tuple[int | None, str, str]] = {}
-    modelled = [e.id for e in casefile.events if e.fragnet or e.activities]
-    series = time_impacts(casefile, modelled) if modelled else None
-    found = {r.event: r for r in series.individual} if series else {}
-    for e in casefile.events:
-        r = found.get(e.id)
-        if r is None:
-            out[e.id] = (None, "not-represented", "the event has no fragnet and names no activity it hit")
-            continue
-        how = "fragnet" if e.fragnet else "activities-held"
-        out[e.id] = (r.impact, how, f"inserted into {r.into}, its unimpacted update")
+    for r in series.individual:
+        how = r.represented_as
+        if how == "not-represented":
+            why = "; ".join(rep.why for rep in r.represented if rep.why) or "nothing can be inserted for it"
+            out[r.event] = (None, how, why)
+        else:
+            out[r.event] = (r.impact, how, f"inserted alone into {r.into}, its unimpacted update, as {how}")
     return out
 
 
+def _impact_series(casefile: Casefile) -> tuple[dict[str, tuple[int | None, str, str]], Any]:
+    """Each event's step in the contemporaneous series (AACE RP 29R-03, MIP 3.7), and the series."""
+    series = time_impact_series(casefile)
+    out: dict[str, tuple[int | None, str, str]] = {}
+    for st in series.steps:
+        if st.represented_as == "not-represented":
+            out[st.event] = (None, st.represented_as, f"nothing could be inserted into {st.into} for it")
+        else:
+            carried = " (the impacted result of the step before, carried forward)" if st.carried else ""
+            out[st.event] = (st.impact, st.represented_as, f"inserted into {st.into}{carried}")
+    return out, series
+
+
 def _but_for_each(casefile: Casefile) -> dict[str, tuple[int | None, str, str]]:
-    """Each event's own but-for case: (days, represented as, reason)."""
+    """Each event's own but-for case, removed from the latest as-built schedule: (days, represented as, reason)."""
     out: dict[str, tuple[int | None, str, str]] = {}
     for e in casefile.events:
-        case = but_for(casefile, event=e.id).cases[0]
-        if e.id in case.not_represented:
-            out[e.id] = (None, "not-represented", "the as-built record holds nothing the event can be taken out of")
+        report = but_for(casefile, event=e.id)
+        case = report.cases[0]
+        rep = next((d for d in report.as_built.events if d.event == e.id), None)
+        how = rep.how if rep is not None else "not-represented"
+        if e.id in case.not_represented or how == "not-represented":
+            why = (rep.why if rep is not None and rep.why else "the as-built record holds nothing the event can be taken out of")
+            out[e.id] = (None, "not-represented", why)
             continue
-        out[e.id] = (case.difference, "fragnet" if e.fragnet else "activities-held",
-                     f"removed from the as-built schedule of {casefile.snapshots[-1].id}")
+        out[e.id] = (case.difference, how, f"removed from the as-built schedule of {report.as_built.source}")
     return out
 
 
@@ -363,17 +377,20 @@ def delay_summary(
     own, shared, rest = windows_by_event(delay)
     step("time impact of each event")
     impacts = _impact_alone(casefile)
+    step("time impact series")
+    in_series, series = _impact_series(casefile)
     step("but-for case of each event")
     butfor = _but_for_each(casefile)
     events = []
     for e in casefile.events:
         w = own.get(e.id, 0)
         imp, imp_how, imp_why = impacts[e.id]
+        ser, ser_how, ser_why = in_series.get(e.id, (None, "not-represented", "not in the series"))
         bf, bf_how, bf_why = butfor[e.id]
-        days = {"windows": w, "impact": imp, "impact_series": None, "but_for": bf}
-        how = {"windows": "observed", "impact": imp_how, "impact_series": "not-represented", "but_for": bf_how}
-        why = {"windows": "its share of the windows ledger", "impact": imp_why,
-               "impact_series": "not computed in this version", "but_for": bf_why}
+        days = {"windows": w, "impact": imp, "impact_series": ser, "but_for": bf}
+        how = {"windows": "observed", "impact": imp_how, "impact_series": ser_how, "but_for": bf_how}
+        why = {"windows": "its share of the windows ledger", "impact": imp_why, "impact_series": ser_why,
+               "but_for": bf_why}
         excusable = w if e.category in EXCUSABLE else 0
         compensable = w if e.category == "excusable-compensable" else 0
         events.append(EventSummary(
@@ -395,8 +412,9 @@ def delay_summary(
     if from_events + sum(rest.values()) != slip:  # the ledger's own balance, checked again per event
         msg = f"internal check: events {from_events} + not from events {sum(rest.values())} != slip {slip}"
         raise AssertionError(msg)
-    into = {e: why.split("into ", 1)[1].split(",")[0] for e, (_, _, why) in impacts.items() if "into " in why}
-    pairs = [("windows", "impact"), ("windows", "but_for"), ("impact", "but_for")]
+    into = {e: why.split("into ", 1)[1].split(",")[0] for e, (_, _, why) in impacts.items() if "alone into " in why}
+    pairs = [("windows", "impact"), ("windows", "impact_series"), ("windows", "but_for"), ("impact", "impact_series"),
+             ("impact", "but_for")]
     recon = tuple(_reconcile(events, a, b, into, rest["concurrent"]) for a, b in pairs)
     tolerance = max(2, round(abs(slip) * 0.1))
     sens = _sensitivity(casefile, delay, tolerance, step) if sensitivity else ()

@@ -35,6 +35,10 @@ def _two_events():
       inside its 10 days of float: 0;
     - but-for: taking EV1's 3 days out of A's as-built 13 gives back 3;
       taking EV2's 2 days out of B moves nothing.
+    - time impact in series: EV2 (day 1) goes into BL first, 0; EV1 (day 3)
+      into the same update, carried forward, 3.
+    Each event is estimated from the record: A's overrun of 3 days lies
+    inside EV1's 3-day period, B's 2 days inside EV2's 2 days.
     The methods agree, so each reconciliation difference is 0.
     """
     bl = snap("BL", day(0), [task("A", 10), task("B", 5), task("C", 5), ms()],
@@ -58,6 +62,8 @@ def test_hand_worked_two_events_by_every_method():
     assert s.completion["slip"] == 3
     assert (by["EV1"].days["windows"], by["EV1"].days["impact"], by["EV1"].days["but_for"]) == (3, 3, 3)
     assert (by["EV2"].days["windows"], by["EV2"].days["impact"], by["EV2"].days["but_for"]) == (0, 0, 0)
+    assert (by["EV1"].days["impact_series"], by["EV2"].days["impact_series"]) == (3, 0)
+    assert by["EV1"].represented_as["impact"] == by["EV1"].represented_as["but_for"] == "estimated"
     assert (by["EV1"].excusable, by["EV1"].compensable, by["EV1"].concurrent) == (3, 3, 0)
     assert (by["EV2"].excusable, by["EV2"].compensable) == (0, 0)
     assert s.methods["windows"].excusable_compensable == 3 and s.methods["windows"].total == 3
@@ -156,7 +162,21 @@ def test_report_carries_the_per_event_table_and_the_reconciliation(demo_summary)
     text = " ".join(" ".join(p.extract_text().split()) for p in PdfReader(io.BytesIO(pdf)).pages)
     assert "Delay per event by every method" in text and "Reconciliation of methods" in text
     assert f"Not from events {sum(demo_summary.not_from_events.values())}" in text
-    words = {"windows": "windows", "impact": "time impact alone", "but_for": "but-for"}
+    words = {"windows": "windows", "impact": "time impact alone", "impact_series": "time impact in series",
+             "but_for": "but-for"}
     for r in demo_summary.reconciliation:
         a, b = (words[m] for m in r.methods)
         assert f"The {a} and the {b} differ by {r.difference} calendar days" in text
+
+
+def test_demo_events_without_anything_to_insert_are_null_with_a_reason(demo_summary):
+    """EV10 and EV11 (re-plans with no fragnet, no days_lost and no overrun to estimate) are not represented."""
+    by = {e.event: e for e in demo_summary.events}
+    for eid in ("EV10", "EV11"):
+        for m in ("impact", "impact_series", "but_for"):
+            assert by[eid].days[m] is None and by[eid].represented_as[m] == "not-represented"
+            assert by[eid].reasons[m]
+    # The windows analysis still observes EV11's re-plan: 14 calendar days (the demo's story).
+    assert by["EV11"].days["windows"] == 14
+    # A fragnet event keeps its fragnet figure: EV03 (CO-01) adds 7 alone (forensic impact --event EV03).
+    assert by["EV03"].represented_as["impact"] == "fragnet" and by["EV03"].days["impact"] == 7
