@@ -881,11 +881,16 @@ def milestones_table(result: ImpactResult) -> Table:
 
 
 def float_table(result: ImpactResult) -> Table:
-    """Total float consumed on the paths the event touched (working days of each activity's calendar)."""
+    """Total float consumed or gained on the paths the event touched (working days of each activity's calendar).
+
+    ``consumed`` is the float used up (0 when the activity gained float) and
+    ``gained`` the float won (0 when it lost), so that a gain reads as a gain
+    and never as a negative consumption.
+    """
     return Table(
         f"impact-{result.event}-float",
-        ("id", "name", "float_before", "float_after", "consumed"),
-        tuple((c.id, c.name, c.before, c.after, c.consumed) for c in result.float_consumed),
+        ("id", "name", "float_before", "float_after", "consumed", "gained"),
+        tuple((c.id, c.name, c.before, c.after, max(0, c.consumed), max(0, -c.consumed)) for c in result.float_consumed),
     )
 
 

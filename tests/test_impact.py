@@ -394,7 +394,7 @@ def test_json_keys_are_the_contract():
     assert sj["non_additivity"] == 4 and len(sj["individual"]) == 2
     assert [s["impact"] for s in sj["cumulative"]["steps"]] == [6, 0]
     assert series_table(series).rows[1][3:5] == (4, 0)
-    assert float_table(r).columns[-1] == "consumed"
+    assert float_table(r).columns[-2:] == ("consumed", "gained")
 
 
 def test_event_may_name_its_fragnet_by_folder_path_or_name():
@@ -505,3 +505,19 @@ def test_cumulative_names_its_update_and_warns_of_events_after_later_updates():
     assert "cumulative into BL" in warning and "E2 (its own update U1)" in warning and "E3" in warning
     assert "E1 (" not in warning and "impacted as-planned" in warning
     assert series_json(series)["warnings"] == [warning] and series_json(series)["into"] == "BL"
+
+
+def test_float_table_shows_gains_as_gains_not_negative_consumption():
+    """Every row's consumed and gained are >= 0 and their difference is the float change (demo, every event)."""
+    from forensic.casefile import load_casefile
+    from forensic.demo import demo_source
+    from forensic.impact import time_impacts
+
+    cf = load_casefile(demo_source())
+    rows = [(row, c) for r in time_impacts(cf, [e.id for e in cf.events]).individual
+            for row, c in zip(float_table(r).rows, r.float_consumed, strict=True)]
+    assert rows
+    for row, c in rows:
+        consumed, gained = row[-2], row[-1]
+        assert consumed >= 0 and gained >= 0 and consumed - gained == c.before - c.after
+    assert any(row[-1] > 0 for row, _ in rows)  # the demo has gains (EV02, EV03, EV05, EV09: e.g. SITE-090)

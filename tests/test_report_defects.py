@@ -130,3 +130,26 @@ def test_monthly_brief_lists_a_key_date_forecast_late(monthly_text):
     assert ("Key dates late or losing float this month: River terrace complete (M-RIV), forecast 6 April 2027, "
             "total float -6 working days: 12 calendar days after its key date of 25 March 2027 and 3 working days "
             "of float lost since U09.") in monthly_text
+
+
+def test_plurals_and_lists_read_as_written(demo):
+    """One event is "event EV07", several "events EV01 and EV03"; a case is named without repeating itself."""
+    text = " ".join(_pages(build_report(demo, "full", recover_days=10)))
+    assert "(event EV07)" in text and "(events EV07)" not in text
+    assert "(events EV01 and EV03)" in text
+    assert "every owner delay together, those of" not in text
+    assert "But for the delays of all owner parties together (Merrowby Town Council (employer))" in text
+    assert " 1 activities" not in text
+
+
+def test_cumulative_impact_sentence_names_the_base_schedules(demo):
+    """The cumulative difference is not only float and overlap: the events alone went into different updates."""
+    from forensic.impact import time_impacts
+
+    series = time_impacts(demo)
+    bases = sorted({r.into for r in series.individual})
+    assert len(bases) > 1  # the demo's events start in different months
+    text = " ".join(_pages(build_report(demo, "full")))
+    words = ", ".join(bases[:-1]) + " and " + bases[-1]
+    assert f"Each event alone went into its own unimpacted update ({words})" in text
+    assert "change of base schedule between those updates" in text

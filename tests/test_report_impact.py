@@ -46,7 +46,7 @@ def test_estimated_events_state_the_days_inserted(text):
 
 def test_but_for_reports_the_combined_cases_and_the_float_ownership_sentence(text):
     """The all-events and all-excusable cases are printed, with the overlap sentence (SCL Protocol 2nd ed.)."""
-    assert "every recorded event together" in text and "every excusable event together" in text
+    assert "all recorded events together" in text and "all excusable events together" in text
     # Demo (story.toml): single parties 9 + 2 + 0 + 0 = 11 against 36 for all events, no overlap.
     assert "The single-party cases add up to 11 calendar days, no more than the 36 calendar days" in text
     assert "who owns the float" in text

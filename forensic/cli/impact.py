@@ -50,7 +50,7 @@ def _impact_text(r: ImpactResult) -> str:
         lines.append(f"{h.activity} extended by {h.days} working days ({how})")
     out = "\n".join(lines) + "\n\nMilestones\n" + to_text(milestones_table(r))
     if r.float_consumed:
-        out += "\nTotal float consumed on the paths touched (working days)\n" + to_text(float_table(r))
+        out += "\nTotal float consumed or gained on the paths touched (working days)\n" + to_text(float_table(r))
     out += f"\nLongest path after ({len(r.critical_path)} activities): " + " -> ".join(r.critical_path) + "\n"
     return out
 

@@ -70,12 +70,18 @@ def _case_words(ctx: ReportContext, case: Any) -> str:
         return party_words(ctx.casefile, pid)
     if case.label == "all owner delays":
         owners = [p.name for p in ctx.casefile.parties.values() if p.role == "owner"]
-        return f"every owner delay together, those of {join_words(owners)}"
+        return f"all owner parties together ({join_words(owners)})"
     if case.label == "all events":
-        return "every recorded event together"
+        return "all recorded events together"
     if case.label == "all excusable events":
-        return "every excusable event together"
+        return "all excusable events together"
     return case.label
+
+
+def events_words(ids: Any) -> str:
+    """``event EV07``, ``events EV01 and EV03``: ids with the noun in the right number."""
+    ids = list(ids)
+    return ("event " if len(ids) == 1 else "events ") + join_words(ids, "none")
 
 
 def _event_words(ctx: ReportContext, ids: Any) -> str:
@@ -112,7 +118,8 @@ def but_for(ctx: ReportContext, section: Section) -> list[Flowable]:
     reps = {e.event: e for e in b.events}
     for c in rep.cases:
         fields = dict(
-            case=_case_words(ctx, c), events=join_words(list(c.removed)), event_titles=_event_words(ctx, c.removed),
+            case=_case_words(ctx, c), events=join_words(list(c.removed)), events_words=events_words(c.removed),
+            event_titles=_event_words(ctx, c.removed),
             count=len(c.removed),
             as_built_completion=long_date(c.as_built_completion), but_for_completion=long_date(c.but_for_completion),
             days=abs(c.difference), days_unit=unit_words(_unit_key(c.unit), c.difference),

@@ -21,6 +21,7 @@ from .narrative import (
     ReportContext,
     activity_name,
     common_fields,
+    count_words,
     days_words,
     join_words,
     long_date,
@@ -328,6 +329,7 @@ def time_impact(ctx: ReportContext, section: Section) -> list[Flowable]:
         into=c.into, impact=abs(c.impact), impact_unit=unit_words(unit, c.impact),
         sum=abs(series.sum_of_individual), sum_unit=unit_words(unit, series.sum_of_individual),
         non_additivity=series.non_additivity, events=join_words([s.event for s in series.steps]),
+        bases=join_words(sorted({r.into for r in series.individual})),
     )
     out += _paras(text_or_none(ctx, section, "cumulative", fields))
     if section.options["table"] and series.steps:
@@ -354,6 +356,7 @@ def acceleration(ctx: ReportContext, section: Section) -> list[Flowable] | None:
         current_completion=long_date(res.current_completion), completion=long_date(plan.completion),
         recovered=recovered, recovered_unit=unit_words(unit, recovered), cost=f"{plan.cost:,.0f}",
         count=len(plan.shortenings),
+        count_activities=count_words(len(plan.shortenings), "activity", "activities"),
         activities=join_words([f"{s.name} ({s.id}) by {s.days} working day{'s' if s.days != 1 else ''}" for s in plan.shortenings]),
         earliest_completion=long_date(res.earliest_completion), max_working_days=res.max_working_days,
     )

@@ -72,7 +72,7 @@ _IMPACT = (
 )
 _RECOVERY = (
     *COMMON, "snapshot", "data_date", "asked", "asked_unit", "target", "current_completion", "completion",
-    "recovered", "recovered_unit", "cost", "count", "activities", "earliest_completion", "max_working_days",
+    "recovered", "recovered_unit", "cost", "count", "count_activities", "activities", "earliest_completion", "max_working_days",
 )
 
 # Why the critical count and the longest path differ (summary and longest-path sections).
@@ -81,7 +81,7 @@ _CRITICAL_NOTE = (*COMMON, "snapshot", "critical", "critical_float", "path_count
 
 _AS_BUILT = (*COMMON, "source", "data_date", "completion", "pins", "pin_list", "relinked", "relinked_list", "warnings")
 _BUTFOR = (
-    *COMMON, "case", "events", "event_titles", "count", "as_built_completion", "but_for_completion", "days", "days_unit",
+    *COMMON, "case", "events", "events_words", "event_titles", "count", "as_built_completion", "but_for_completion", "days", "days_unit",
     "not_represented", "source", "why",
 )
 _OVERLAP = (*COMMON, "sum", "sum_unit", "all_events", "all_events_unit", "overlap", "overlap_unit")
@@ -276,7 +276,8 @@ SPECS: dict[str, SectionSpec] = {
             texts={"delayed": _IMPACT, "no_delay": _IMPACT},
             optional_texts={
                 "intro": COMMON,
-                "cumulative": (*COMMON, "into", "impact", "impact_unit", "sum", "sum_unit", "non_additivity", "events"),
+                "cumulative": (*COMMON, "into", "impact", "impact_unit", "sum", "sum_unit", "non_additivity", "events",
+                               "bases"),
                 "not_represented": _IMPACT,
                 "no_cost": _IMPACT,
                 "none": COMMON,
