@@ -52,9 +52,15 @@ MAX_DURATION = 36_500
 # reads (Unicode TR36, CVE-2021-42574 "Trojan Source"; common practice).
 _UNSAFE = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f\ufeff\u202a-\u202e\u2066-\u2069]")
 
-_ISO_DATE = re.compile(r"^\d{4}-\d{2}-\d{2}$")
-_WHOLE = re.compile(r"^[+-]?\d+$")
-_DECIMAL = re.compile(r"^[+-]?(\d+(\.\d*)?|\.\d+)$")
+# ASCII digits only: ``\d`` and ``int()`` also take full-width and
+# Arabic-Indic digits, which would read "１０" as 10 without a word.
+_ISO_DATE = re.compile(r"^[0-9]{4}-[0-9]{2}-[0-9]{2}$")
+_WHOLE = re.compile(r"^[+-]?[0-9]+$")
+_DECIMAL = re.compile(r"^[+-]?([0-9]+(\.[0-9]*)?|\.[0-9]+)$")
+_NOT_ASCII_DIGIT = re.compile(r"[^\x00-\x7f]")
+# More digits than this is no duration (and Python refuses to convert an
+# integer string of over 4,300 digits): refused before int() sees it.
+_MAX_DIGITS = 15
 
 
 def find_unsafe_char(text: str) -> tuple[int, str] | None:
@@ -293,7 +299,15 @@ def parse_int(
 ) -> int | None:
     """A whole number in ``[minimum, maximum]`` (no fractions, no exponents, no NaN)."""
     if not _WHOLE.match(raw):
-        problems.add(rel, line, key, raw, f"expected {what} (a whole number)")
+        if any(c.isdigit() for c in raw) and _NOT_ASCII_DIGIT.search(raw):
+            problems.add(rel, line, key, raw, f"expected {what} in the digits 0-9 (a whole number)")
+        else:
+            problems.add(rel, line, key, raw, f"expected {what} (a whole number)")
+        return None
+    if len(raw.lstrip("+-").lstrip("0")) > _MAX_DIGITS:
+        bound = f"at most {maximum}" if minimum is not None else f"between {-maximum} and {maximum}"
+        problems.add(rel, line, key, raw, f"expected {what} of {bound} (the number has "
+                     f"{len(raw.lstrip('+-'))} digits)")
         return None
     value = int(raw)
     lo = -maximum if minimum is None else minimum
@@ -318,7 +332,7 @@ def parse_number(
 ) -> float | None:
     """A finite decimal number in ``[minimum, maximum]`` (no NaN, no infinity, no exponent)."""
     if not _DECIMAL.match(raw):
-        problems.add(rel, line, key, raw, "expected a decimal number such as 12.5")
+        problems.add(rel, line, key, raw, "expected a decimal number such as 12.5 (digits 0-9)")
         return None
     value = float(raw)
     if not (minimum <= value <= maximum) or not math.isfinite(value):

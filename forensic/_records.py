@@ -17,7 +17,7 @@ import networkx as nx
 
 from ._csvread import MAX_DURATION, Problems, Row, parse_date, parse_int, parse_number
 from .engine import topological_order
-from .errors import LogicLoopError
+from .errors import LOOP_SHOWN, LOOP_WHOLE, LogicLoopError, loop_text
 from .model import (
     ACTIVITY_KINDS,
     CATEGORIES,
@@ -329,10 +329,17 @@ def check_loops(ids: list[str], links: list[Link], rel: str, problems: Problems)
         cycle = nx.find_cycle(graph.subgraph(comp))
         loop = [u for u, _ in cycle]
         lines = [line_of[(u, v)] for u, v in cycle]
-        shown = " -> ".join([*loop, loop[0]])
-        problems.add(rel, min(lines), None, shown,
-                     f"logic loop through the links on lines {', '.join(map(str, lines))}; "
+        problems.add(rel, min(lines), None, loop_text(loop),
+                     f"logic loop through the links on lines {_lines_text(lines)}; "
                      "a loop has no schedule, break one of its links")
+
+
+def _lines_text(lines: list[int]) -> str:
+    """Line numbers as ``3, 4, 5``; a long list as its first and last few and the count."""
+    if len(lines) <= LOOP_WHOLE:
+        return ", ".join(map(str, lines))
+    return (f"{', '.join(map(str, lines[:LOOP_SHOWN]))}, ... ({len(lines) - 2 * LOOP_SHOWN} more) ..., "
+            f"{', '.join(map(str, lines[-LOOP_SHOWN:]))}")
 
 
 def _has_loop(ids: list[str], links: list[Link]) -> bool:
@@ -384,12 +391,12 @@ def check_fragnet_loops(
                 if len(comp) > 1 and comp & own:
                     cycle = nx.find_cycle(graph.subgraph(comp))
                     loop = [u for u, _ in cycle]
-                    found = (" -> ".join([*loop, loop[0]]), sorted(mine[e] for e in cycle if e in mine))
+                    found = (loop_text(loop), sorted(mine[e] for e in cycle if e in mine))
                     break
     if found is not None:
         shown, lines = found
         problems.add(rel, lines[0] if lines else None, None, shown,
-                     f"the fragnet's links (lines {', '.join(map(str, lines))}) close a logic loop with "
+                     f"the fragnet's links (lines {_lines_text(lines)}) close a logic loop with "
                      f"the links of snapshot {', '.join(where)}; a loop has no schedule, break one of them")
 
 
@@ -446,8 +453,9 @@ def read_events(
         if fragnet is not None and fragnet in unreadable:
             continue  # its files' problems are reported; the rest of the row waits for them
         if fragnet is not None and fragnet not in fragnets:
+            hint = "; a folder whose name starts with a dot is ignored" if fragnet.startswith(".") else ""
             problems.add(rel, line, "fragnet", fragnet,
-                         f"no such fragnet folder under fragnets/; found {', '.join(fragnets) or 'none'}")
+                         f"no such fragnet folder under fragnets/; found {', '.join(fragnets) or 'none'}{hint}")
         hit = tuple(row.get("activities").split())
         own = fragnets.get(fragnet, ()) if fragnet else ()
         for aid in hit:

@@ -54,7 +54,7 @@ from ._records import (
     read_links,
 )
 from .calendars import DAY_NAMES
-from .errors import CasefileError, LimitExceeded
+from .errors import CasefileError, LimitExceeded, printable
 from .model import (
     PARTY_ROLES,
     Calendar,
@@ -166,6 +166,9 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None)
     except RecursionError:  # arrays or tables nested thousands deep: hostile, not a manifest
         problems.add(MANIFEST, None, None, None, "not valid TOML: nested too deeply")
         _raise(problems)
+    except ValueError as exc:  # an integer of over 4,300 digits (Python's int-string limit)
+        problems.add(MANIFEST, None, None, None, f"not valid TOML: a value cannot be read ({exc})")
+        _raise(problems)
     m = _Manifest(doc, root, problems)
     ctx = {"calendars": tuple(m.calendars), "parties": tuple(m.parties),
            "problems": problems, "warnings": warnings, "memo": {}}
@@ -255,12 +258,28 @@ def _read_fragnets(root: Path, limits: Limits, hashes, snapshot_ids: set[str], s
     folder = root / "fragnets"
     fragnets: dict[str, Fragnet] = {}
     unreadable: set[str] = set()
-    if not folder.exists():
+    if not folder.exists() and not folder.is_symlink():
         return fragnets, unreadable
     if resolve_inside(root, "fragnets", problems, "fragnets", "fragnets") is None:
         return fragnets, unreadable
-    for sub in sorted(p for p in folder.iterdir() if p.is_dir() and not p.name.startswith(".")):
+    if not folder.is_dir():
+        problems.add("fragnets", None, None, None,
+                     "is a file, expected a folder holding one sub-folder per fragnet")
+        return fragnets, _Everything()  # the events' fragnets are echoes of this problem
+    subs = sorted(p for p in folder.iterdir() if p.is_dir())
+    for sub in subs:
         name = sub.name
+        if name.startswith("."):
+            # Hidden folders (.git, editor backups) are not fragnets; say so,
+            # since an event naming one would otherwise find it missing.
+            ctx["warnings"].append(f"fragnets/{printable(name)}: a folder whose name starts with a dot is ignored, "
+                                   "not read as a fragnet")
+            continue
+        bad = find_unsafe_char(name)
+        if bad is not None:
+            problems.add(f"fragnets/{name}", None, None, bad[1],
+                         "a fragnet folder name may not contain control or text-direction characters")
+            continue
         unreadable.add(name)  # until it is read whole
         found = {}
         for what in ("activities", "links"):
@@ -296,6 +315,13 @@ def _read_fragnets(root: Path, limits: Limits, hashes, snapshot_ids: set[str], s
                                  frozen_mapping({"activities": rel, "links": lrel}))
         unreadable.discard(name)
     return fragnets, unreadable
+
+
+class _Everything(set):
+    """A set that holds every name (every fragnet is unreadable when ``fragnets`` is not a folder)."""
+
+    def __contains__(self, item) -> bool:
+        return True
 
 
 class _Manifest:

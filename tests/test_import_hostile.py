@@ -146,6 +146,15 @@ def unknown_encoding(f: Path) -> None:
     _replace(f, "mapping.toml", "hours_per_day = 8", 'hours_per_day = 8\nencoding = "utf-99"')
 
 
+def rot13_encoding(f: Path) -> None:
+    # rot13 is a codec (codecs.lookup finds it) but maps str to str, not bytes to text
+    _replace(f, "mapping.toml", "hours_per_day = 8", 'hours_per_day = 8\nencoding = "rot13"')
+
+
+def base64_encoding(f: Path) -> None:
+    _replace(f, "mapping.toml", "hours_per_day = 8", 'hours_per_day = 8\nencoding = "base64"')
+
+
 def long_delimiter(f: Path) -> None:
     _replace(f, "mapping.toml", "hours_per_day = 8", 'hours_per_day = 8\ndelimiter = ";;"')
 
@@ -210,6 +219,10 @@ CASES = [
     Case("hours-per-day-as-text", hours_per_day_as_text,
          ("mapping.toml, values.hours_per_day", "expected a number of hours", "(value: '8')")),
     Case("unknown-encoding", unknown_encoding, ("mapping.toml, values.encoding", "(value: 'utf-99')")),
+    Case("rot13-encoding", rot13_encoding,
+         ("mapping.toml, values.encoding", "expected a text encoding", "(value: 'rot13')")),
+    Case("base64-encoding", base64_encoding,
+         ("mapping.toml, values.encoding", "expected a text encoding", "(value: 'base64')")),
     Case("long-delimiter", long_delimiter, ("mapping.toml, values.delimiter", "one character", "(value: ';;')")),
     Case("snapshot-id-climbing-out", snapshot_id_climbing_out,
          ("mapping.toml, snapshot ../../escaped.id", "names a casefile folder", "(value: '../../escaped')")),

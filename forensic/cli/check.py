@@ -6,6 +6,7 @@ from pathlib import Path
 
 import click
 
+from ..errors import printable
 from ..model import Casefile
 from ..quality import QualityCheck, assess_casefile, quality_json, quality_table
 from ..tables import Table, dumps_json, to_csv, to_text
@@ -70,7 +71,7 @@ def check(casefile: Path, quality: bool, snapshot_ids: tuple[str, ...], as_json:
     if result.warnings:
         click.echo(f"{len(result.warnings)} warning(s):", err=True)
         for w in result.warnings:
-            click.echo(f"  warning: {w}", err=True)
+            click.echo(f"  warning: {printable(w)}", err=True)
 
 
 def _limit(c: QualityCheck) -> str:
