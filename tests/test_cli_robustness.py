@@ -93,3 +93,52 @@ def test_a_dot_folder_in_fragnets_is_reported_as_ignored(tmp_path):
     assert result.exit_code == 1
     assert "events.csv, line 3, fragnet: no such fragnet folder under fragnets/; found EV02; a folder whose " \
            "name starts with a dot is ignored (value: '..V3')" in result.output
+
+
+def _pdf_text(path: Path) -> str:
+    from pypdf import PdfReader
+
+    return "\n".join(page.extract_text() or "" for page in PdfReader(str(path)).pages)
+
+
+def test_a_name_of_30000_characters_and_a_word_of_5000_letters_lay_out_with_the_full_text_in_the_appendix(tmp_path):
+    """A table cell is cut at 300 characters with an ellipsis and a note; the appendix prints the whole text.
+
+    Before, a 30,000-character name made one table row some 8,000 points
+    tall, taller than a page (757 points of frame on A4): reportlab's
+    LayoutError, an internal error. The cut is ours (forensic.report.pdf.CELL_CHARS).
+    """
+    root = write_casefile(tmp_path)
+    words = " ".join(f"w{i:05d}" for i in range(5000))[:30000]  # 30,000 characters ending in "w4285"
+    long_word = "Z" * 5000
+    for rel in ("snapshots/BL/activities.csv", "snapshots/U01/activities.csv"):
+        edit(root, rel, "Excavate wet well", words)
+        edit(root, rel, "Pour base slab", f"Pour {long_word} slab")
+    before = tree(root)
+    out = tmp_path / "out" / "r.pdf"
+    out.parent.mkdir()
+    result = CliRunner().invoke(main, ["report", str(root), "--out", str(out)])
+    assert result.exit_code == 0, result.output
+    assert tree(root) == before
+    text = _pdf_text(out)
+    assert "Appendix: full text of shortened entries" in text
+    assert "[full text: note 1]" in text
+    appendix = text[text.rindex("Appendix: full text of shortened entries"):]
+    tokens = appendix.split()
+    assert [t for t in tokens if t.startswith("w0")] == words.split()  # every word of the 30,000, in order
+    assert appendix.count("Z") == 5000  # the long word whole, wrapped over lines
+
+
+def test_a_template_nested_five_thousand_levels_deep_is_refused(tmp_path):
+    """tomllib recurses once a level: 5,000 nested arrays raise RecursionError, now a named refusal."""
+    root = write_casefile(tmp_path)
+    tpl = tmp_path / "deep.toml"
+    tpl.write_text((REPO / "report_templates" / "full.toml").read_text(encoding="utf-8")
+                   + "\nx = " + "[" * 5000 + "]" * 5000 + "\n", encoding="utf-8")
+    before = tree(root)
+    result = CliRunner().invoke(main, ["report", str(root), "--template", str(tpl), "--out", str(tmp_path / "r.pdf")])
+    assert result.exit_code == 1
+    assert result.output.startswith("Error: ") and "internal error" not in result.output
+    assert "deep.toml: not valid TOML (nested too deeply)" in result.output
+    assert not (tmp_path / "r.pdf").exists()
+    assert tree(root) == before
