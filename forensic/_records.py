@@ -15,7 +15,17 @@ from datetime import date
 
 import networkx as nx
 
-from ._csvread import MAX_DURATION, Problems, Row, parse_date, parse_int, parse_number
+from ._csvread import (
+    MAX_DURATION,
+    Problems,
+    Row,
+    check_id,
+    check_text,
+    mixed_scripts,
+    parse_date,
+    parse_int,
+    parse_number,
+)
 from .engine import topological_order
 from .errors import LOOP_SHOWN, LOOP_WHOLE, LogicLoopError, loop_text
 from .model import (
@@ -25,6 +35,7 @@ from .model import (
     DEFAULT_CATEGORY,
     LINK_TYPES,
     Activity,
+    Calendar,
     Event,
     Link,
     Party,
@@ -35,8 +46,11 @@ __all__ = [
     "EVENT_COLUMNS",
     "LINK_COLUMNS",
     "ActivityTable",
+    "MAX_SPAN_DAYS",
+    "MAX_SPAN_YEARS",
     "check_fragnet_loops",
     "check_loops",
+    "check_span",
     "read_activities",
     "read_events",
     "read_links",
@@ -151,9 +165,18 @@ def _moved(a: Activity, line: int) -> Activity:
 def _read_activity(row, rel, calendars, parties, data_date, problems, warnings) -> Activity | None:
     line = row.line
     aid = _required(row, "id", rel, problems)
-    if aid is not None and _BLANK.search(aid):
-        problems.add(rel, line, "id", aid, "an activity id may not contain blanks (events list ids separated by blanks)")
+    if aid is not None and check_id(aid, rel, line, "id", problems):
+        if _BLANK.search(aid):
+            problems.add(rel, line, "id", aid, "an activity id may not contain blanks (events list ids separated by blanks)")
+        scripts = mixed_scripts(aid)
+        if scripts:
+            warnings.append(f"{rel}, line {line}: activity id {aid!r} mixes letters of the {' and '.join(scripts)} "
+                            "scripts; a look-alike letter makes it another id than the one it resembles")
     name = _required(row, "name", rel, problems)
+    if name is not None:
+        check_text(name, rel, line, "name", problems)
+    if row.get("area"):
+        check_text(row.get("area"), rel, line, "area", problems)
     kind = _choice(row.get("kind") or "task", ACTIVITY_KINDS, rel, line, "kind", problems)
     raw = _required(row, "duration", rel, problems)
     duration = None if raw is None else parse_int(raw, rel, line, "duration", problems)
@@ -272,7 +295,7 @@ def read_links(
         ends = {}
         for col in ("pred", "succ"):
             ends[col] = _required(row, col, rel, problems)
-            if ends[col] is not None and ends[col] not in known:
+            if ends[col] is not None and ends[col] not in known and check_id(ends[col], rel, line, col, problems):
                 problems.add(rel, line, col, ends[col], unknown_hint)
         pred, succ = ends["pred"], ends["succ"]
         if pred is not None and pred == succ:
@@ -326,12 +349,33 @@ def check_loops(ids: list[str], links: list[Link], rel: str, problems: Problems)
     components = [c for c in nx.strongly_connected_components(graph) if len(c) > 1]
     components.sort(key=lambda c: min(pos[a] for a in c))
     for comp in components:
-        cycle = nx.find_cycle(graph.subgraph(comp))
-        loop = [u for u, _ in cycle]
-        lines = [line_of[(u, v)] for u, v in cycle]
+        loop = _shortest_loop(min(comp, key=pos.__getitem__), comp, graph)
+        lines = [line_of[(u, v)] for u, v in zip(loop, [*loop[1:], loop[0]], strict=True)]
         problems.add(rel, min(lines), None, loop_text(loop),
                      f"logic loop through the links on lines {_lines_text(lines)}; "
                      "a loop has no schedule, break one of its links")
+
+
+def _shortest_loop(source: str, comp: set[str], graph) -> list[str]:
+    """The shortest loop through ``source`` inside its strongly connected component (breadth first).
+
+    Linear in the component's links, and the same loop every run (the
+    links are visited in file order): one pass over 50,000 small loops costs
+    no more than their links, where a networkx subgraph per loop did not.
+    """
+    parent = {source: source}
+    queue = [source]
+    for u in queue:  # the list grows while it is read: breadth-first order
+        for v in graph.successors(u):
+            if v == source:
+                loop = [u]
+                while loop[-1] != source:
+                    loop.append(parent[loop[-1]])
+                return loop[::-1]
+            if v in comp and v not in parent:
+                parent[v] = u
+                queue.append(v)
+    return [source]  # unreachable: every member of a component lies on a loop through the source
 
 
 def _lines_text(lines: list[int]) -> str:
@@ -353,6 +397,132 @@ def _has_loop(ids: list[str], links: list[Link]) -> bool:
     except LogicLoopError:
         return True
     return False
+
+
+# The scheduling horizon's ceiling: no snapshot may need more than a century
+# of calendar days after its data date. The engine's working-day indices
+# cover the whole span (several lists of one entry a day per calendar), so
+# an absurd span (seven calendars of one working day a week and tasks of
+# 36,500 days reach the year 9999) would cost gigabytes; this is checked on
+# loading, before any array is built. A century is far beyond any real
+# programme (common practice: the longest capital projects run for decades).
+MAX_SPAN_YEARS = 100
+MAX_SPAN_DAYS = 36_525  # 100 years of 365.25 days
+
+
+def min_calendar_days(work: int, cal: Calendar | None) -> int:
+    """The fewest calendar days that ``work`` working days of ``cal`` can take (a lower bound).
+
+    At most one working day falls on a calendar day; at most ``w`` a week
+    with ``w`` working weekdays, apart from the calendar's extra working
+    dates (each may add one). Holidays only lengthen the span and are left
+    out, so the bound never exceeds the true span. With ``r`` regular
+    working days needed (``work`` less the extra dates), the first and the
+    last are at least ``7 * ((r - 1) // w)`` days apart.
+
+    Example (worked by hand): 10 working days on a five-day week with no
+    extra dates: r = 10, 7 * (9 // 5) + 1 = 8 days at least (Monday to
+    Friday of the next week is 12 days; the bound is lower, never higher).
+    """
+    if work <= 0:
+        return 0
+    week = len(cal.workdays) if cal is not None and cal.workdays else 7
+    regular = work - (len(cal.extra_workdays) if cal is not None else 0)
+    if regular <= 0:
+        return work
+    return max(work, 7 * ((regular - 1) // week) + 1)
+
+
+def _work(a: Activity) -> int | None:
+    """Working days still to do after the data date; ``None`` when finished (it fixes nothing later)."""
+    if a.actual_finish is not None or (a.actual_start is not None and (a.kind != "task" or a.duration == 0)):
+        return None
+    if a.remaining is not None:
+        return a.remaining
+    return a.duration
+
+
+def check_span(
+    activities: Mapping[str, Activity],
+    links: list[Link],
+    calendars: Mapping[str, Calendar],
+    default_calendar: str | None,
+    rel: str,
+    problems: Problems,
+) -> None:
+    """Refuse a network whose schedule must run more than :data:`MAX_SPAN_YEARS` past its data date.
+
+    A lower bound of the early dates, in calendar days after the data date,
+    is propagated along the links in topological order (the forward pass of
+    the critical path method, Kelley and Walker 1959, on start and finish
+    events): each activity's remaining work takes at least
+    :func:`min_calendar_days` on its calendar, each positive lag the same on
+    the successor's calendar (the engine counts a lag in the successor's
+    working days). Whatever could make a date earlier than this bound is
+    left out, so the bound is never above the engine's dates: finished
+    activities, links into started activities (under progress override
+    they hold nothing), SS and SF links from started ones (their start is
+    history), negative lags and every constraint (constraints only push
+    early dates later). Over the ceiling, the first activity (in logic
+    order) whose finish is beyond it is named, with its line.
+    """
+    ids = list(activities)
+    pos = {a: i for i, a in enumerate(ids)}
+    acts = list(activities.values())
+    cals = [calendars.get(a.calendar or default_calendar or "") for a in acts]
+    work = [_work(a) for a in acts]
+    span = [0 if w is None else min_calendar_days(w, c) for w, c in zip(work, cals, strict=True)]
+    edges: list[list[tuple[int, str, int]]] = [[] for _ in ids]
+    total = sum(span)
+    for link in links:
+        i, j = pos.get(link.pred), pos.get(link.succ)
+        if i is None or j is None or work[i] is None or work[j] is None or link.lag < 0:
+            continue
+        if acts[j].actual_start is not None:
+            continue  # started: under override no link holds its remaining work
+        if acts[i].actual_start is not None and link.type in ("SS", "SF"):
+            continue  # the predecessor's start is history, before the data date
+        w = min_calendar_days(link.lag, cals[j])
+        total += w
+        edges[i].append((j, link.type, w))
+    if total <= MAX_SPAN_DAYS:
+        return  # even every activity and lag end to end fits: no path can exceed it
+    succs = [[j for j, _t, _w in out] for out in edges]
+    try:
+        order = topological_order(ids, succs)
+    except LogicLoopError:
+        return  # the loop is reported by check_loops
+    start = [0] * len(ids)
+    finish = [0] * len(ids)
+    for i in order:
+        f = max(finish[i], start[i] + span[i])
+        finish[i] = f
+        if f > MAX_SPAN_DAYS:
+            a = acts[i]
+            cal = cals[i]
+            per_week = len(cal.workdays) if cal is not None else 7
+            plural = "day" if per_week == 1 else "days"
+            cal_text = "" if cal is None else f" on calendar {cal.id} ({per_week} working {plural} a week)"
+            if span[i] > MAX_SPAN_DAYS:
+                why = (f"activity {a.id} alone needs at least {span[i]} calendar days "
+                       f"({work[i]} working days{cal_text})")
+            else:
+                why = (f"activity {a.id} cannot finish sooner than {f} calendar days after the data date "
+                       f"({work[i]} working days{cal_text} after its predecessors)")
+            problems.add(rel, a.line, "duration", work[i],
+                         f"{why}; over the ceiling of {MAX_SPAN_YEARS} years ({MAX_SPAN_DAYS} days) "
+                         "on the span of a schedule")
+            return
+        s = start[i]
+        for j, kind, w in edges[i]:
+            if kind == "FS":
+                start[j] = max(start[j], f + w)
+            elif kind == "SS":
+                start[j] = max(start[j], s + w)
+            elif kind == "FF":
+                finish[j] = max(finish[j], f + w)
+            else:  # SF
+                finish[j] = max(finish[j], s + w)
 
 
 def check_fragnet_loops(
@@ -427,12 +597,16 @@ def read_events(
         before = len(problems)
         line = row.line
         eid = _required(row, "id", rel, problems)
-        if eid is not None:
+        if eid is not None and check_id(eid, rel, line, "id", problems):
             if eid in seen:
                 problems.add(rel, line, "id", eid, f"duplicate event id; first on line {seen[eid]}")
             else:
                 seen[eid] = line
         title = _required(row, "title", rel, problems)
+        if title is not None:
+            check_text(title, rel, line, "title", problems)
+        if row.get("reference"):
+            check_text(row.get("reference"), rel, line, "reference", problems)
         pid = _required(row, "party", rel, problems)
         party = parties.get(pid) if pid else None
         if pid is not None and party is None:

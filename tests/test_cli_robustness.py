@@ -142,3 +142,101 @@ def test_a_template_nested_five_thousand_levels_deep_is_refused(tmp_path):
     assert "deep.toml: not valid TOML (nested too deeply)" in result.output
     assert not (tmp_path / "r.pdf").exists()
     assert tree(root) == before
+
+
+# -- limits and floods -------------------------------------------------------------------------
+
+
+def _seven_one_day_weeks(folder: Path) -> Path:
+    """The 3.6 KB hostile casefile: seven calendars of one working day a week, tasks of 36,500 days."""
+    days = ["mon", "tue", "wed", "thu", "fri", "sat", "sun"]
+    manifest = ['format = "forensic-casefile/2"', "", "[project]", 'name = "Seven one-day weeks"',
+                'default_calendar = "c0"', ""]
+    for i, d in enumerate(days):
+        manifest += ["[[calendar]]", f'id = "c{i}"', f'workdays = ["{d}"]', ""]
+    manifest += ["[[snapshot]]", 'id = "BL"', 'role = "baseline"', "data_date = 2026-01-05",
+                 'activities = "a.csv"', 'links = "l.csv"']
+    folder.mkdir()
+    (folder / "casefile.toml").write_text("\n".join(manifest) + "\n", encoding="utf-8")
+    rows = ["id,name,duration,calendar", *(f"T{i},Task {i},36500,c{i}" for i in range(7))]
+    (folder / "a.csv").write_text("\n".join(rows) + "\n", encoding="utf-8")
+    (folder / "l.csv").write_text("pred,succ,type,lag\n" + "".join(f"T{i},T{i + 1},FS,36500\n" for i in range(6)),
+                                  encoding="utf-8")
+    return folder
+
+
+def test_seven_one_day_weeks_and_century_tasks_are_refused_within_a_small_address_space(tmp_path):
+    """Before, check peaked at 2.8 GB building working-day indices to the year 9999; now it is refused on loading.
+
+    The process runs with its address space capped at 1.5 GB (RLIMIT_AS): a
+    MemoryError would show as an internal error. T0 alone: 36,500 working
+    days at one a week need at least 7 * 36,499 + 1 = 255,494 calendar days.
+    """
+    import resource
+
+    root = _seven_one_day_weeks(tmp_path / "seven")
+    assert sum(p.stat().st_size for p in root.iterdir()) < 4096  # a few KB of input
+    before = tree(root)
+
+    def cap() -> None:
+        resource.setrlimit(resource.RLIMIT_AS, (1536 * 1024 * 1024, resource.RLIM_INFINITY))
+
+    env = {**_env(), "OPENBLAS_NUM_THREADS": "1", "OMP_NUM_THREADS": "1"}
+    proc = subprocess.run([sys.executable, "-m", "forensic", "check", str(root)], cwd=tmp_path, env=env,
+                          capture_output=True, text=True, timeout=120, preexec_fn=cap)
+    assert proc.returncode == 1, proc.stderr
+    assert proc.stderr.startswith("Error: a.csv, line 2, duration: activity T0 alone needs at least 255494 "
+                                  "calendar days (36500 working days on calendar c0 (1 working day a week)); "
+                                  "over the ceiling of 100 years (36525 days)")
+    assert "Traceback" not in proc.stderr and "internal error" not in proc.stderr
+    assert tree(root) == before
+
+
+def test_fifty_thousand_loops_print_fifty_problems_and_a_count(tmp_path):
+    """50,000 two-activity loops gave 7.6 MB of messages; now the first 50 and "... and 49950 more"."""
+    root = write_casefile(tmp_path)
+    n = 50_000
+    with open(root / "snapshots/BL/activities.csv", "a", encoding="utf-8") as fh:
+        for i in range(n):
+            fh.write(f"X{i}a,Loop {i} a,task,1,,,,,,,CON,CIV,,,\nX{i}b,Loop {i} b,task,1,,,,,,,CON,CIV,,,\n")
+    with open(root / "snapshots/BL/links.csv", "a", encoding="utf-8") as fh:
+        for i in range(n):
+            fh.write(f"X{i}a,X{i}b,FS,0\nX{i}b,X{i}a,FS,0\n")
+    before = tree(root)
+    result = CliRunner().invoke(main, ["check", str(root)])
+    assert result.exit_code == 1
+    lines = result.output.splitlines()
+    assert lines[0] == "Error: 50000 problems in the casefile:"
+    # links.csv: the header is line 1, the valid links lines 2-4, so loop i is on lines 5 + 2i and 6 + 2i.
+    assert lines[1] == ("  snapshots/BL/links.csv, line 5: logic loop through the links on lines 5, 6; a loop has "
+                        "no schedule, break one of its links (value: 'X0a -> X0b -> X0a')")
+    assert len(lines) == 1 + 50 + 1
+    assert lines[-1].startswith("  ... and 49950 more problems not listed")
+    assert len(result.output) < 20_000
+    assert tree(root) == before
+
+
+def test_a_loop_through_five_thousand_activities_is_shown_by_its_ends(tmp_path):
+    """One loop through 5,000 activities: its first and last ten activities and the count, one short line."""
+    root = write_casefile(tmp_path)
+    n = 5000
+    with open(root / "snapshots/BL/activities.csv", "a", encoding="utf-8") as fh:
+        fh.writelines(f"C{i:04d},Step {i},task,1,,,,,,,CON,CIV,,,\n" for i in range(n))
+    with open(root / "snapshots/BL/links.csv", "a", encoding="utf-8") as fh:
+        fh.writelines(f"C{i:04d},C{(i + 1) % n:04d},FS,0\n" for i in range(n))
+    result = CliRunner().invoke(main, ["check", str(root)])
+    assert result.exit_code == 1
+    assert len(result.output) < 1000
+    assert "... (4980 more) ..." in result.output and "(5000 activities)" in result.output
+
+
+def test_a_window_list_of_twenty_thousand_unknown_snapshots_prints_fifty(tmp_path):
+    """Each unknown window boundary is a problem; only the first 50 are printed, then the count."""
+    root = write_casefile(tmp_path)
+    items = ", ".join(f'"W{i}"' for i in range(20_000))
+    edit(root, "casefile.toml", 'windows = ["U01"]', f"windows = [{items}]")
+    result = CliRunner().invoke(main, ["check", str(root)])
+    assert result.exit_code == 1
+    assert result.output.startswith("Error: 20000 problems in the casefile:")
+    assert "... and 19950 more problems not listed" in result.output
+    assert len(result.output.splitlines()) == 52

@@ -44,7 +44,7 @@ HERE = Path(__file__).resolve().parent
 CASES_FILE = HERE / "cases.toml"
 FILES = HERE / "files"
 CATEGORIES = ("encoding", "csv-shape", "values", "references", "logic", "manifest", "events-fragnets",
-              "internal-errors")
+              "internal-errors", "limits", "silent-acceptance")
 
 
 @dataclass(frozen=True)
