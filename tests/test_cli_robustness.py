@@ -240,3 +240,61 @@ def test_a_window_list_of_twenty_thousand_unknown_snapshots_prints_fifty(tmp_pat
     assert result.output.startswith("Error: 20000 problems in the casefile:")
     assert "... and 19950 more problems not listed" in result.output
     assert len(result.output.splitlines()) == 52
+
+
+# -- silent acceptance -------------------------------------------------------------------------
+
+
+def test_compare_with_the_newer_snapshot_first_warns_that_the_order_is_reversed(tmp_path):
+    """U01 (2026-02-02) given before BL (2026-01-05): the comparison runs, with a warning on stderr."""
+    root = write_casefile(tmp_path)
+    runner = CliRunner(mix_stderr=False) if "mix_stderr" in CliRunner.__init__.__code__.co_varnames else CliRunner()
+    result = runner.invoke(main, ["compare", str(root), "U01", "BL", "--json"])
+    assert result.exit_code == 0
+    assert ("warning: the order is reversed: OLD U01 (data date 2026-02-02) is later than NEW BL "
+            "(data date 2026-01-05)") in result.stderr
+    assert "warning" not in result.stdout
+    result = runner.invoke(main, ["compare", str(root), "BL", "U01", "--json"])
+    assert result.exit_code == 0 and "reversed" not in result.stderr
+
+
+@pytest.mark.parametrize("epoch", ["1700000000", "0", "not-a-number"])
+def test_source_date_epoch_is_ignored_so_the_same_inputs_give_the_same_pdf_bytes(epoch, tmp_path):
+    """The decision (docs/robustness.md): SOURCE_DATE_EPOCH is ignored; the PDF depends on the inputs only.
+
+    reportlab would stamp the creation date from the variable (and fail on
+    "not-a-number"); the report is already reproducible without it.
+    """
+    root = write_casefile(tmp_path)
+    plain, stamped = tmp_path / "plain.pdf", tmp_path / "stamped.pdf"
+    env = {k: v for k, v in os.environ.items() if k != "SOURCE_DATE_EPOCH"}
+    r1 = CliRunner(env={**env, "SOURCE_DATE_EPOCH": None}).invoke(main, ["report", str(root), "--out", str(plain)])
+    r2 = CliRunner(env={"SOURCE_DATE_EPOCH": epoch}).invoke(main, ["report", str(root), "--out", str(stamped)])
+    assert r1.exit_code == 0 and r2.exit_code == 0, (r1.output, r2.output)
+    assert plain.read_bytes() == stamped.read_bytes()
+    assert os.environ.get("SOURCE_DATE_EPOCH") == env.get("SOURCE_DATE_EPOCH")  # put back as it was
+
+
+def _rename_everywhere(root: Path, old: str, new: str) -> None:
+    for path in root.rglob("*.csv"):
+        path.write_text(path.read_text(encoding="utf-8").replace(old, new), encoding="utf-8")
+
+
+def test_an_id_mixing_latin_and_cyrillic_letters_is_warned_about(tmp_path):
+    """"A12О" ending in a Cyrillic О (U+041E) prints like "A12O": check warns, naming both scripts.
+
+    An id of one script (the Cyrillic "Р120") is not warned about: it may be
+    the casefile's own language.
+    """
+    root = write_casefile(tmp_path)
+    _rename_everywhere(root, "A120", "\u0420120")
+    result = CliRunner().invoke(main, ["check", str(root)])
+    assert result.exit_code == 0, result.output
+    assert "mixes letters" not in result.output
+    _rename_everywhere(root, "\u0420120", "A12\u041e")
+    before = tree(root)
+    result = CliRunner().invoke(main, ["check", str(root)])
+    assert result.exit_code == 0, result.output
+    assert ("snapshots/BL/activities.csv, line 4: activity id 'A12\u041e' mixes letters of the CYRILLIC and "
+            "LATIN scripts") in result.output
+    assert tree(root) == before

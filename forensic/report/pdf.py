@@ -389,8 +389,31 @@ class _Doc(BaseDocTemplate):
             self.canv.addOutlineEntry(flowable.getPlainText(), key, level=flowable.outline_level, closed=False)
 
 
+@contextmanager
+def _without_source_date_epoch() -> Iterator[None]:
+    """Hide ``SOURCE_DATE_EPOCH`` from reportlab while the PDF is built.
+
+    reportlab stamps its creation date from that variable when it is set
+    (and fails on a value that is not a whole number); in invariant mode it
+    otherwise uses a fixed date. forensic ignores the variable: the report's
+    bytes depend on the casefile, the template, the settings and the font
+    only, which already makes it reproducible (docs/robustness.md).
+    """
+    saved = os.environ.pop("SOURCE_DATE_EPOCH", None)
+    try:
+        yield
+    finally:
+        if saved is not None:
+            os.environ["SOURCE_DATE_EPOCH"] = saved
+
+
 def build_pdf(story: list[Flowable], *, title: str, subject: str, footer: str, author: str, creator: str) -> bytes:
-    """Lay out ``story`` on A4 pages and return the PDF bytes (deterministic)."""
+    """Lay out ``story`` on A4 pages and return the PDF bytes (deterministic; ``SOURCE_DATE_EPOCH`` ignored)."""
+    with _without_source_date_epoch():
+        return _build_pdf(story, title=title, subject=subject, footer=footer, author=author, creator=creator)
+
+
+def _build_pdf(story: list[Flowable], *, title: str, subject: str, footer: str, author: str, creator: str) -> bytes:
     buf = io.BytesIO()
     doc = _Doc(
         buf,
