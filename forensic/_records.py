@@ -12,8 +12,10 @@ import re
 from collections.abc import Collection, Mapping
 from dataclasses import dataclass, field
 from datetime import date
+from functools import lru_cache
 
 import networkx as nx
+import numpy as np
 
 from ._csvread import (
     MAX_DURATION,
@@ -26,6 +28,7 @@ from ._csvread import (
     parse_int,
     parse_number,
 )
+from .calendars import DAY_NAMES
 from .engine import topological_order
 from .errors import LOOP_SHOWN, LOOP_WHOLE, LogicLoopError, loop_text
 from .model import (
@@ -51,6 +54,7 @@ __all__ = [
     "check_fragnet_loops",
     "check_loops",
     "check_span",
+    "span_bounds",
     "read_activities",
     "read_events",
     "read_links",
@@ -420,9 +424,10 @@ def min_calendar_days(work: int, cal: Calendar | None) -> int:
     working days needed (``work`` less the extra dates), the first and the
     last are at least ``7 * ((r - 1) // w)`` days apart.
 
-    Example (worked by hand): 10 working days on a five-day week with no
-    extra dates: r = 10, 7 * (9 // 5) + 1 = 8 days at least (Monday to
-    Friday of the next week is 12 days; the bound is lower, never higher).
+    Examples (worked by hand, five-day week, no extra dates): 6 working days
+    take at least 7 * (5 // 5) + 1 = 8 days (Monday to the next Monday: 8,
+    exact); 11 take 7 * (10 // 5) + 1 = 15 (exact); 10 take at least 10
+    (the count itself; truly 12, Monday to the next Friday).
     """
     if work <= 0:
         return 0
@@ -466,63 +471,164 @@ def check_span(
     early dates later). Over the ceiling, the first activity (in logic
     order) whose finish is beyond it is named, with its line.
     """
-    ids = list(activities)
-    pos = {a: i for i, a in enumerate(ids)}
+    bounds = span_bounds(activities, links, calendars, default_calendar)
+    if bounds is None:
+        return
+    finish, span, work, cal, i = bounds
+    if i >= 0:
+        acts = list(activities.values())
+        _span_problem(acts[i], int(finish[i]), int(span[i]), int(work[i]), cal[i], rel, problems)
+
+
+def span_bounds(
+    activities: Mapping[str, Activity],
+    links: list[Link],
+    calendars: Mapping[str, Calendar],
+    default_calendar: str | None,
+    *,
+    skip_under: int | None = MAX_SPAN_DAYS,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, list, int] | None:
+    """Lower bounds of the early finishes, in calendar days after the data date (see :func:`check_span`).
+
+    Returns ``(finish, span, work, calendar)`` per activity in file order
+    (``work`` is -1 for finished work) and the position of the first
+    activity, in logic order, whose bound is over the ceiling (-1: none), or ``None`` when even every
+    activity and lag end to end fit under ``skip_under`` days (nothing to
+    check; ``None`` always computes). A finish bound counts the calendar days
+    from the data date through the finish date; a start bound those before
+    the start date.
+    """
     acts = list(activities.values())
-    cals = [calendars.get(a.calendar or default_calendar or "") for a in acts]
-    work = [_work(a) for a in acts]
-    span = [0 if w is None else min_calendar_days(w, c) for w, c in zip(work, cals, strict=True)]
-    edges: list[list[tuple[int, str, int]]] = [[] for _ in ids]
-    total = sum(span)
-    for link in links:
-        i, j = pos.get(link.pred), pos.get(link.succ)
-        if i is None or j is None or work[i] is None or work[j] is None or link.lag < 0:
-            continue
-        if acts[j].actual_start is not None:
-            continue  # started: under override no link holds its remaining work
-        if acts[i].actual_start is not None and link.type in ("SS", "SF"):
-            continue  # the predecessor's start is history, before the data date
-        w = min_calendar_days(link.lag, cals[j])
-        total += w
-        edges[i].append((j, link.type, w))
-    if total <= MAX_SPAN_DAYS:
-        return  # even every activity and lag end to end fits: no path can exceed it
-    succs = [[j for j, _t, _w in out] for out in edges]
-    try:
-        order = topological_order(ids, succs)
-    except LogicLoopError:
-        return  # the loop is reported by check_loops
-    start = [0] * len(ids)
-    finish = [0] * len(ids)
-    for i in order:
-        f = max(finish[i], start[i] + span[i])
-        finish[i] = f
-        if f > MAX_SPAN_DAYS:
-            a = acts[i]
-            cal = cals[i]
-            per_week = len(cal.workdays) if cal is not None else 7
-            plural = "day" if per_week == 1 else "days"
-            cal_text = "" if cal is None else f" on calendar {cal.id} ({per_week} working {plural} a week)"
-            if span[i] > MAX_SPAN_DAYS:
-                why = (f"activity {a.id} alone needs at least {span[i]} calendar days "
-                       f"({work[i]} working days{cal_text})")
-            else:
-                why = (f"activity {a.id} cannot finish sooner than {f} calendar days after the data date "
-                       f"({work[i]} working days{cal_text} after its predecessors)")
-            problems.add(rel, a.line, "duration", work[i],
-                         f"{why}; over the ceiling of {MAX_SPAN_YEARS} years ({MAX_SPAN_DAYS} days) "
-                         "on the span of a schedule")
-            return
-        s = start[i]
-        for j, kind, w in edges[i]:
-            if kind == "FS":
-                start[j] = max(start[j], f + w)
-            elif kind == "SS":
-                start[j] = max(start[j], s + w)
-            elif kind == "FF":
-                finish[j] = max(finish[j], f + w)
-            else:  # SF
-                finish[j] = max(finish[j], s + w)
+    n = len(acts)
+    if n == 0:
+        return None
+    pos = {a.id: i for i, a in enumerate(acts)}
+    cal_list = list(calendars.values())
+    cal_at = {c.id: k for k, c in enumerate(cal_list)}
+    week = np.array([len(c.workdays) or 7 for c in cal_list] + [7], dtype=np.int64)
+    extra = np.array([len(c.extra_workdays) for c in cal_list] + [0], dtype=np.int64)
+    none = len(cal_list)
+    ck = np.fromiter((cal_at.get(a.calendar or default_calendar or "", none) for a in acts), np.int64, n)
+    work = np.fromiter((-1 if (w := _work(a)) is None else w for a in acts), np.int64, n)
+    started = np.fromiter((a.actual_start is not None for a in acts), bool, n)
+    span = np.where(work < 0, 0, _min_days(work, week[ck], extra[ck]))
+    gap = np.array([_longest_gap(c) for c in cal_list] + [0], dtype=np.int64)
+    # A finish-type instant (a finish milestone, a task with no work left) is
+    # dated on the working day before its boundary, which may lie up to the
+    # longest run of non-working days of its calendar earlier (engine notes).
+    opening = np.fromiter((a.kind == "opening-milestone" for a in acts), bool, n)
+    instant = (work == 0) & ~opening
+    back = np.where(instant, gap[ck], 0)
+    m = len(links)
+    lp = np.fromiter((pos.get(x.pred, -1) for x in links), np.int64, m)
+    ls = np.fromiter((pos.get(x.succ, -1) for x in links), np.int64, m)
+    typ = np.fromiter((_CODE[x.type] for x in links), np.int64, m)
+    lag = np.fromiter((x.lag for x in links), np.int64, m)
+    keep = (lp >= 0) & (ls >= 0) & (lag >= 0)
+    lp, ls, typ, lag = lp[keep], ls[keep], typ[keep], lag[keep]
+    from_start = (typ == 1) | (typ == 3)  # SS, SF: timed from the predecessor's start
+    keep = (work[lp] >= 0) & (work[ls] >= 0) & ~started[ls] & ~(started[lp] & from_start)
+    lp, ls, typ, lag, from_start = lp[keep], ls[keep], typ[keep], lag[keep], from_start[keep]
+    w = _min_days(lag, week[ck[ls]], extra[ck[ls]])
+    # An FF or SF link with no lag holds the successor's finish boundary; its
+    # finish date, the working day before, may lie a run of non-working days earlier.
+    w = np.where((lag == 0) & ~((typ == 0) | (typ == 1)), -gap[ck[ls]], w)
+    if skip_under is not None and int(span.sum()) + int(np.maximum(w, 0).sum()) <= skip_under:
+        return None
+    to_start = (typ == 0) | (typ == 1)  # FS, SS: hold the successor's start
+    # Kahn's algorithm one frontier at a time, pushing the bound along each
+    # link once every predecessor of its activity is done.
+    order = np.argsort(lp, kind="stable")
+    lp, ls, w, from_start, to_start = lp[order], ls[order], w[order], from_start[order], to_start[order]
+    first = np.searchsorted(lp, np.arange(n + 1))
+    indeg = np.bincount(ls, minlength=n)
+    start = np.zeros(n, dtype=np.int64)
+    finish = np.full(n, -(1 << 40), dtype=np.int64)  # set from the start; FF and SF links may raise it
+    frontier = np.flatnonzero(indeg == 0)
+    first_over = -1  # the first activity, in logic order (frontier by frontier), over the ceiling
+    while frontier.size:
+        finish[frontier] = np.maximum(finish[frontier], start[frontier] + span[frontier] - back[frontier])
+        if first_over < 0:
+            over = frontier[finish[frontier] > MAX_SPAN_DAYS]
+            first_over = int(over.min()) if over.size else -1
+        lo, hi = first[frontier], first[frontier + 1]
+        counts = hi - lo
+        total = int(counts.sum())
+        if not total:
+            break
+        take = np.repeat(hi - counts.cumsum(), counts) + np.arange(total)
+        src, dst = lp[take], ls[take]
+        # An instant passes one day whatever the link type (engine notes): a
+        # finish-type instant's SS and SF links pass its (lowered) finish too.
+        value = np.where(from_start[take] & ~instant[src], start[src], finish[src]) + w[take]
+        hold_start = to_start[take]
+        np.maximum.at(start, dst[hold_start], value[hold_start])
+        np.maximum.at(finish, dst[~hold_start], value[~hold_start])
+        np.subtract.at(indeg, dst, 1)
+        cand = np.unique(dst)
+        frontier = cand[indeg[cand] == 0]
+    cal = [cal_list[k] if k < none else None for k in ck.tolist()]
+    return finish, span, work, cal, first_over
+
+
+_CODE = {"FS": 0, "SS": 1, "FF": 2, "SF": 3}
+
+
+@lru_cache(maxsize=256)
+def _longest_gap(cal: Calendar) -> int:
+    """The longest run of non-working days of ``cal`` (its weekly pattern with its holidays and extra dates).
+
+    Computed with numpy's business-day functions over the years its
+    holidays span (at most 1900-2200, about 110,000 days), once per calendar.
+    """
+    mask = [name in cal.workdays for name in DAY_NAMES]
+    if not any(mask) and not cal.extra_workdays:
+        return 0  # refused elsewhere: a calendar needs a working day
+    weekly = 0
+    if any(mask):
+        run = best = 0
+        for working in mask * 2:  # the week twice: a run may wrap from Sunday to Monday
+            run = 0 if working else run + 1
+            best = max(best, run)
+        weekly = best
+    if not cal.holidays:
+        return weekly
+    lo = np.datetime64(min(cal.holidays), "D") - 14
+    hi = np.datetime64(max(cal.holidays), "D") + 15
+    days = np.arange(lo, hi, dtype="datetime64[D]")
+    if any(mask):
+        working = np.is_busday(days, weekmask=[int(m) for m in mask],
+                               holidays=np.array(cal.holidays, dtype="datetime64[D]"))
+    else:  # extra working dates only
+        working = np.zeros(days.size, dtype=bool)
+    if cal.extra_workdays:
+        extra = np.array(cal.extra_workdays, dtype="datetime64[D]")
+        extra = extra[(extra >= lo) & (extra < hi)]
+        working[(extra - lo).astype(np.int64)] = True
+    # Runs of False: the gaps between working days.
+    idx = np.flatnonzero(np.concatenate(([True], working, [True])))
+    return max(weekly, int(np.diff(idx).max()) - 1)
+
+
+def _min_days(work: np.ndarray, week: np.ndarray, extra: np.ndarray) -> np.ndarray:
+    """:func:`min_calendar_days` over arrays (0 for no work)."""
+    regular = work - extra
+    bound = np.maximum(work, 7 * ((regular - 1) // week) + 1)
+    return np.where(work <= 0, 0, np.where(regular <= 0, work, bound))
+
+
+def _span_problem(a: Activity, finish: int, span: int, work: int, cal: Calendar | None, rel: str,
+                  problems: Problems) -> None:
+    per_week = len(cal.workdays) if cal is not None else 7
+    plural = "day" if per_week == 1 else "days"
+    cal_text = "" if cal is None else f" on calendar {cal.id} ({per_week} working {plural} a week)"
+    if span > MAX_SPAN_DAYS:
+        why = f"activity {a.id} alone needs at least {span} calendar days ({work} working days{cal_text})"
+    else:
+        why = (f"activity {a.id} cannot finish sooner than {finish} calendar days after the data date "
+               f"({work} working days{cal_text} after its predecessors)")
+    problems.add(rel, a.line, "duration", work,
+                 f"{why}; over the ceiling of {MAX_SPAN_YEARS} years ({MAX_SPAN_DAYS} days) on the span of a schedule")
 
 
 def check_fragnet_loops(
