@@ -468,7 +468,9 @@ def check_span(
     activities, links into started activities (under progress override
     they hold nothing), SS and SF links from started ones (their start is
     history), negative lags and every constraint (constraints only push
-    early dates later). Over the ceiling, the first activity (in logic
+    early dates later); an instant dated on the working day before its
+    boundary (a finish milestone) and an FF or SF link with no lag are
+    lowered by the calendar's longest run of non-working days. Over the ceiling, the first activity (in logic
     order) whose finish is beyond it is named, with its line.
     """
     bounds = span_bounds(activities, links, calendars, default_calendar)

@@ -8,6 +8,7 @@ that there is no traceback, and that the casefile's files are unchanged.
 
 from __future__ import annotations
 
+import json
 import os
 import signal
 import subprocess
@@ -298,3 +299,18 @@ def test_an_id_mixing_latin_and_cyrillic_letters_is_warned_about(tmp_path):
     assert ("snapshots/BL/activities.csv, line 4: activity id 'A12\u041e' mixes letters of the CYRILLIC and "
             "LATIN scripts") in result.output
     assert tree(root) == before
+
+
+def test_check_prints_at_most_fifty_warnings_and_the_count_of_the_rest(tmp_path):
+    """60 activities with no successor: 60 open-end warnings (and more); text mode lists 50, JSON all."""
+    root = write_casefile(tmp_path)
+    with open(root / "snapshots/BL/activities.csv", "a", encoding="utf-8") as fh:
+        fh.writelines(f"Q{i:02d},Loose end {i},task,1,,,,,,,CON,CIV,,,\n" for i in range(60))
+    result = CliRunner().invoke(main, ["check", str(root)])
+    assert result.exit_code == 0, result.output
+    count = int(next(line for line in result.output.splitlines() if line.endswith("warning(s):")).split()[0])
+    assert count > 60
+    assert sum(line.startswith("  warning: ") for line in result.output.splitlines()) == 50
+    assert f"  ... and {count - 50} more warnings not listed (--json lists every one)" in result.output
+    result = CliRunner().invoke(main, ["check", str(root), "--json"])
+    assert len(json.loads(result.stdout)["warnings"]) == count
