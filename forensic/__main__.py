@@ -1,5 +1,40 @@
-"""``python -m forensic`` runs the command line."""
+"""``python -m forensic`` (and the ``forensic`` script) runs the command line.
 
-from .cli import main
+Ctrl-C is handled from the first instant: the command line's imports
+(numpy, networkx, click, and for ``report`` reportlab) take a noticeable
+fraction of a second, and a Ctrl-C during them would otherwise end in a
+Python traceback. Until a command starts, an interrupt prints one line and
+exits with status 130 (128 + SIGINT, the shell convention); nothing has been
+written by then. Once a command runs, the ``forensic`` group handles it
+(temporary files removed, the same line, status 130).
+"""
 
-main(prog_name="forensic")
+import signal
+import sys
+
+
+def _interrupted_early(signum, frame):  # pragma: no cover - timing dependent
+    sys.stderr.write("Interrupted; nothing was written.\n")
+    sys.stderr.flush()
+    import os
+
+    os._exit(130)
+
+
+_interrupted_early.forensic_early = True  # the group puts the default handler back (forensic.cli._base)
+
+
+def run() -> None:
+    """The ``forensic`` entry point: install the early Ctrl-C handler, then import and run the CLI."""
+    try:
+        if signal.getsignal(signal.SIGINT) is not signal.SIG_IGN:  # ignored (nohup, a background job): keep so
+            signal.signal(signal.SIGINT, _interrupted_early)
+    except ValueError:  # not the main thread: leave the handler alone
+        pass
+    from .cli import main
+
+    main(prog_name="forensic")
+
+
+if __name__ == "__main__":
+    run()

@@ -20,6 +20,7 @@ the analysis is recorded).
 from __future__ import annotations
 
 import math
+import re
 from collections import Counter
 from datetime import date
 
@@ -34,6 +35,10 @@ _REQUIRED = {"activities": ACTIVITY_COLUMNS[0], "links": LINK_COLUMNS[0], "event
 _DURATION_FIELDS = ("duration", "remaining", "crash_days")
 _DATE_FIELDS = ("actual_start", "actual_finish", "constraint_date", "start", "finish")
 _FORMULA_LEADS = ("=", "+", "-", "@", "\t", "\r")
+# A number as a source writes it: ASCII digits, a sign, one decimal point.
+# float() would also take 1e1, 1_0, full-width or Arabic-Indic digits, "inf"
+# and "nan"; each is refused rather than read as a number without a word.
+_PLAIN = re.compile(r"^[+-]?([0-9]+(\.[0-9]*)?|\.[0-9]+)$")
 _DEFAULTS = {  # what the casefile format does with a blank optional field
     ("activities", "kind"): "read as task",
     ("activities", "remaining"): "the duration if not started, 0 if finished",
@@ -54,6 +59,7 @@ class _Converter:
         self.counts: Counter[str] = Counter()
         self.unused: dict[str, set[str]] = {}
         self.flagged: set[tuple[str, int, str]] = set()  # (label, line, field) already reported
+        self.remarks: list[str] = []  # what a reader of the workbook would not see (hidden, merged)
 
     def drop_echoes(self) -> None:
         """Drop the row readers' second report of a value this converter already reported."""
@@ -93,6 +99,14 @@ class _Converter:
         self.counts[f"{table}: wholly blank rows skipped"] += source.blank_rows
         self.counts[f"{table}: time of day dropped from workbook date cells"] += source.times_dropped
         self.counts[f"{table}: workbook formulas read by their saved value (never evaluated)"] += source.formulas
+        if source.hidden_sheet:
+            self.remarks.append(f"{table}: {source.label} is a hidden sheet; it was read like any other")
+        if source.hidden_rows:
+            self.remarks.append(f"{table}: {source.label}: hidden rows read like any other "
+                                f"({len(source.hidden_rows)}: {_lines(source.hidden_rows)})")
+        if source.merged:
+            self.remarks.append(f"{table}: {source.label}: merged cells, each read as its top-left cell with the "
+                                f"others blank ({len(source.merged)}: {_lines(source.merged)})")
         index = {h: i for i, h in enumerate(source.header)}
         out = []
         for line, cells in source.rows:
@@ -158,6 +172,8 @@ class _Converter:
         if field == "percent_complete":
             number = text.removesuffix("%").strip()
             try:
+                if not _PLAIN.match(number):
+                    raise ValueError(number)
                 value = float(number)
             except ValueError:
                 return bad("expected a percentage such as 45, 45% or (with percent = \"fraction\") 0.45")
@@ -171,6 +187,9 @@ class _Converter:
         return text
 
     def _days(self, table: str, field: str, unit: str, text: str, bad) -> str:
+        if not _PLAIN.match(text):
+            return bad(f"expected a number of {unit} written plainly, in the digits 0-9 "
+                       "(no exponent such as 1e1, no underscore, no other digits)")
         try:
             value = float(text)
         except ValueError:
@@ -192,6 +211,12 @@ class _Converter:
         return str(rounded)
 
 
+def _lines(items) -> str:
+    """The first ten items, then a count of the rest."""
+    shown = ", ".join(map(str, list(items)[:10]))
+    return shown if len(items) <= 10 else f"{shown} and {len(items) - 10} more"
+
+
 def _num(value: float) -> str:
     return str(int(value)) if float(value).is_integer() else repr(value)
 
@@ -209,4 +234,5 @@ def _notes(conv: _Converter) -> tuple[str, ...]:
                 if n == 1:
                     unit = unit.removesuffix("s")
                 notes.append(f"{what} ({n}{unit})")
+        notes += [r for r in conv.remarks if r.startswith(f"{table}: ")]
     return tuple(notes)

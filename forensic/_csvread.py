@@ -13,6 +13,7 @@ import hashlib
 import io
 import math
 import re
+import unicodedata
 from dataclasses import dataclass
 from datetime import date
 from pathlib import Path, PurePosixPath
@@ -20,7 +21,13 @@ from pathlib import Path, PurePosixPath
 from .errors import InputProblem
 
 __all__ = [
+    "MAX_DATES",
     "MAX_DURATION",
+    "MAX_ID_CHARS",
+    "MAX_TEXT_CHARS",
+    "check_id",
+    "check_text",
+    "mixed_scripts",
     "MAX_YEAR",
     "MIN_YEAR",
     "Problems",
@@ -33,6 +40,7 @@ __all__ = [
     "read_table",
     "read_text",
     "resolve_inside",
+    "unsafe_message",
 ]
 
 # Dates outside these years are almost always typing slips (2206 for 2026);
@@ -50,11 +58,40 @@ MAX_DURATION = 36_500
 # sign of files pasted together), and the bidirectional embedding, override
 # and isolate controls that can make text display in another order than it
 # reads (Unicode TR36, CVE-2021-42574 "Trojan Source"; common practice).
-_UNSAFE = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f\ufeff\u202a-\u202e\u2066-\u2069]")
+# The Unicode non-characters U+FFFE and U+FFFF (and U+FDD0-U+FDEF) are refused
+# too: they are never text, and an XLSX workbook holding one cannot be reopened.
+_UNSAFE = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f\ufeff\u202a-\u202e\u2066-\u2069"
+                     "\ufdd0-\ufdef\ufffe\uffff]")
 
-_ISO_DATE = re.compile(r"^\d{4}-\d{2}-\d{2}$")
-_WHOLE = re.compile(r"^[+-]?\d+$")
-_DECIMAL = re.compile(r"^[+-]?(\d+(\.\d*)?|\.\d+)$")
+# Ceilings on the length of one value (docs/robustness.md, "Ceilings"). An
+# id is a short key (real ones run to a few dozen characters); a name may be
+# long (a description pasted into it) but not a book: the report prints a
+# table cell's first 300 characters and the rest in its appendix.
+MAX_ID_CHARS = 200
+MAX_TEXT_CHARS = 40_000
+# At most this many dates in one holidays or extra_workdays list: 20,000
+# dates is over fifty years of every day (common practice: a calendar lists
+# a few dozen holidays a year).
+MAX_DATES = 20_000
+
+# Characters that cannot be seen in an id: no-break and other spaces, zero-
+# width spaces and joiners, the soft hyphen, direction marks, word joiners,
+# fillers and variation selectors (Unicode TR39 and UTS 55 list them as
+# confusable or default-ignorable). "P20" with a zero-width space would be
+# another activity that prints the same.
+_INVISIBLE = re.compile("[\u00a0\u00ad\u034f\u061c\u115f\u1160\u17b4\u17b5\u180b-\u180f"
+                        "\u2000-\u200f\u2028\u2029\u202f\u205f-\u2064\u3000\u3164\ufe00-\ufe0f"
+                        "\uffa0\U000e0000-\U000e0fff]")
+
+# ASCII digits only: ``\d`` and ``int()`` also take full-width and
+# Arabic-Indic digits, which would read "１０" as 10 without a word.
+_ISO_DATE = re.compile(r"^[0-9]{4}-[0-9]{2}-[0-9]{2}$")
+_WHOLE = re.compile(r"^[+-]?[0-9]+$")
+_DECIMAL = re.compile(r"^[+-]?([0-9]+(\.[0-9]*)?|\.[0-9]+)$")
+_NOT_ASCII_DIGIT = re.compile(r"[^\x00-\x7f]")
+# More digits than this is no duration (and Python refuses to convert an
+# integer string of over 4,300 digits): refused before int() sees it.
+_MAX_DIGITS = 15
 
 
 def find_unsafe_char(text: str) -> tuple[int, str] | None:
@@ -63,6 +100,45 @@ def find_unsafe_char(text: str) -> tuple[int, str] | None:
     if hit is None:
         return None
     return hit.start(), f"U+{ord(hit.group()):04X}"
+
+
+def check_id(raw: str, rel: str, line: int | None, key: str, problems: Problems) -> bool:
+    """Record a problem and return ``False`` when ``raw`` is too long or holds an invisible character."""
+    if len(raw) > MAX_ID_CHARS:
+        problems.add(rel, line, key, raw, f"an id may have at most {MAX_ID_CHARS} characters; this one has {len(raw)}")
+        return False
+    hit = _INVISIBLE.search(raw)
+    if hit is not None:
+        problems.add(rel, line, key, f"U+{ord(hit.group()):04X} at character {hit.start() + 1} of {raw!r}",
+                     "an id may not contain an invisible character (a no-break or zero-width space, a joiner, "
+                     "a soft hyphen): it would look like another id")
+        return False
+    return True
+
+
+def check_text(raw: str, rel: str, line: int | None, key: str, problems: Problems) -> bool:
+    """Record a problem and return ``False`` when a name or title is over :data:`MAX_TEXT_CHARS`."""
+    if len(raw) > MAX_TEXT_CHARS:
+        problems.add(rel, line, key, raw, f"a name or title may have at most {MAX_TEXT_CHARS} characters; "
+                     f"this one has {len(raw)}")
+        return False
+    return True
+
+
+def mixed_scripts(raw: str) -> tuple[str, ...]:
+    """The scripts of the letters of ``raw`` when there are two or more (``P20`` with a Cyrillic ``Р``).
+
+    The script is the first word of the letter's Unicode name (LATIN,
+    CYRILLIC, GREEK...), a simplification of Unicode UAX 24 that is enough to
+    spot look-alike letters in an id (UTS 39, "mixed-script confusables").
+    """
+    if raw.isascii():
+        return ()
+    scripts = set()
+    for c in raw:
+        if c.isalpha():
+            scripts.add(unicodedata.name(c, "UNKNOWN").split()[0])
+    return tuple(sorted(scripts)) if len(scripts) > 1 else ()
 
 
 class Problems:
@@ -172,10 +248,18 @@ def read_text(path: Path, rel: str, max_bytes: int, problems: Problems, hashes: 
     if unsafe is not None:
         at, name = unsafe
         line = text.count("\n", 0, at) + 1
-        problems.add(rel, line, None, name,
-                     "file contains a control or text-direction character; expected printable text")
+        problems.add(rel, line, None, name, unsafe_message(name, "file contains"))
         return None
     return text
+
+
+def unsafe_message(name: str, lead: str) -> str:
+    """What a refused character is, for the message: a control or direction character, or a non-character."""
+    code = int(name[2:], 16)
+    if code >= 0xFDD0 and (code <= 0xFDEF or code >= 0xFFFE):
+        return (f"{lead} a Unicode non-character (never text; a workbook holding one cannot be reopened); "
+                "expected printable text")
+    return f"{lead} a control or text-direction character; expected printable text"
 
 
 @dataclass(slots=True, eq=False)  # not frozen: built once per CSV line, and frozen init is slower
@@ -293,7 +377,15 @@ def parse_int(
 ) -> int | None:
     """A whole number in ``[minimum, maximum]`` (no fractions, no exponents, no NaN)."""
     if not _WHOLE.match(raw):
-        problems.add(rel, line, key, raw, f"expected {what} (a whole number)")
+        if any(c.isdigit() for c in raw) and _NOT_ASCII_DIGIT.search(raw):
+            problems.add(rel, line, key, raw, f"expected {what} in the digits 0-9 (a whole number)")
+        else:
+            problems.add(rel, line, key, raw, f"expected {what} (a whole number)")
+        return None
+    if len(raw.lstrip("+-").lstrip("0")) > _MAX_DIGITS:
+        bound = f"at most {maximum}" if minimum is not None else f"between {-maximum} and {maximum}"
+        problems.add(rel, line, key, raw, f"expected {what} of {bound} (the number has "
+                     f"{len(raw.lstrip('+-'))} digits)")
         return None
     value = int(raw)
     lo = -maximum if minimum is None else minimum
@@ -318,7 +410,7 @@ def parse_number(
 ) -> float | None:
     """A finite decimal number in ``[minimum, maximum]`` (no NaN, no infinity, no exponent)."""
     if not _DECIMAL.match(raw):
-        problems.add(rel, line, key, raw, "expected a decimal number such as 12.5")
+        problems.add(rel, line, key, raw, "expected a decimal number such as 12.5 (digits 0-9)")
         return None
     value = float(raw)
     if not (minimum <= value <= maximum) or not math.isfinite(value):

@@ -312,7 +312,11 @@ class _Mapping:
         try:
             if not isinstance(value, str):
                 raise LookupError(value)
-            codecs.lookup(value)
+            info = codecs.lookup(value)
+            # rot13, base64, hex, zlib... are codecs but not text encodings
+            # (bytes-to-bytes or str-to-str); bytes.decode refuses them.
+            if not getattr(info, "_is_text_encoding", True):
+                raise LookupError(value)
         except LookupError:
             self._bad("values.encoding", value, 'expected a text encoding such as "utf-8", "cp1252" or "utf-16"')
             return "utf-8"

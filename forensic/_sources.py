@@ -50,7 +50,11 @@ class SourceTable:
     ``rows`` holds ``(line, cells)`` with the 1-based line (or sheet row)
     number; wholly blank rows are left out and counted in ``blank_rows``.
     ``times_dropped`` counts workbook date cells whose time of day was dropped;
-    ``formulas`` counts formula cells read by their saved value.
+    ``formulas`` counts formula cells read by their saved value;
+    ``hidden_sheet``, ``hidden_rows`` (sheet row numbers) and ``merged`` (cell
+    ranges such as ``A4:B4``) say what of a workbook a reader would not see,
+    or would see otherwise than it is read (a merged range is read as its
+    top-left cell and blanks).
     """
 
     label: str
@@ -59,6 +63,9 @@ class SourceTable:
     blank_rows: int = 0
     times_dropped: int = 0
     formulas: int = 0
+    hidden_sheet: bool = False
+    hidden_rows: tuple[int, ...] = ()
+    merged: tuple[str, ...] = ()
 
 
 def _workbook_value(value) -> tuple[str | date, bool]:
@@ -106,7 +113,8 @@ def read_source(path: Path, label: str, sheet: str | None, encoding: str, delimi
         raw = _read_csv(path, label, encoding, delimiter, problems, max_bytes, max_rows, what)
     if raw is None:
         return None
-    records, times, formulas = raw
+    records, times, formulas, *hidden = raw
+    hidden_sheet, hidden_rows, merged = hidden if hidden else (False, (), ())
     header: tuple[str, ...] | None = None
     rows: list[tuple[int, tuple[str | date, ...]]] = []
     blank = 0
@@ -125,12 +133,18 @@ def read_source(path: Path, label: str, sheet: str | None, encoding: str, delimi
             if dupes:
                 return None
             continue
-        cells = tuple(cells[: len(header)]) + ("",) * (len(header) - len(cells))
-        rows.append((line, cells))
+        if len(cells) < len(header) or any(c != "" for c in cells[len(header):]):
+            # A short row would leave its last columns blank without a word (an
+            # activity in progress read as not started); a long one would lose cells.
+            problems.add(label, line, None, len(cells),
+                         f"row has {len(cells)} cells, the header has {len(header)}; "
+                         "every row must have a cell for each column (blank cells are fine)")
+            continue
+        rows.append((line, tuple(cells[: len(header)])))
     if header is None:
         problems.add(label, None, None, None, "no header row: the table is empty")
         return None
-    return SourceTable(label, header, tuple(rows), blank, times, formulas)
+    return SourceTable(label, header, tuple(rows), blank, times, formulas, hidden_sheet, hidden_rows, merged)
 
 
 def _over(problems: Problems, label: str, line: int, max_rows: int, what: str, sheet: bool) -> None:
@@ -292,4 +306,37 @@ def _read_sheet(path: Path, label: str, sheet: str | None, problems: Problems, b
             times += dropped
             cells.append(value)
         out.append((number, cells))
-    return out, times, formulas
+    hidden_rows, merged = _hidden_rows_and_merges(book.values, ws)
+    return out, times, formulas, ws.sheet_state != "visible", hidden_rows, merged
+
+
+def _hidden_rows_and_merges(wb, ws) -> tuple[tuple[int, ...], tuple[str, ...]]:
+    """The hidden rows and merged ranges of a sheet, read from its XML part.
+
+    openpyxl's read-only sheets do not keep either, so the sheet's part is
+    streamed once more (its unpacked size is already bounded). Python's
+    expat refuses entity expansion attacks (expat 2.4.1 and later).
+    """
+    from xml.etree.ElementTree import iterparse
+
+    path = getattr(ws, "_worksheet_path", None)
+    archive = getattr(wb, "_archive", None)
+    if path is None or archive is None:
+        return (), ()
+    hidden: list[int] = []
+    merged: list[str] = []
+    try:
+        with archive.open(path) as fh:
+            for _event, el in iterparse(fh):
+                tag = el.tag.rsplit("}", 1)[-1]
+                if tag == "row":
+                    if el.get("hidden") in ("1", "true") and el.get("r", "").isdigit():
+                        hidden.append(int(el.get("r")))
+                    el.clear()
+                elif tag == "mergeCell" and el.get("ref"):
+                    merged.append(el.get("ref"))
+                elif tag == "c":
+                    el.clear()
+    except (KeyError, OSError, SyntaxError, ValueError):
+        return (), ()
+    return tuple(hidden), tuple(merged)

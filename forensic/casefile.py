@@ -30,18 +30,23 @@ from __future__ import annotations
 
 import os
 import tomllib
+from collections import Counter
 from dataclasses import dataclass
 from datetime import date, datetime
 from pathlib import Path
 
 from ._csvread import (
+    MAX_DATES,
     MAX_DURATION,
     Problems,
+    check_id,
+    check_text,
     check_year,
     find_unsafe_char,
     read_table,
     read_text,
     resolve_inside,
+    unsafe_message,
 )
 from ._records import (
     ACTIVITY_COLUMNS,
@@ -49,12 +54,13 @@ from ._records import (
     LINK_COLUMNS,
     check_fragnet_loops,
     check_loops,
+    check_span,
     read_activities,
     read_events,
     read_links,
 )
 from .calendars import DAY_NAMES
-from .errors import CasefileError, LimitExceeded
+from .errors import CasefileError, LimitExceeded, printable
 from .model import (
     PARTY_ROLES,
     Calendar,
@@ -155,6 +161,10 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None)
     if not root.is_dir():
         problems.add(str(path), None, None, None, "casefile folder not found")
         _raise(problems)
+    # The manifest is held to the rule of every input: it stays inside the
+    # casefile folder once symbolic links are followed.
+    if (root / MANIFEST).is_symlink() and resolve_inside(root, MANIFEST, problems, MANIFEST, "casefile.toml") is None:
+        _raise(problems)
     text = read_text(root / MANIFEST, MANIFEST, limits.max_file_bytes, problems, hashes)
     if text is None:
         _raise(problems)
@@ -166,9 +176,13 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None)
     except RecursionError:  # arrays or tables nested thousands deep: hostile, not a manifest
         problems.add(MANIFEST, None, None, None, "not valid TOML: nested too deeply")
         _raise(problems)
+    except ValueError as exc:  # an integer of over 4,300 digits (Python's int-string limit)
+        problems.add(MANIFEST, None, None, None, f"not valid TOML: a value cannot be read ({exc})")
+        _raise(problems)
     m = _Manifest(doc, root, problems)
     ctx = {"calendars": tuple(m.calendars), "parties": tuple(m.parties),
-           "problems": problems, "warnings": warnings, "memo": {}}
+           "problems": problems, "warnings": warnings, "memo": {},
+           "calendar_objs": m.calendars, "default_calendar": m.project.default_calendar if m.project else None}
 
     snapshots: list[Snapshot] = []
     snapshot_ids: set[str] = set()
@@ -234,7 +248,11 @@ def _read_snapshot(spec, root: Path, limits: Limits, hashes, ctx) -> tuple[Snaps
             links = read_links(rows, rel, known=table.ids, finished=finished,
                                problems=problems, warnings=ctx["warnings"],
                                memo=ctx["memo"].setdefault("links", {}))
+            before = len(problems)
             check_loops(list(table.ids), links, rel, problems)
+            if len(problems) == before:
+                check_span(table.activities, links, ctx["calendar_objs"], ctx["default_calendar"],
+                           paths["activities"][0], problems)
     ids = set() if table is None else set(table.ids)
     if table is None or len(sources) < 2 or data_date is None or sid is None:
         return None, ids
@@ -255,12 +273,28 @@ def _read_fragnets(root: Path, limits: Limits, hashes, snapshot_ids: set[str], s
     folder = root / "fragnets"
     fragnets: dict[str, Fragnet] = {}
     unreadable: set[str] = set()
-    if not folder.exists():
+    if not folder.exists() and not folder.is_symlink():
         return fragnets, unreadable
     if resolve_inside(root, "fragnets", problems, "fragnets", "fragnets") is None:
         return fragnets, unreadable
-    for sub in sorted(p for p in folder.iterdir() if p.is_dir() and not p.name.startswith(".")):
+    if not folder.is_dir():
+        problems.add("fragnets", None, None, None,
+                     "is a file, expected a folder holding one sub-folder per fragnet")
+        return fragnets, _Everything()  # the events' fragnets are echoes of this problem
+    subs = sorted(p for p in folder.iterdir() if p.is_dir())
+    for sub in subs:
         name = sub.name
+        if name.startswith("."):
+            # Hidden folders (.git, editor backups) are not fragnets; say so,
+            # since an event naming one would otherwise find it missing.
+            ctx["warnings"].append(f"fragnets/{printable(name)}: a folder whose name starts with a dot is ignored, "
+                                   "not read as a fragnet")
+            continue
+        bad = find_unsafe_char(name)
+        if bad is not None:
+            problems.add(f"fragnets/{name}", None, None, bad[1],
+                         "a fragnet folder name may not contain control or text-direction characters")
+            continue
         unreadable.add(name)  # until it is read whole
         found = {}
         for what in ("activities", "links"):
@@ -292,10 +326,19 @@ def _read_fragnets(root: Path, limits: Limits, hashes, snapshot_ids: set[str], s
         check_loops(list(table.ids), links, lrel, problems)
         if len(problems) == before:
             check_fragnet_loops(table.ids, links, snapshots, lrel, problems)
+        if len(problems) == before:
+            check_span(table.activities, links, ctx["calendar_objs"], ctx["default_calendar"], rel, problems)
         fragnets[name] = Fragnet(name, frozen_mapping(table.activities), tuple(links),
                                  frozen_mapping({"activities": rel, "links": lrel}))
         unreadable.discard(name)
     return fragnets, unreadable
+
+
+class _Everything(set):
+    """A set that holds every name (every fragnet is unreadable when ``fragnets`` is not a folder)."""
+
+    def __contains__(self, item) -> bool:
+        return True
 
 
 class _Manifest:
@@ -369,7 +412,12 @@ class _Manifest:
             return None
         unsafe = find_unsafe_char(value)
         if unsafe is not None:
-            self._bad(f"{where}.{key}", unsafe[1], "contains a control or text-direction character; expected printable text")
+            self._bad(f"{where}.{key}", unsafe[1], unsafe_message(unsafe[1], "contains"))
+            return None
+        if key in ("id", "default_calendar", "completion"):
+            if not check_id(value, MANIFEST, None, f"{where}.{key}", self.problems):
+                return None
+        elif not check_text(value, MANIFEST, None, f"{where}.{key}", self.problems):
             return None
         if choices is not None and value not in choices:
             self._bad(f"{where}.{key}", value, f"expected one of {', '.join(choices)}")
@@ -393,9 +441,15 @@ class _Manifest:
         if not isinstance(values, list):
             self._bad(f"{where}.{key}", values, "expected a list of dates such as [2026-12-25]")
             return ()
+        if len(values) > MAX_DATES:
+            self._bad(f"{where}.{key}", f"{len(values)} dates",
+                      f"over the ceiling of {MAX_DATES} dates in one list; the list is not read")
+            return ()
         out = [d for d in (self._date(v, f"{where}.{key}") for v in values) if d is not None]
-        for d in sorted({d for d in out if out.count(d) > 1}):
-            self._bad(f"{where}.{key}", d.isoformat(), "date listed twice")
+        # One pass (a Counter), each duplicate reported once however often it repeats.
+        for d, n in sorted(Counter(out).items()):
+            if n > 1:
+                self._bad(f"{where}.{key}", d.isoformat(), "date listed twice" if n == 2 else f"date listed {n} times")
         return tuple(sorted(set(out)))
 
     # -- tables -------------------------------------------------------------

@@ -11,6 +11,7 @@ expected.
 
 from __future__ import annotations
 
+import re
 from collections.abc import Sequence
 from dataclasses import dataclass
 
@@ -28,7 +29,47 @@ __all__ = [
     "ScheduleError",
     "TemplateError",
     "WindowSpecError",
+    "loop_text",
+    "printable",
+    "shorten",
 ]
+
+# At most this many problems are listed in one message, then a count of the
+# rest: one mistake repeated 50,000 times must not print megabytes.
+MAX_LISTED = 50
+# A loop of more than LOOP_WHOLE activities is shown by its first and last
+# LOOP_SHOWN activities and the count between them.
+LOOP_WHOLE = 50
+LOOP_SHOWN = 10
+
+# A value longer than this is shown by its start and end in a message (a
+# 100,000-character id would otherwise fill the terminal); the structured
+# ``InputProblem.value`` keeps it whole.
+SHOWN_CHARS = 400
+# Characters never printed raw in a message: C0 and C1 controls other than
+# line feed and tab, DEL, the byte-order mark, the bidirectional controls and
+# the Unicode non-characters. A hostile name could otherwise set the
+# terminal's title, clear the screen or reorder the text (Unicode TR36;
+# CVE-2021-42574; common practice).
+_RAW_UNSAFE = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f\u061c\u200b-\u200f\u2028-\u202e"
+                         "\u2060-\u2069\ufeff\ufff9-\ufffb\ufffe\uffff]")
+
+
+def printable(text: str) -> str:
+    """``text`` with every character that could drive a terminal written as an escape (``\\x1b``)."""
+    def esc(hit: re.Match) -> str:
+        code = ord(hit.group())
+        return f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}"
+    return _RAW_UNSAFE.sub(esc, text)
+
+
+def shorten(text: str, limit: int = SHOWN_CHARS) -> str:
+    """``text`` cut to its start and end with an ellipsis and its length when over ``limit`` characters."""
+    if len(text) <= limit:
+        return text
+    head = limit * 2 // 3
+    tail = limit - head
+    return f"{text[:head]}\u2026{text[-tail:]} [{len(text)} characters]"
 
 
 class ForensicError(Exception):
@@ -57,8 +98,35 @@ class InputProblem:
             where += f", line {self.line}"
         if self.key:
             where += f", {self.key}"
-        shown = "" if self.value is None else f" (value: {self.value!r})"
+        shown = "" if self.value is None else f" (value: {_quoted(self.value)})"
         return f"{where}: {self.message}{shown}"
+
+
+def _quoted(value: str) -> str:
+    """``repr`` of a value (which escapes controls), shortened when long."""
+    if len(value) <= SHOWN_CHARS:
+        return repr(value)
+    head = SHOWN_CHARS * 2 // 3
+    return f"{value[:head]!r}\u2026{value[head - SHOWN_CHARS:]!r} [{len(value)} characters]"
+
+
+def loop_text(activities: Sequence[str]) -> str:
+    """A loop as ``A -> B -> C -> A``; a long one as its first and last activities and the count."""
+    ids = list(activities)
+    if len(ids) <= LOOP_WHOLE:
+        return " -> ".join([*ids, ids[0]]) if ids else ""
+    head = " -> ".join(ids[:LOOP_SHOWN])
+    tail = " -> ".join([*ids[-LOOP_SHOWN:], ids[0]])
+    return f"{head} -> ... ({len(ids) - 2 * LOOP_SHOWN} more) ... -> {tail} ({len(ids)} activities)"
+
+
+def _listing(problems: Sequence[object]) -> str:
+    """The first :data:`MAX_LISTED` problems, one a line, and a count of the rest."""
+    lines = [f"  {p}" for p in problems[:MAX_LISTED]]
+    if len(problems) > MAX_LISTED:
+        lines.append(f"  ... and {len(problems) - MAX_LISTED} more problems not listed "
+                     f"(the first {MAX_LISTED} are shown; fix these and run again)")
+    return "\n".join(lines)
 
 
 class CasefileError(ForensicError, ValueError):
@@ -73,9 +141,7 @@ class CasefileError(ForensicError, ValueError):
         if len(self.problems) == 1:
             msg = str(self.problems[0])
         else:
-            msg = f"{len(self.problems)} problems in the casefile:\n" + "\n".join(
-                f"  {p}" for p in self.problems
-            )
+            msg = f"{len(self.problems)} problems in the casefile:\n" + _listing(self.problems)
         super().__init__(msg)
 
 
@@ -90,7 +156,7 @@ class ImportMappingError(CasefileError):
     def __init__(self, problems: Sequence[InputProblem]):
         super().__init__(problems)
         if len(self.problems) > 1:
-            listing = "\n".join(f"  {p}" for p in self.problems)
+            listing = _listing(self.problems)
             self.args = (f"{len(self.problems)} problems in the import:\n{listing}",)
 
 
@@ -111,7 +177,7 @@ class LogicLoopError(ScheduleError):
 
     def __init__(self, activities: Sequence[str], where: str = ""):
         self.activities = tuple(activities)
-        loop = " -> ".join([*self.activities, self.activities[0]]) if self.activities else ""
+        loop = loop_text(self.activities)
         prefix = f"{where}: " if where else ""
         msg = f"{prefix}logic loop: {loop}; a loop has no schedule, break one of its links"
         super().__init__(msg)

@@ -146,6 +146,33 @@ def unknown_encoding(f: Path) -> None:
     _replace(f, "mapping.toml", "hours_per_day = 8", 'hours_per_day = 8\nencoding = "utf-99"')
 
 
+def exponent_duration(f: Path) -> None:
+    _replace(f, TASKS, "KL-110,Abutment piles,Work,80,", "KL-110,Abutment piles,Work,8e1,")
+
+
+def underscore_duration(f: Path) -> None:
+    _replace(f, TASKS, "KL-110,Abutment piles,Work,80,", "KL-110,Abutment piles,Work,8_0,")
+
+
+def full_width_digits_in_lag(f: Path) -> None:
+    # logic-baseline.csv line 3: KL-100 -> KL-110, its lag in hours written in full-width digits
+    _replace(f, LOGIC, "KL-100,KL-110,Finish-Start,0", "KL-100,KL-110,Finish-Start,\uff10")
+
+
+def short_row(f: Path) -> None:
+    # KL-110 loses its last five cells (Began ... Notes): an in-progress task would read as not started
+    _replace(f, TASKS, "KL-110,Abutment piles,Work,80,,,,5d,BLD,0%,north and south", "KL-110,Abutment piles,Work,80,,")
+
+
+def rot13_encoding(f: Path) -> None:
+    # rot13 is a codec (codecs.lookup finds it) but maps str to str, not bytes to text
+    _replace(f, "mapping.toml", "hours_per_day = 8", 'hours_per_day = 8\nencoding = "rot13"')
+
+
+def base64_encoding(f: Path) -> None:
+    _replace(f, "mapping.toml", "hours_per_day = 8", 'hours_per_day = 8\nencoding = "base64"')
+
+
 def long_delimiter(f: Path) -> None:
     _replace(f, "mapping.toml", "hours_per_day = 8", 'hours_per_day = 8\ndelimiter = ";;"')
 
@@ -210,6 +237,18 @@ CASES = [
     Case("hours-per-day-as-text", hours_per_day_as_text,
          ("mapping.toml, values.hours_per_day", "expected a number of hours", "(value: '8')")),
     Case("unknown-encoding", unknown_encoding, ("mapping.toml, values.encoding", "(value: 'utf-99')")),
+    Case("exponent-duration", exponent_duration,
+         ("tasks-baseline.csv, line 4, Span (h)", "no exponent such as 1e1", "(value: '8e1')")),
+    Case("underscore-duration", underscore_duration,
+         ("tasks-baseline.csv, line 4, Span (h)", "no underscore", "(value: '8_0')")),
+    Case("full-width-digit-lag", full_width_digits_in_lag,
+         ("logic-baseline.csv, line 3, Gap (h)", "in the digits 0-9", "(value: '\uff10')")),
+    Case("short-row", short_row,
+         ("tasks-baseline.csv, line 4", "row has 6 cells, the header has 11", "(value: '6')")),
+    Case("rot13-encoding", rot13_encoding,
+         ("mapping.toml, values.encoding", "expected a text encoding", "(value: 'rot13')")),
+    Case("base64-encoding", base64_encoding,
+         ("mapping.toml, values.encoding", "expected a text encoding", "(value: 'base64')")),
     Case("long-delimiter", long_delimiter, ("mapping.toml, values.delimiter", "one character", "(value: ';;')")),
     Case("snapshot-id-climbing-out", snapshot_id_climbing_out,
          ("mapping.toml, snapshot ../../escaped.id", "names a casefile folder", "(value: '../../escaped')")),
@@ -255,4 +294,33 @@ def test_hostile_import_is_refused_cleanly(case: Case, tmp_path: Path, monkeypat
         assert hint in text
     assert sorted(os.listdir(work)) == ["src"]  # no --out, no temporary .out.*.part folder
     assert not (tmp_path / "escaped").exists()
+    assert tree(src) == before
+
+
+def test_hidden_sheets_hidden_rows_and_merged_cells_are_reported_in_what_the_import_prints(tmp_path, monkeypatch):
+    """Read as they are, but said: a reader of the workbook would not see them, or see them otherwise.
+
+    The Tasks sheet is hidden behind a visible Cover sheet; sheet row 4
+    (KL-110) is hidden; K5:K6 (two Notes cells) are merged.
+    """
+    work = tmp_path / "work"
+    src = work / "src"
+    shutil.copytree(EXAMPLE, src)
+
+    def hide(ws) -> None:
+        ws.row_dimensions[4].hidden = True
+        ws.merge_cells("K5:K6")
+        ws.sheet_state = "hidden"
+        ws.parent.create_sheet("Cover", 0).append(["see the Tasks sheet"])
+
+    _workbook(src / "tasks.xlsx", _tasks_rows(src), hide)
+    _use_sheet(src)
+    before = tree(src)
+    monkeypatch.chdir(work)
+    result = CliRunner().invoke(main, ["import", str(src / "mapping.toml"), "--out", str(work / "out")])
+    assert result.exit_code == 0, result.output
+    assert "activities: tasks.xlsx[Tasks] is a hidden sheet; it was read like any other" in result.output
+    assert "activities: tasks.xlsx[Tasks]: hidden rows read like any other (1: 4)" in result.output
+    assert ("activities: tasks.xlsx[Tasks]: merged cells, each read as its top-left cell with the others blank "
+            "(1: K5:K6)") in result.output
     assert tree(src) == before

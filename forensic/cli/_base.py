@@ -3,13 +3,15 @@
 from __future__ import annotations
 
 import os
+import signal
 import sys
+import threading
 
 import click
 
 from .. import __version__
 from ..casefile import Limits
-from ..errors import ForensicError
+from ..errors import ForensicError, printable
 
 __all__ = ["main"]
 
@@ -18,12 +20,21 @@ class _Group(click.Group):
     """A group that shows library errors as ``Error: ...`` (exit 1), never a traceback."""
 
     def invoke(self, ctx: click.Context):
+        if threading.current_thread() is threading.main_thread() and \
+                getattr(signal.getsignal(signal.SIGINT), "forensic_early", False):
+            # From here Ctrl-C is a KeyboardInterrupt again (the entry point's
+            # early handler exits at once), so that an interrupted write can
+            # remove its temporary file before the message below.
+            signal.signal(signal.SIGINT, signal.default_int_handler)
         try:
             return super().invoke(ctx)
-        except (click.exceptions.ClickException, click.exceptions.Exit, click.exceptions.Abort):
+        except click.exceptions.ClickException as exc:
+            exc.message = printable(exc.message)  # a value quoted from a hostile input stays inert
+            raise
+        except (click.exceptions.Exit, click.exceptions.Abort):
             raise
         except ForensicError as exc:
-            raise click.ClickException(str(exc)) from None
+            raise click.ClickException(printable(str(exc))) from None
         except BrokenPipeError:
             # The reader went away (``forensic ... | head``): stop quietly, as
             # the Python docs advise ("Note on SIGPIPE", signal module), with
@@ -41,7 +52,7 @@ class _Group(click.Group):
                 f"internal error ({type(exc).__name__}: {exc}); please report it with the "
                 "command you ran (FORENSIC_DEBUG=1 shows the traceback)"
             )
-            raise click.ClickException(msg) from None
+            raise click.ClickException(printable(msg)) from None
 
 
 _DEFAULT = Limits()

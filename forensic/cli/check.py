@@ -6,6 +6,7 @@ from pathlib import Path
 
 import click
 
+from ..errors import MAX_LISTED, printable
 from ..model import Casefile
 from ..quality import QualityCheck, assess_casefile, quality_json, quality_table
 from ..tables import Table, dumps_json, to_csv, to_text
@@ -69,8 +70,11 @@ def check(casefile: Path, quality: bool, snapshot_ids: tuple[str, ...], as_json:
         emit(to_text(table))
     if result.warnings:
         click.echo(f"{len(result.warnings)} warning(s):", err=True)
-        for w in result.warnings:
-            click.echo(f"  warning: {w}", err=True)
+        for w in result.warnings[:MAX_LISTED]:
+            click.echo(f"  warning: {printable(w)}", err=True)
+        if len(result.warnings) > MAX_LISTED:  # --json lists them all
+            click.echo(f"  ... and {len(result.warnings) - MAX_LISTED} more warnings not listed "
+                       "(--json lists every one)", err=True)
 
 
 def _limit(c: QualityCheck) -> str:

@@ -56,6 +56,12 @@ def compare_command(casefile: Path, old: str, new: str, as_json: bool, as_csv: b
     """
     cf = load(casefile)
     result = compare_snapshots(cf, old, new)
+    if result.old_data_date > result.new_data_date:
+        # Allowed (a reviewer may want it), but almost always a slip: say so on stderr.
+        click.echo(f"warning: the order is reversed: OLD {result.old_id} (data date {result.old_data_date.isoformat()}) "
+                   f"is later than NEW {result.new_id} (data date {result.new_data_date.isoformat()}), so every change "
+                   f"reads backwards; give the older snapshot first (forensic compare CASEFILE {result.new_id} "
+                   f"{result.old_id})", err=True)
     emit_xlsx([compare_table(result)], cf)
     fmt = pick_format(as_json, as_csv)
     if fmt == "json":

@@ -27,7 +27,7 @@ from ..quality import assess_casefile
 from ..recovery import recover
 from ..trend import completion_trend
 from .narrative import ReportContext, long_date
-from .pdf import build_pdf, font_family
+from .pdf import Heading, build_pdf, collect_long_texts, font_family, styles
 from .sections import render_section
 from .templates import Template, builtin_templates, load_template
 
@@ -139,15 +139,17 @@ def build_report(
     step("writing the pages")
     story = []
     number = 0
-    for section in tpl.sections:
-        if section.kind in left_out:
-            continue  # one snapshot (no window to analyse), or acceleration not asked for
-        numbered = section.kind != "cover" and tpl.settings["numbered_headings"]
-        flowables = render_section(ctx, section, number + 1 if numbered else None)
-        if flowables is None:
-            continue
-        number += numbered
-        story += flowables
+    with collect_long_texts() as long_texts:
+        for section in tpl.sections:
+            if section.kind in left_out:
+                continue  # one snapshot (no window to analyse), or acceleration not asked for
+            numbered = section.kind != "cover" and tpl.settings["numbered_headings"]
+            flowables = render_section(ctx, section, number + 1 if numbered else None)
+            if flowables is None:
+                continue
+            number += numbered
+            story += flowables
+    story += _long_text_appendix(long_texts)
     last = casefile.snapshots[-1]
     footer = f"{tpl.title} · {casefile.project.name} · data date {long_date(last.data_date)}"
     return build_pdf(
@@ -158,3 +160,20 @@ def build_report(
         author=f"forensic {__version__}",
         creator=f"forensic {__version__}",
     )
+
+
+def _long_text_appendix(long_texts: dict[str, int]) -> list:
+    """The full text of every table cell cut for length, by note number (nothing when none was cut)."""
+    if not long_texts:
+        return []
+    from xml.sax.saxutils import escape
+
+    from reportlab.platypus import Paragraph
+
+    st = styles()
+    out = [Heading(escape("Appendix: full text of shortened entries"), st["h1"], "long-texts")]
+    out.append(Paragraph(escape("A table cell shows at most 300 characters; these entries were cut there "
+                                "with an ellipsis and are given here whole."), st["body"]))
+    for text, number in long_texts.items():
+        out.append(Paragraph(f"<b>Note {number}.</b> {escape(text)}", st["small"]))
+    return out

@@ -15,9 +15,11 @@ bytes of the PDF depend on it.
 
 from __future__ import annotations
 
+import contextvars
 import io
 import os
-from collections.abc import Sequence
+from collections.abc import Iterator, Sequence
+from contextlib import contextmanager
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -38,19 +40,26 @@ from reportlab.platypus import (
     Flowable,
     Frame,
     KeepTogether,
+    LayoutError,
     PageTemplate,
     Paragraph,
     Table,
     TableStyle,
 )
 
+from ..errors import ForensicError
+
 __all__ = [
+    "CELL_CHARS",
     "INK",
     "FRAME_WIDTH",
     "FontFamily",
     "Heading",
+    "ReportLayoutError",
     "boxed",
     "build_pdf",
+    "cell_text",
+    "collect_long_texts",
     "data_table",
     "fit_text",
     "paragraphs",
@@ -66,6 +75,49 @@ RULE = colors.HexColor("#8c96a0")
 HEADER_FILL = colors.HexColor("#dfe4e8")
 ZEBRA = colors.HexColor("#f3f5f7")
 MARK = colors.HexColor("#c4ccd4")
+
+
+# A table cell holds at most this many characters; a longer value (a name of
+# thousands of characters, a word of thousands of letters) is cut with an
+# ellipsis and a note number, and its full text is printed in the appendix
+# "Full text of shortened entries" (a table row cannot break across pages,
+# so one huge cell would make the table impossible to lay out).
+CELL_CHARS = 300
+# The full texts of the cells cut in the report being built (see collect_long_texts).
+_LONG: contextvars.ContextVar[dict[str, int] | None] = contextvars.ContextVar("forensic_long_texts", default=None)
+
+
+class ReportLayoutError(ForensicError, ValueError):
+    """Raised when the report cannot be laid out (an entry too large for a page)."""
+
+
+@contextmanager
+def collect_long_texts() -> Iterator[dict[str, int]]:
+    """Collect, while the report is built, the full text of every table cell :func:`cell_text` cuts.
+
+    Yields the mapping full text -> note number (1, 2, ... in order of first use).
+    """
+    notes: dict[str, int] = {}
+    token = _LONG.set(notes)
+    try:
+        yield notes
+    finally:
+        _LONG.reset(token)
+
+
+def cell_text(text: str, limit: int = CELL_CHARS) -> str:
+    """``text`` as it fits a table cell: whole, or cut with an ellipsis and the number of its note.
+
+    Inside :func:`collect_long_texts` the full text is kept for the appendix
+    and the cut text ends with ``[full text: note N]``.
+    """
+    if len(text) <= limit:
+        return text
+    notes = _LONG.get()
+    if notes is None:
+        return text[: limit - 1].rstrip() + "\u2026"
+    number = notes.setdefault(text, len(notes) + 1)
+    return text[: limit - 1].rstrip() + f"\u2026 [full text: note {number}]"
 
 
 @dataclass(frozen=True, slots=True)
@@ -190,13 +242,14 @@ def data_table(
     """
     st = styles()
     hs = ("tiny_head_right", "tiny_head") if small_head else ("cell_head_right", "cell_head")
-    head = [Paragraph(escape(str(c)), st[hs[0]] if i in numeric else st[hs[1]]) for i, c in enumerate(columns)]
+    head = [Paragraph(escape(cell_text(str(c))), st[hs[0]] if i in numeric else st[hs[1]])
+            for i, c in enumerate(columns)]
     body = []
     marks = set(marked)
     for r, row in enumerate(rows):
         cells = []
         for i, v in enumerate(row):
-            text = escape("" if v is None else str(v))
+            text = escape(cell_text("" if v is None else str(v)))
             style = st["small_right"] if i in numeric else st["tiny"] if i in tiny else st["small"]
             cells.append(Paragraph(f"<b>{text}</b>" if (r, i) in marks else text, style))
         body.append(cells)
@@ -204,7 +257,7 @@ def data_table(
     fixed: dict[int, float] = {}
     for i in fit:
         cell = st["tiny"] if i in tiny else st["small"]
-        texts = ["" if row[i] is None else str(row[i]) for row in rows]
+        texts = [cell_text("" if row[i] is None else str(row[i])) for row in rows]
         widest = max((pdfmetrics.stringWidth(t, cell.fontName, cell.fontSize) for t in texts), default=0.0)
         head_word = max((pdfmetrics.stringWidth(w, st[hs[1]].fontName, st[hs[1]].fontSize)
                          for w in str(columns[i]).split()), default=0.0)
@@ -231,8 +284,16 @@ def data_table(
     return KeepTogether([table]) if keep and len(body) <= 12 else table
 
 
-def boxed(flowables: list[Flowable]) -> Table:
-    """Paragraphs in one shaded, ruled box (the cautions)."""
+def boxed(flowables: list[Flowable]) -> Flowable:
+    """Paragraphs in one shaded, ruled box (the cautions).
+
+    A box cannot break across pages: content taller than half a page (a
+    project name of thousands of characters in the wording) is set unboxed,
+    so that it can.
+    """
+    height = sum(f.wrap(FRAME_WIDTH - 16, PAGE_HEIGHT)[1] for f in flowables)
+    if height > (PAGE_HEIGHT - 2 * MARGIN) / 2:
+        return _Unboxed(flowables)
     box = Table([[flowables]], colWidths=[FRAME_WIDTH], hAlign="LEFT")
     box.setStyle(TableStyle([
         ("BOX", (0, 0), (-1, -1), 0.8, RULE),
@@ -243,6 +304,27 @@ def boxed(flowables: list[Flowable]) -> Table:
         ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
     ]))
     return box
+
+
+class _Unboxed(Flowable):
+    """Flowables set one after another, splittable across pages (a caution too long for its box)."""
+
+    def __init__(self, flowables: list[Flowable]):
+        super().__init__()
+        self._flowables = list(flowables)
+
+    def wrap(self, avail_width, avail_height):
+        self._sizes = [f.wrap(avail_width, avail_height) for f in self._flowables]
+        return avail_width, sum(h for _w, h in self._sizes)
+
+    def split(self, avail_width, avail_height):
+        return list(self._flowables)
+
+    def draw(self):  # pragma: no cover - always split by the frame first when too tall
+        y = sum(h for _w, h in self._sizes)
+        for f, (_w, h) in zip(self._flowables, self._sizes, strict=True):
+            y -= h
+            f.drawOn(self.canv, 0, y)
 
 
 def _numbered_canvas(footer_left: str):
@@ -287,9 +369,16 @@ def fit_text(text: str, font: str, size: float, width: float) -> str:
     """``text`` cut with an ellipsis so that it fits ``width`` points."""
     if pdfmetrics.stringWidth(text, font, size) <= width:
         return text
-    while text and pdfmetrics.stringWidth(text + "…", font, size) > width:
-        text = text[:-1]
-    return text.rstrip() + "…"
+    # The longest prefix that fits with the ellipsis, by bisection: a
+    # character-by-character loop is quadratic on a name of 30,000 characters.
+    lo, hi = 0, len(text)
+    while lo < hi:
+        mid = (lo + hi + 1) // 2
+        if pdfmetrics.stringWidth(text[:mid] + "…", font, size) <= width:
+            lo = mid
+        else:
+            hi = mid - 1
+    return text[:lo].rstrip() + "…"
 
 
 class _Doc(BaseDocTemplate):
@@ -300,8 +389,31 @@ class _Doc(BaseDocTemplate):
             self.canv.addOutlineEntry(flowable.getPlainText(), key, level=flowable.outline_level, closed=False)
 
 
+@contextmanager
+def _without_source_date_epoch() -> Iterator[None]:
+    """Hide ``SOURCE_DATE_EPOCH`` from reportlab while the PDF is built.
+
+    reportlab stamps its creation date from that variable when it is set
+    (and fails on a value that is not a whole number); in invariant mode it
+    otherwise uses a fixed date. forensic ignores the variable: the report's
+    bytes depend on the casefile, the template, the settings and the font
+    only, which already makes it reproducible (docs/robustness.md).
+    """
+    saved = os.environ.pop("SOURCE_DATE_EPOCH", None)
+    try:
+        yield
+    finally:
+        if saved is not None:
+            os.environ["SOURCE_DATE_EPOCH"] = saved
+
+
 def build_pdf(story: list[Flowable], *, title: str, subject: str, footer: str, author: str, creator: str) -> bytes:
-    """Lay out ``story`` on A4 pages and return the PDF bytes (deterministic)."""
+    """Lay out ``story`` on A4 pages and return the PDF bytes (deterministic; ``SOURCE_DATE_EPOCH`` ignored)."""
+    with _without_source_date_epoch():
+        return _build_pdf(story, title=title, subject=subject, footer=footer, author=author, creator=creator)
+
+
+def _build_pdf(story: list[Flowable], *, title: str, subject: str, footer: str, author: str, creator: str) -> bytes:
     buf = io.BytesIO()
     doc = _Doc(
         buf,
@@ -321,5 +433,10 @@ def build_pdf(story: list[Flowable], *, title: str, subject: str, footer: str, a
     )
     frame = Frame(MARGIN, MARGIN, FRAME_WIDTH, PAGE_HEIGHT - 2 * MARGIN, id="body", leftPadding=0, rightPadding=0)
     doc.addPageTemplates([PageTemplate(id="page", frames=[frame])])
-    doc.build(story, canvasmaker=_numbered_canvas(footer))
+    try:
+        doc.build(story, canvasmaker=_numbered_canvas(footer))
+    except LayoutError as exc:
+        first = str(exc).splitlines()[0][:300]
+        msg = f"the report cannot be laid out: an entry is too large for a page ({first})"
+        raise ReportLayoutError(msg) from None
     return buf.getvalue()

@@ -248,6 +248,12 @@ def load_template(name_or_path: str | Path) -> Template:
     except tomllib.TOMLDecodeError as exc:
         msg = f"{file}: not valid TOML ({exc})"
         raise TemplateError(msg) from None
+    except RecursionError:  # arrays or tables nested thousands deep: hostile, not a template
+        msg = f"{file}: not valid TOML (nested too deeply)"
+        raise TemplateError(msg) from None
+    except ValueError as exc:  # an integer of over 4,300 digits (Python's int-string limit)
+        msg = f"{file}: not valid TOML (a value cannot be read: {exc})"
+        raise TemplateError(msg) from None
     if raw.get("format") != FORMAT:
         msg = f"{file}: format must be {FORMAT!r} (value: {raw.get('format')!r})"
         raise TemplateError(msg)

@@ -17,7 +17,8 @@ Operations (``do``):
   (``times`` repeats ``new``);
 - ``write`` / ``append``: set or extend ``file`` with ``text`` (``times`` repeats it);
 - ``put``: copy ``files/<source>`` byte for byte to ``file``;
-- ``remove``: delete ``file``;
+- ``remove``: delete ``file``; ``remove-folder``: delete the folder ``file`` and all it holds;
+- ``mkdir``: make the folder ``file`` (``text`` optional, ignored);
 - ``symlink``: make ``file`` a symbolic link to ``target`` (relative to the
   folder that holds the casefile, so outside it);
 - ``chain``: append ``count`` tasks to ``activities`` and links to ``links``
@@ -26,6 +27,7 @@ Operations (``do``):
 
 from __future__ import annotations
 
+import shutil
 import sys
 import tomllib
 from dataclasses import dataclass
@@ -41,7 +43,8 @@ __all__ = ["CASES_FILE", "Case", "build_case", "load_cases"]
 HERE = Path(__file__).resolve().parent
 CASES_FILE = HERE / "cases.toml"
 FILES = HERE / "files"
-CATEGORIES = ("encoding", "csv-shape", "values", "references", "logic", "manifest", "events-fragnets")
+CATEGORIES = ("encoding", "csv-shape", "values", "references", "logic", "manifest", "events-fragnets",
+              "internal-errors", "limits", "silent-acceptance")
 
 
 @dataclass(frozen=True)
@@ -88,6 +91,10 @@ def _apply(root: Path, op: dict) -> None:
         path.write_bytes((FILES / op["source"]).read_bytes())
     elif do == "remove":
         path.unlink()
+    elif do == "remove-folder":
+        shutil.rmtree(path)
+    elif do == "mkdir":
+        path.mkdir(parents=True)
     elif do == "symlink":
         target = root.parent / op["target"]
         target.parent.mkdir(parents=True, exist_ok=True)
