@@ -8,10 +8,19 @@ import click
 
 from ..model import Casefile
 from ..quality import QualityCheck, assess_casefile, quality_json, quality_table
-from ..tables import Table, dumps_json, to_csv, to_text
+from ..tables import Table, to_csv, to_text
 from ..validation import validate_casefile
 from ._base import main
-from ._common import casefile_argument, emit, emit_xlsx, format_options, load, pick_format, status
+from ._common import (
+    casefile_argument,
+    emit,
+    emit_json,
+    emit_xlsx,
+    format_options,
+    load,
+    pick_format,
+    status,
+)
 
 
 @main.command()
@@ -60,7 +69,7 @@ def check(casefile: Path, quality: bool, snapshot_ids: tuple[str, ...], as_json:
     )
     emit_xlsx([table], cf)
     if fmt == "json":
-        emit(dumps_json({"valid": True, "snapshots": table.records(), "warnings": list(result.warnings)}))
+        emit_json({"valid": True, "snapshots": table.records(), "warnings": list(result.warnings)})
         return
     if fmt == "csv":
         emit(to_csv(table))
@@ -91,7 +100,7 @@ def _quality(cf: Casefile, snapshot_ids: tuple[str, ...], fmt: str) -> None:
     reports = assess_casefile(cf, snapshot_ids or None)
     emit_xlsx([quality_table(reports)], cf)
     if fmt == "json":
-        emit(dumps_json(quality_json(reports)))
+        emit_json(quality_json(reports))
         return
     if fmt == "csv":
         emit(to_csv(quality_table(reports)))
