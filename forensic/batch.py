@@ -21,7 +21,7 @@ from concurrent.futures import ProcessPoolExecutor, as_completed
 from dataclasses import dataclass
 from pathlib import Path
 
-from .errors import ForensicError, NotFoundError
+from .errors import ForensicError, InputProblem, NotFoundError
 from .tables import Table
 
 __all__ = ["BatchRow", "batch_table", "find_casefiles", "run_batch", "run_one"]
@@ -41,6 +41,7 @@ class BatchRow:
     seconds: float
     error: str | None = None
     report: str | None = None
+    problems: tuple[InputProblem, ...] = ()
 
 
 def find_casefiles(folder: str | os.PathLike[str]) -> list[Path]:
@@ -78,8 +79,17 @@ def run_one(path: str | os.PathLike[str], report_dir: str | None = None) -> Batc
             out = _report(cf, Path(report_dir))
         return BatchRow(name, True, len(cf.snapshots), an.ledger.total_slip, an.unit, time.perf_counter() - t0, None, out)
     except ForensicError as exc:
-        first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
-        return BatchRow(name, False, None, None, None, time.perf_counter() - t0, first)
+        problems = tuple(getattr(exc, "problems", ()))
+        return BatchRow(name, False, None, None, None, time.perf_counter() - t0, _summary(exc, problems),
+                        problems=problems)
+
+
+def _summary(exc: ForensicError, problems: tuple[InputProblem, ...]) -> str:
+    """The error of a failed casefile on one line, keeping every problem ("2 problems: a; b")."""
+    if len(problems) > 1:
+        return f"{len(problems)} problems in the casefile: " + "; ".join(str(p) for p in problems)
+    text = " ".join(line.strip() for line in str(exc).strip().splitlines() if line.strip())
+    return text or type(exc).__name__
 
 
 def _report(cf, folder: Path) -> str:

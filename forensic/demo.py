@@ -1,7 +1,8 @@
 """The demo casefile shipped with the project, and copying it for a user.
 
-The demo lives in the repository's ``casefiles/`` folder (an invented
-project; its README tells the story). ``forensic demo`` copies it to a
+The demo's editable copy is the source tree's ``casefiles/riverside/`` (an
+invented project; its README tells the story); an installed package carries
+a copy as package data (:mod:`forensic._shipped`). ``forensic demo`` copies it to a
 folder of the user's choice and runs the main job there, so nothing is ever
 written inside the installed package.
 """
@@ -12,6 +13,7 @@ import hashlib
 import shutil
 from pathlib import Path
 
+from ._shipped import shipped
 from .errors import NotFoundError, OutputError
 
 __all__ = ["DEMO_NAME", "copy_demo", "demo_source"]
@@ -20,12 +22,12 @@ DEMO_NAME = "riverside"
 
 
 def demo_source() -> Path:
-    """The folder of the demo casefile in the project's ``casefiles/``."""
-    here = Path(__file__).resolve().parent.parent / "casefiles" / DEMO_NAME
-    if not (here / "casefile.toml").is_file():
+    """The folder of the demo casefile: the package's copy, or ``casefiles/`` of a source tree."""
+    here = shipped(f"casefiles/{DEMO_NAME}")
+    if here is None or not (here / "casefile.toml").is_file():
         msg = (
-            f"the demo casefile was not found at {here}; install the project from its "
-            "source folder (pip install -e .) so that casefiles/ is beside the package"
+            "the demo casefile was not found in the installed package nor in a source tree; "
+            "reinstall forensic from a wheel or from its source folder (pip install .)"
         )
         raise NotFoundError(msg)
     return here

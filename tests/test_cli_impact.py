@@ -34,8 +34,12 @@ def test_impact_json_has_exactly_the_contract_keys(case):
     res = run("impact", "X", "--event", "E1", "--json")
     assert res.exit_code == 0, res.output
     obj = json.loads(res.output)
+    # The seven contract keys in order, then the two that trace the run (issue 21; an in-memory
+    # casefile has no input files, so no digests).
     assert list(obj) == ["event", "into", "completion_before", "completion_after", "impact", "milestones",
-                         "critical_path", "represented_as", "days", "events", "warnings"]
+                         "critical_path", "represented_as", "days", "events", "warnings",
+                         "forensic_version", "inputs_sha256"]
+    assert obj["inputs_sha256"] == {}
     assert (obj["event"], obj["into"], obj["impact"]) == ("E1", "U1", 6)  # 6 days on the critical path
     assert (obj["represented_as"], obj["days"]) == ("fragnet", {"F1-X": 6})
     assert obj["completion_after"] == date(2026, 1, 20).isoformat()

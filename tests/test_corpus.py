@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import collections
 import hashlib
+import json
 import os
 import subprocess
 import sys
@@ -83,9 +84,16 @@ def test_malformed_casefile_is_refused_by_check(case, tmp_path, workdir):
     before = tree(tmp_path / "in")
     result = CliRunner().invoke(main, ["check", str(root), "--json"])
     assert result.exit_code == 1, result.output
-    assert result.output.startswith("Error: ")  # click.ClickException (common practice)
+    assert result.stderr.startswith("Error: ")  # click.ClickException (common practice)
     assert "Traceback" not in result.output and "internal error" not in result.output
-    problem_line(case, result.output)
+    problem_line(case, result.stderr)
+    # With --json, stdout is {"valid": false, "problems": [...]} and one problem is the case's (issue 21).
+    data = json.loads(result.stdout)
+    assert data["valid"] is False
+    assert any(p["file"] == case.file and case.says in p["message"]
+               and (case.line is None or p["line"] == case.line)
+               and (case.key is None or p["key"] == case.key)
+               and (case.value is None or p["value"] == case.value) for p in data["problems"]), data
     assert tree(tmp_path / "in") == before
     assert list(workdir.iterdir()) == []
 

@@ -9,11 +9,13 @@ from pathlib import Path
 
 import click
 
+from .. import __version__
 from ..model import Casefile
 from ..outputs import atomic_write
+from ..tables import dumps_json
 
-__all__ = ["casefile_argument", "emit", "emit_xlsx", "format_options", "limit_hint", "load", "pick_format",
-           "status", "xlsx_option"]
+__all__ = ["casefile_argument", "emit", "emit_json", "emit_xlsx", "format_options", "limit_hint", "load",
+           "pick_format", "provenance", "status", "xlsx_option"]
 
 
 def casefile_argument(func: Callable) -> Callable:
@@ -151,6 +153,41 @@ def emit(text: str, out: Path | None = None, casefile: Casefile | None = None,
         return
     atomic_write(out, text, _protected(casefile, protected))
     click.echo(f"wrote {out}", err=True)
+
+
+def provenance(casefile: Casefile | None) -> dict[str, object]:
+    """The keys that trace a JSON output to its run, as the report's record of inputs does.
+
+    ``forensic_version`` is the software that computed it; ``inputs_sha256``
+    maps each casefile file read (its path relative to the casefile folder,
+    in sorted order) to the SHA-256 of its bytes, the same digests the PDF's
+    "inputs" section lists (``Casefile.inputs``, hashed by the loader). A
+    casefile built in memory, or none, gives an empty mapping.
+    """
+    inputs = {} if casefile is None else dict(sorted(casefile.inputs.items()))
+    return {"forensic_version": __version__, "inputs_sha256": inputs}
+
+
+def emit_json(obj: object, out: Path | None = None, casefile: Casefile | None = None,
+              protected: Iterable[Path] = ()) -> None:
+    """:func:`emit` a JSON document stamped with :func:`provenance` (every existing key kept).
+
+    The two keys are added after the document's own keys; a list of
+    documents (``impact --event A --event B``) stamps each one. A key the
+    document already has is never overwritten.
+    """
+    ctx = click.get_current_context(silent=True)
+    if casefile is None and ctx is not None:
+        casefile = ctx.meta.get(_CASEFILE)
+    stamp = provenance(casefile)
+
+    def stamped(doc: object) -> object:
+        if not isinstance(doc, dict):
+            return doc
+        return {**doc, **{k: v for k, v in stamp.items() if k not in doc}}
+
+    obj = [stamped(d) for d in obj] if isinstance(obj, list) else stamped(obj)
+    emit(dumps_json(obj), out=out, casefile=casefile, protected=protected)
 
 
 def status(message: str) -> None:

@@ -8,9 +8,9 @@ from pathlib import Path
 import click
 
 from ..batch import batch_table, find_casefiles, run_batch
-from ..tables import dumps_json, to_csv, to_text
+from ..tables import to_csv, to_text
 from ._base import main
-from ._common import emit, emit_xlsx, format_options, pick_format
+from ._common import emit, emit_json, emit_xlsx, format_options, pick_format
 
 
 @main.command()
@@ -45,7 +45,12 @@ def batch(folder: Path, jobs: int | None, report_dir: Path | None, as_json: bool
     emit_xlsx([table], protected=protected)
     fmt = pick_format(as_json, as_csv)
     if fmt == "json":
-        emit(dumps_json({"casefiles": table.records(), "failed": sum(not r.valid for r in rows)}), protected=protected)
+        # Each row also lists every problem of a failed casefile (file, line, key, value, message).
+        # The casefiles are read in the workers: the version is stamped, inputs_sha256 stays empty.
+        records = [{**rec, "problems": [{"file": p.file, "line": p.line, "key": p.key, "value": p.value,
+                                         "message": p.message} for p in r.problems]}
+                   for rec, r in zip(table.records(), rows, strict=True)]
+        emit_json({"casefiles": records, "failed": sum(not r.valid for r in rows)}, protected=protected)
     elif fmt == "csv":
         emit(to_csv(table), protected=protected)
     else:

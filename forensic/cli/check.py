@@ -6,13 +6,22 @@ from pathlib import Path
 
 import click
 
-from ..errors import MAX_LISTED, printable
+from ..errors import MAX_LISTED, ForensicError, printable
 from ..model import Casefile
 from ..quality import QualityCheck, assess_casefile, quality_json, quality_table
-from ..tables import Table, dumps_json, to_csv, to_text
+from ..tables import Table, to_csv, to_text
 from ..validation import validate_casefile
 from ._base import main
-from ._common import casefile_argument, emit, emit_xlsx, format_options, load, pick_format, status
+from ._common import (
+    casefile_argument,
+    emit,
+    emit_json,
+    emit_xlsx,
+    format_options,
+    load,
+    pick_format,
+    status,
+)
 
 
 @main.command()
@@ -41,16 +50,23 @@ def check(casefile: Path, quality: bool, snapshot_ids: tuple[str, ...], as_json:
       forensic check casefiles/riverside --quality --snapshot U02 --json
 
     """
-    status(f"Loading {casefile} ...")
-    cf = load(casefile)
+    if snapshot_ids and not quality:
+        raise click.UsageError("--snapshot needs --quality")
     fmt = pick_format(as_json, as_csv)
+    status(f"Loading {casefile} ...")
+    try:
+        cf = load(casefile)
+        if not quality:
+            status(f"Scheduling {len(cf.snapshots)} snapshots ...")
+            result = validate_casefile(cf)
+    except (ForensicError, click.ClickException) as exc:
+        if fmt != "json":
+            raise
+        _invalid_json(casefile, exc)
+        raise
     if quality:
         _quality(cf, snapshot_ids, fmt)
         return
-    if snapshot_ids:
-        raise click.UsageError("--snapshot needs --quality")
-    status(f"Scheduling {len(cf.snapshots)} snapshots ...")
-    result = validate_casefile(cf)
     table = Table(
         "snapshots",
         ("snapshot", "role", "data_date", "activities", "links", "completion", "completion_float", "critical", "longest_path"),
@@ -61,7 +77,7 @@ def check(casefile: Path, quality: bool, snapshot_ids: tuple[str, ...], as_json:
     )
     emit_xlsx([table], cf)
     if fmt == "json":
-        emit(dumps_json({"valid": True, "snapshots": table.records(), "warnings": list(result.warnings)}))
+        emit_json({"valid": True, "snapshots": table.records(), "warnings": list(result.warnings)})
         return
     if fmt == "csv":
         emit(to_csv(table))
@@ -75,6 +91,32 @@ def check(casefile: Path, quality: bool, snapshot_ids: tuple[str, ...], as_json:
         if len(result.warnings) > MAX_LISTED:  # --json lists them all
             click.echo(f"  ... and {len(result.warnings) - MAX_LISTED} more warnings not listed "
                        "(--json lists every one)", err=True)
+
+
+def _problem_records(exc: Exception) -> list[dict[str, object]]:
+    """Each problem as ``{"file", "line", "key", "value", "message"}`` (``InputProblem``'s fields)."""
+    cause = exc.__context__ if isinstance(exc, click.ClickException) else exc  # a limit hit, re-worded
+    problems = getattr(cause, "problems", None) or getattr(exc, "problems", None)
+    if problems:
+        return [{"file": p.file, "line": p.line, "key": p.key, "value": p.value, "message": p.message}
+                for p in problems]
+    # An error with no file position (a folder not found, a schedule that cannot be computed).
+    message = exc.format_message() if isinstance(exc, click.ClickException) else str(exc)
+    return [{"file": None, "line": None, "key": None, "value": None, "message": message}]
+
+
+def _invalid_json(casefile: Path, exc: Exception) -> None:
+    """``check --json`` on an invalid casefile: ``{"valid": false, "problems": [...]}`` on stdout.
+
+    The caller then re-raises, so the ``Error: ...`` lines still reach stderr
+    and the exit status is 1. The casefile did not load, so every file under
+    its folder is protected from ``--out``.
+    """
+    folder = Path(casefile)
+    protected = [f for f in folder.rglob("*") if f.is_file()] if folder.is_dir() else []
+    if folder.is_file():
+        protected.append(folder)
+    emit_json({"valid": False, "problems": _problem_records(exc)}, protected=protected)
 
 
 def _limit(c: QualityCheck) -> str:
@@ -95,7 +137,7 @@ def _quality(cf: Casefile, snapshot_ids: tuple[str, ...], fmt: str) -> None:
     reports = assess_casefile(cf, snapshot_ids or None)
     emit_xlsx([quality_table(reports)], cf)
     if fmt == "json":
-        emit(dumps_json(quality_json(reports)))
+        emit_json(quality_json(reports))
         return
     if fmt == "csv":
         emit(to_csv(quality_table(reports)))

@@ -7,9 +7,17 @@ from pathlib import Path
 import click
 
 from ..compare import CHANGE_KINDS, compare_json, compare_snapshots, compare_table
-from ..tables import Table, dumps_json, to_csv, to_text
+from ..tables import Table, to_csv, to_text
 from ._base import main
-from ._common import casefile_argument, emit, emit_xlsx, format_options, load, pick_format
+from ._common import (
+    casefile_argument,
+    emit,
+    emit_json,
+    emit_xlsx,
+    format_options,
+    load,
+    pick_format,
+)
 
 _HEADINGS = {
     "activity-added": "Activities added",
@@ -65,7 +73,7 @@ def compare_command(casefile: Path, old: str, new: str, as_json: bool, as_csv: b
     emit_xlsx([compare_table(result)], cf)
     fmt = pick_format(as_json, as_csv)
     if fmt == "json":
-        emit(dumps_json(compare_json(result)))
+        emit_json(compare_json(result))
         return
     if fmt == "csv":
         emit(to_csv(compare_table(result)))

@@ -7,7 +7,15 @@ from pathlib import Path
 import click
 
 from ._base import main
-from ._common import casefile_argument, emit, emit_xlsx, format_options, load, pick_format
+from ._common import (
+    casefile_argument,
+    emit,
+    emit_json,
+    emit_xlsx,
+    format_options,
+    load,
+    pick_format,
+)
 from ._progress import status_printer
 
 _TABLES = ("events", "methods", "reconciliation", "sensitivity")
@@ -37,7 +45,7 @@ def eot_command(casefile: Path, snapshot_id: str | None, table: str, as_json: bo
 
     from ..eot import delay_summary, eot_json, eot_tables
     from ..errors import NotFoundError
-    from ..tables import dumps_json, to_csv, to_text
+    from ..tables import to_csv, to_text
 
     cf = load(casefile)
     if snapshot_id is not None:
@@ -51,7 +59,7 @@ def eot_command(casefile: Path, snapshot_id: str | None, table: str, as_json: bo
     emit_xlsx(tables.values(), cf)
     fmt = pick_format(as_json, as_csv)
     if fmt == "json":
-        emit(dumps_json(eot_json(summary)))
+        emit_json(eot_json(summary))
         return
     if fmt == "csv":
         emit(to_csv(tables[table]))

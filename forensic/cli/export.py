@@ -2,14 +2,16 @@
 
 from __future__ import annotations
 
+import json
 from pathlib import Path
 
 import click
 
 from ..export import casefile_tables, tables_json, to_xlsx, write_csv_dir
 from ..outputs import atomic_write
+from ..tables import dumps_json
 from ._base import main
-from ._common import casefile_argument, load
+from ._common import casefile_argument, load, provenance
 
 
 @main.command("export")
@@ -56,5 +58,6 @@ def export_command(casefile: Path, xlsx: Path | None, csv_dir: Path | None, json
         paths = write_csv_dir(result.tables, csv_dir, protected)
         click.echo(f"wrote {len(paths)} CSV files to {csv_dir}", err=True)
     if json_file:
-        atomic_write(json_file, tables_json(result.tables), protected)
+        doc = {**json.loads(tables_json(result.tables)), **provenance(cf)}  # traced like every JSON output
+        atomic_write(json_file, dumps_json(doc), protected)
         click.echo(f"wrote {json_file}", err=True)

@@ -20,9 +20,9 @@ from ..impact import (
     time_impact_series,
     time_impacts,
 )
-from ..tables import Table, dumps_json, to_csv, to_text
+from ..tables import Table, to_csv, to_text
 from ._base import main
-from ._common import casefile_argument, emit, emit_xlsx, format_options, load
+from ._common import casefile_argument, emit, emit_json, emit_xlsx, format_options, load
 
 _PROGRESS_NOTE = (
     "Progress to the event's start is assumed as planned in the unimpacted schedule "
@@ -114,7 +114,7 @@ def impact_command(
         _warn(run.warnings)
         emit_xlsx([contemporaneous_table(run)], cf)
         if as_json:
-            emit(dumps_json(contemporaneous_json(run)))
+            emit_json(contemporaneous_json(run))
             return
         if as_csv:
             emit(to_csv(contemporaneous_table(run)))
@@ -132,7 +132,7 @@ def impact_command(
         _warn([*(w for r in series.individual for w in r.warnings), *series.warnings])
         emit_xlsx([series_table(series)], cf)
         if as_json:
-            emit(dumps_json(series_json(series)))
+            emit_json(series_json(series))
             return
         if as_csv:
             emit(to_csv(series_table(series)))
@@ -158,9 +158,9 @@ def impact_command(
     emit_xlsx([t for r in results for t in (milestones_table(r), float_table(r))], cf)
     if as_json:
         if len(results) == 1 and not all_events:
-            emit(dumps_json(impact_json(results[0])))
+            emit_json(impact_json(results[0]))
         else:
-            emit(dumps_json([impact_json(r) for r in results]))
+            emit_json([impact_json(r) for r in results])
         return
     if as_csv:
         tables = [milestones_table(r) for r in results]
@@ -196,7 +196,7 @@ def but_for_command(
     _warn([*report.as_built.warnings, *(w for c in report.cases for w in c.warnings)])
     emit_xlsx([but_for_table(report), as_built_table(report)], cf)
     if as_json:
-        emit(dumps_json(but_for_json(report)))
+        emit_json(but_for_json(report))
         return
     if as_csv:
         emit(to_csv(but_for_table(report)))

@@ -8,9 +8,9 @@ from pathlib import Path
 import click
 
 from ..recovery import OBJECTIVES, recover, recovery_curve_table, recovery_json, recovery_plan_table
-from ..tables import dumps_json, to_csv, to_text
+from ..tables import to_csv, to_text
 from ._base import main
-from ._common import casefile_argument, emit, emit_xlsx, format_options, load
+from ._common import casefile_argument, emit, emit_json, emit_xlsx, format_options, load
 
 
 @main.command("recover")
@@ -44,7 +44,7 @@ def recover_command(
     result = recover(cf, snapshot_id, target=wanted, days=days, objective=objective)
     emit_xlsx([recovery_plan_table(result), recovery_curve_table(result)], cf)
     if as_json:
-        emit(dumps_json(recovery_json(result)))
+        emit_json(recovery_json(result))
         return
     if as_csv:
         emit(to_csv(recovery_plan_table(result)))

@@ -7,9 +7,17 @@ from pathlib import Path
 import click
 
 from ..engine import schedule_snapshot
-from ..tables import dumps_json, schedule_json, schedule_table, to_csv, to_text
+from ..tables import schedule_json, schedule_table, to_csv, to_text
 from ._base import main
-from ._common import casefile_argument, emit, emit_xlsx, format_options, load, pick_format
+from ._common import (
+    casefile_argument,
+    emit,
+    emit_json,
+    emit_xlsx,
+    format_options,
+    load,
+    pick_format,
+)
 
 
 @main.command("schedule")
@@ -35,7 +43,7 @@ def schedule_command(casefile: Path, snapshot_id: str | None, as_json: bool, as_
     emit_xlsx([table], cf)
     fmt = pick_format(as_json, as_csv)
     if fmt == "json":
-        emit(dumps_json(schedule_json(result)))
+        emit_json(schedule_json(result))
         return
     if fmt == "csv":
         emit(to_csv(table))

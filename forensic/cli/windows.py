@@ -15,10 +15,19 @@ from ..attribution import (
     delay_json,
     ledger_table,
 )
-from ..tables import dumps_json, to_csv, to_text
+from ..tables import to_csv, to_text
 from ..windows import windows_table
 from ._base import main
-from ._common import casefile_argument, emit, emit_xlsx, format_options, load, pick_format, status
+from ._common import (
+    casefile_argument,
+    emit,
+    emit_json,
+    emit_xlsx,
+    format_options,
+    load,
+    pick_format,
+    status,
+)
 
 _TABLES = ("windows", "contributors", "ledger", "cumulative", "as-built")
 
@@ -59,7 +68,7 @@ def windows_command(casefile: Path, bounds: str | None, table: str, as_json: boo
     emit_xlsx((make() for make in tables.values()), cf)
     fmt = pick_format(as_json, as_csv)
     if fmt == "json":
-        emit(dumps_json(delay_json(an)))
+        emit_json(delay_json(an))
         return
     if fmt == "csv":
         emit(to_csv(tables[table]()))

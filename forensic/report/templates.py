@@ -81,12 +81,19 @@ class Template:
 
 
 def templates_folder() -> Path:
-    """The ``report_templates/`` folder beside the package."""
-    return Path(__file__).resolve().parent.parent.parent / "report_templates"
+    """The shipped templates: the package's copy, or ``report_templates/`` of a source tree.
+
+    See :mod:`forensic._shipped`; when neither exists the source tree's
+    (missing) folder is returned, so that no template is found by name.
+    """
+    from .._shipped import shipped
+
+    folder = shipped("report_templates")
+    return folder if folder is not None else Path(__file__).resolve().parent.parent.parent / "report_templates"
 
 
 def builtin_templates() -> tuple[str, ...]:
-    """Names of the templates shipped in ``report_templates/``."""
+    """Names of the templates shipped with the package (``report_templates/`` in a source tree)."""
     folder = templates_folder()
     return tuple(sorted(p.stem for p in folder.glob("*.toml"))) if folder.is_dir() else ()
 
