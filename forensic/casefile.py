@@ -295,6 +295,8 @@ def _read_fragnets(root: Path, limits: Limits, hashes, snapshot_ids: set[str], s
             problems.add(f"fragnets/{name}", None, None, bad[1],
                          "a fragnet folder name may not contain control or text-direction characters")
             continue
+        if not check_id(name, f"fragnets/{name}", None, "folder name", problems):
+            continue  # an event names a fragnet by its folder: held to the rules of an id
         unreadable.add(name)  # until it is read whole
         found = {}
         for what in ("activities", "links"):
