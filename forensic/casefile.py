@@ -31,7 +31,6 @@ from __future__ import annotations
 import os
 import tomllib
 from collections import Counter
-from dataclasses import dataclass
 from datetime import date, datetime
 from pathlib import Path
 
@@ -61,6 +60,7 @@ from ._records import (
 )
 from .calendars import DAY_NAMES
 from .errors import CasefileError, LimitExceeded, printable
+from .limits import Limits
 from .model import (
     PARTY_ROLES,
     Calendar,
@@ -93,26 +93,6 @@ _PROJECT_KEYS = ("name", "default_calendar", "completion", "contract_completion"
 _PARTY_KEYS = ("id", "name", "role")
 _CALENDAR_KEYS = ("id", "workdays", "holidays", "extra_workdays")
 _SNAPSHOT_KEYS = ("id", "role", "data_date", "activities", "links")
-
-
-@dataclass(frozen=True, slots=True)
-class Limits:
-    """Ceilings on the size of what the loader reads, so a stray file cannot exhaust memory.
-
-    The defaults are generous: far beyond the largest real programmes
-    (tens of thousands of activities) yet small enough to load in seconds.
-    """
-
-    max_file_bytes: int = 64 * 1024 * 1024
-    max_activities: int = 200_000  # per snapshot or fragnet
-    max_links: int = 600_000  # per snapshot or fragnet
-
-    def __post_init__(self) -> None:
-        for name in ("max_file_bytes", "max_activities", "max_links"):
-            value = getattr(self, name)
-            if isinstance(value, bool) or not isinstance(value, int) or value < 1:
-                msg = f"Limits.{name} must be a positive whole number, not {value!r}"
-                raise ValueError(msg)
 
 
 def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None) -> Casefile:

@@ -10,14 +10,57 @@ import threading
 import click
 
 from .. import __version__
-from ..casefile import Limits
 from ..errors import ForensicError, printable
+from ..limits import Limits
 
 __all__ = ["main"]
 
 
+# Each command, the module that defines it, and the line ``forensic --help`` shows for it. A
+# command's module (and the libraries it needs: numpy, networkx, scipy, reportlab, openpyxl)
+# is imported only when that command runs, so start-up and --help stay quick (click's lazy
+# loading pattern: list_commands / get_command).
+COMMANDS: dict[str, tuple[str, str]] = {
+    "batch": ("batch", "Check and analyse (windows, half-step, ledger) every casefile under a folder."),
+    "but-for": ("impact", "But-for analysis: collapse the as-built schedule (AACE RP 29R-03 MIP 3.8)."),
+    "check": ("check", "Load and validate every snapshot of CASEFILE."),
+    "compare": ("compare", "List what changed in CASEFILE from snapshot OLD to snapshot NEW."),
+    "demo": ("demo", "Copy the demo casefile to a folder, run the main job on it, write its report."),
+    "eot": ("eot", "The delay summary per event: windows, time impact and but-for side by side."),
+    "export": ("export", "Run every analysis on CASEFILE and write all their tables."),
+    "impact": ("impact", "Time impact analysis: insert an event into its unimpacted update."),
+    "import": ("importer", "Build a casefile from CSV or XLSX exports described by a mapping."),
+    "recover": ("recover", "Plan the cheapest way to win back days on a snapshot."),
+    "report": ("report", "Write the PDF narrative report of CASEFILE."),
+    "schedule": ("schedule", "Schedule one snapshot of CASEFILE by the critical path method."),
+    "synth": ("synth", "Write an invented casefile of a large programme to OUT_DIR."),
+    "windows": ("windows", "Windows analysis of CASEFILE with the half-step split and the ledger."),
+}
+
+
 class _Group(click.Group):
-    """A group that shows library errors as ``Error: ...`` (exit 1), never a traceback."""
+    """A group that shows library errors as ``Error: ...`` (exit 1), never a traceback.
+
+    Its commands are loaded lazily from :data:`COMMANDS`.
+    """
+
+    def list_commands(self, ctx: click.Context) -> list[str]:
+        return sorted(set(super().list_commands(ctx)) | set(COMMANDS))
+
+    def get_command(self, ctx: click.Context, cmd_name: str):
+        if cmd_name not in self.commands and cmd_name in COMMANDS:
+            import importlib
+
+            importlib.import_module(f"{__package__}.{COMMANDS[cmd_name][0]}")  # registers it on the group
+        return super().get_command(ctx, cmd_name)
+
+    def format_commands(self, ctx: click.Context, formatter: click.HelpFormatter) -> None:
+        """The command list of ``--help`` from :data:`COMMANDS`, without importing any command."""
+        rows = [(name, COMMANDS[name][1] if name in COMMANDS else (self.commands[name].get_short_help_str(60)))
+                for name in self.list_commands(ctx)]
+        if rows:
+            with formatter.section("Commands"):
+                formatter.write_dl(rows)
 
     def invoke(self, ctx: click.Context):
         if threading.current_thread() is threading.main_thread() and \

@@ -128,6 +128,53 @@ def case_report(runs: int) -> dict:
     return {"case": "report", "report_s": statistics.median(times), "runs_s": times, "bytes": len(pdf), "peak_mb": _peak_mb()}
 
 
+def _median_wall(cmd: list[str], runs: int) -> float:
+    times = []
+    for _ in range(runs):
+        t = time.perf_counter()
+        subprocess.run(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, check=True, cwd=ROOT)
+        times.append(time.perf_counter() - t)
+    return statistics.median(times)
+
+
+def case_startup(runs: int) -> dict:
+    """``forensic --help`` start-up against ``python -c "import click"`` (issue 20 target: <= 2x)."""
+    py = sys.executable
+    forensic_s = _median_wall([py, "-m", "forensic", "--help"], runs)
+    click_s = _median_wall([py, "-c", "import click"], runs)
+    return {"forensic_help_s": forensic_s, "import_click_s": click_s, "ratio": forensic_s / click_s}
+
+
+def case_end_to_end(n: int, runs: int) -> dict:
+    """``forensic schedule --json`` end to end on n activities, against csv + networkx dag_longest_path in one run.
+
+    The reference reads the same two CSV files with the csv module, builds a
+    networkx DiGraph (edge weight = predecessor duration + lag) and takes
+    ``dag_longest_path``, in one Python process: the whole job a user would
+    otherwise script by hand, without calendars, progress or floats.
+    """
+    from forensic.synthetic import generate_casefile
+    from forensic.writer import write_casefile
+
+    py = sys.executable
+    with tempfile.TemporaryDirectory() as tmp:
+        write_casefile(generate_casefile(n, updates=1, seed=1), tmp)
+        snap = sorted(p for p in (Path(tmp) / "snapshots").iterdir())[-1]
+        ref = (
+            "import csv,sys,networkx as nx\n"
+            "d={r['id']:int(r['duration'] or 0) for r in csv.DictReader(open(sys.argv[1],encoding='utf-8'))}\n"
+            "g=nx.DiGraph()\n"
+            "g.add_nodes_from(d)\n"
+            "g.add_weighted_edges_from((r['pred'],r['succ'],d[r['pred']]+int(r.get('lag') or 0))"
+            " for r in csv.DictReader(open(sys.argv[2],encoding='utf-8')))\n"
+            "print(len(nx.dag_longest_path(g)))\n"
+        )
+        forensic_s = _median_wall([py, "-m", "forensic", "schedule", tmp, "--json"], runs)
+        reference_s = _median_wall([py, "-c", ref, str(snap / "activities.csv"), str(snap / "links.csv")], runs)
+    return {"activities": n, "forensic_schedule_json_s": forensic_s, "csv_networkx_s": reference_s,
+            "ratio": forensic_s / reference_s}
+
+
 def _sub(args: list[str]) -> dict:
     out = subprocess.run([sys.executable, __file__, *args], capture_output=True, text=True, check=False)
     if out.returncode != 0:
@@ -159,6 +206,8 @@ def main() -> None:
     ap.add_argument("--out", default="benchmark-results.json", help="JSON results file")
     ap.add_argument("--case", help=argparse.SUPPRESS)
     ap.add_argument("--arg", help=argparse.SUPPRESS)
+    ap.add_argument("--end-to-end-size", type=int, default=50000)
+    ap.add_argument("--skip-end-to-end", action="store_true")
     a = ap.parse_args()
     if a.case == "cpm":
         print(json.dumps(case_cpm(int(a.arg), a.runs)))
@@ -178,6 +227,15 @@ def main() -> None:
         results["cpm"].append(r)
         print(f"{r['activities']:>10} {r['links']:>7} {r['load_per_snapshot_s']:>11.3f} {r['cpm_s']:>7.3f} "
               f"{r['networkx_s']:>10.3f} {r['ratio']:>5.2f} {r['cpm_us_per_item']:>11.2f} {r['peak_mb']:>8.0f}")
+    r = case_startup(max(a.runs, 5))
+    results["startup"] = r
+    print(f"\nstart-up: forensic --help {r['forensic_help_s']:.3f} s, python -c 'import click' "
+          f"{r['import_click_s']:.3f} s: {r['ratio']:.2f}x")
+    if not a.skip_end_to_end:
+        r = case_end_to_end(a.end_to_end_size, max(1, min(a.runs, 3)))
+        results["end_to_end"] = r
+        print(f"end to end: forensic schedule --json on {r['activities']} activities {r['forensic_schedule_json_s']:.2f} s, "
+              f"csv + networkx dag_longest_path {r['csv_networkx_s']:.2f} s: {r['ratio']:.2f}x")
     if not a.skip_windows:
         from forensic.synthetic import generate_casefile
         from forensic.writer import write_casefile
