@@ -282,35 +282,50 @@ def to_xlsx(tables: Sequence[Table], *, title: str = "forensic tables") -> bytes
     :data:`FIXED_TIMESTAMP` and the zip entries are re-stamped with it.
     """
     from openpyxl import Workbook
+    from openpyxl.cell import WriteOnlyCell
     from openpyxl.styles import Font
     from openpyxl.utils import get_column_letter
 
-    wb = Workbook()
-    wb.remove(wb.active)
+    # openpyxl's write-only mode streams each row to the file instead of keeping a cell
+    # object per value: the same cells and formats, several times faster on large sheets.
+    wb = Workbook(write_only=True)
     bold = Font(bold=True)
     for table, name in zip(tables, sheet_names(tables), strict=True):
         ws = wb.create_sheet(name)
-        ws.append(list(table.columns))
-        for cell in ws[1]:
-            cell.font = bold
         widths = [len(c) for c in table.columns]
         for row in table.rows:
-            cells = [_xlsx_cell(v) for v in row]
-            ws.append(cells)
-            for i, v in enumerate(cells):
-                if isinstance(v, str) and v.startswith("="):  # only a bare operator is left so
-                    ws.cell(ws.max_row, i + 1).data_type = "s"  # text, never a formula
             for i, v in enumerate(row):
-                widths[i] = max(widths[i], _shown_width(v))
-        for col in ws.iter_cols(min_row=2):
-            for cell in col:
-                if isinstance(cell.value, datetime):
-                    cell.number_format = _DATE_FORMAT
-        for i, w in enumerate(widths, 1):
+                w = _shown_width(v)
+                if w > widths[i]:
+                    widths[i] = w
+        for i, w in enumerate(widths, 1):  # set before any row is written (write-only mode)
             ws.column_dimensions[get_column_letter(i)].width = min(_WIDTH_MAX, max(_WIDTH_MIN, w + 2))
         ws.freeze_panes = "A2"
         if table.rows:
             ws.auto_filter.ref = f"A1:{get_column_letter(len(table.columns))}{len(table.rows) + 1}"
+        header = []
+        for c in table.columns:
+            cell = WriteOnlyCell(ws, value=c)
+            cell.font = bold
+            header.append(cell)
+        ws.append(header)
+        for row in table.rows:
+            cells = [_xlsx_cell(v) for v in row]
+            if any(isinstance(v, (datetime, str)) and (not isinstance(v, str) or v.startswith("=")) for v in cells):
+                out = []
+                for v in cells:
+                    if isinstance(v, datetime):
+                        cell = WriteOnlyCell(ws, value=v)
+                        cell.number_format = _DATE_FORMAT
+                        out.append(cell)
+                    elif isinstance(v, str) and v.startswith("="):  # only a bare operator is left so
+                        cell = WriteOnlyCell(ws, value=v)
+                        cell.data_type = "s"  # text, never a formula
+                        out.append(cell)
+                    else:
+                        out.append(v)
+                cells = out
+            ws.append(cells)
     props = wb.properties
     props.creator = "forensic"
     props.lastModifiedBy = "forensic"
