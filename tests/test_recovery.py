@@ -353,7 +353,9 @@ def test_tables_and_json_carry_the_plan_and_the_curve():
     assert set(doc) == {
         "snapshot", "data_date", "objective", "completion_activity", "current_completion",
         "earliest_completion", "max_working_days", "plan", "curve", "warnings",
+        "working_days_calendar", "time_limit", "proven_least_cost",
     }
+    assert doc["proven_least_cost"] is True and doc["plan"]["proven_least_cost"] is True
 
 
 def test_cli_recover_prints_json(monkeypatch):
@@ -385,13 +387,21 @@ def test_cli_recover_help_has_an_example():
     assert res.exit_code == 0 and "Example: forensic recover" in res.output
 
 
-def test_other_calendar_miss_is_tightened_until_the_engine_confirms():
-    """A 7-day task in a 5-day project: the scaled program misses by a day, is tightened, and re-solved (worked out here)."""
-    acts = [Activity("A", "", 14, calendar="7d", crash_days=7, crash_cost=1)]  # Mon 5 Jan to Sun 18 Jan
+def test_days_recovered_count_on_the_completion_calendar():
+    """A 7-day task in a 5-day project: working days back are days of the completion's calendar (issue 14, item 4).
+
+    Worked by hand: A runs Mon 5 Jan to Sun 18 Jan on its 7-day calendar and is
+    the completion (none is named). One working day back on that calendar is
+    Sat 17 Jan, met by shortening A by one day; the exact program needs one
+    solve. (The old scaled program counted on the 5-day default, Sun 18 as Fri 16,
+    and asked for Thu 15: three days off A.)
+    """
+    acts = [Activity("A", "", 14, calendar="7d", crash_days=7, crash_cost=1)]
     cf = casefile(acts, [], cal="5d", delay_unit="working-days")
     r = recover(cf, "S", days=1, curve=False)
-    # On the 5-day default a Sunday finish counts as Friday 16, so one working day back is Thursday 15: 3 days off A.
-    assert r.plan.target == date(2026, 1, 15)
-    assert [(s.id, s.days) for s in r.plan.shortenings] == [("A", 3)]
-    assert r.plan.completion == date(2026, 1, 15)
-    assert r.plan.solves == 2
+    assert r.working_days_calendar == "7d"
+    assert r.plan.target == date(2026, 1, 17)
+    assert [(s.id, s.days) for s in r.plan.shortenings] == [("A", 1)]
+    assert r.plan.completion == date(2026, 1, 17)
+    assert r.plan.solves == 1 and r.plan.proven
+    assert recovery_json(r)["working_days_calendar"] == "7d"
