@@ -3,27 +3,46 @@
 Which remaining activities should be shortened, and by how many whole
 working days, so that the completion is met by a target date at the least
 cost (or by the fewest activities shortened, with cost as the tie-breaker)?
-This is the project time-cost trade-off of Kelley (1961) and Fulkerson
-(1961), which they solved as a linear program; with whole days of crashing
-it becomes a mixed-integer program, solved here exactly by
-``scipy.optimize.milp`` (HiGHS branch and bound with a zero optimality gap).
+This is the project time-cost trade-off of Kelley and Walker (1959), Kelley
+(1961) and Fulkerson (1961), which they solved as a linear program; with
+whole days of crashing and several calendars it becomes a mixed-integer
+program, solved here exactly by ``scipy.optimize.milp`` (HiGHS branch and
+bound with a zero optimality gap) within a time limit.
 
 The model
 ---------
-Time in the program is the working day of the project's default calendar,
-counted from the data date (boundary 0 is the start of the first working day
-on or after it). For every activity not yet finished there is a start
-variable ``s`` (the start of its remaining work), and for every activity
-that may be shortened an integer ``x`` in ``0 .. limit``, so that its finish
-is ``s + D - x``. Each link is one inequality, as in the engine
-(:mod:`forensic.engine`): FS ``s_j >= f_i + lag``, SS ``s_j >= s_i + lag``,
-FF ``f_j >= f_i + lag``, SF ``f_j >= s_i + lag``, with the same progress
-rules (a finished activity is a constant; the remaining work of an activity
-in progress ignores its SS links under retained logic and every link under
-override), no remaining work before the data date, and the early-date
-constraints (start/finish on or after, start/finish on). The completion
-(the project's completion milestone, or every activity when none is named)
-must finish by the target.
+Time in the program is the engine's own (:mod:`forensic.engine`). Each
+unfinished activity that can reach the completion has a start variable
+``e``, a boundary of its own calendar's working days (the start of its
+remaining work), and each activity that may be shortened an integer ``x`` in
+``0 .. limit``; its finish boundary is ``e + D - x``. A link passes a
+calendar day, as the engine does: the predecessor's start date (SS, SF) or
+the day after its finish date (FS, FF); the successor takes the first of its
+own working days on or after that day and adds the lag in its own working
+days. Each link is then one inequality, FS ``e_j >= map(f_i) + lag``, SS
+``e_j >= map(e_i) + lag``, FF ``f_j >= map(f_i) + lag``, SF
+``f_j >= map(e_i) + lag``, where ``map`` is the identity when both
+activities share a calendar and otherwise a non-decreasing step function of
+the predecessor's boundary (weekends and holidays the two calendars do not
+share). A step function is written exactly over the range its boundary can
+take (lowest by a forward pass with durations at their longest or shortest,
+highest by a backward pass from the current completion): one binary
+``u_a`` per step that is not a plain "+1", with ``u_a = 1`` exactly when the
+boundary is at or past ``a``. The completion bound ``T`` is a calendar day,
+reached the same way from the completion's finish (the project's completion
+milestone, or every activity when none is named). The engine's progress
+rules are kept (a finished activity is a constant; the remaining work of an
+activity in progress ignores its SS links under retained logic and every
+link under override), no remaining work before the data date, and the
+early-date constraints (start/finish on or after, start/finish on).
+
+Because every rule is the engine's and the engine's early dates are the least
+solution of these inequalities, a plan is feasible in the program exactly
+when the engine's completion of it meets the target, on one calendar or
+many, so the optimum is the cheapest plan whose engine completion meets the
+target (Kelley and Walker 1959; Kelley 1961 for the least-cost curve). Every
+plan is still rescheduled by the engine, and the completion reported is the
+engine's; ``solves`` stays 1 (a tightening loop remains only as a safety net).
 
 Only remaining work is shortened: the duration of work not started, the
 remaining duration of work in progress. Finished work and milestones are
@@ -32,19 +51,19 @@ never below one working day of remaining work. An activity with
 ``crash_days`` but no ``crash_cost`` cannot be priced and is not shortened
 (a warning says so).
 
-Confirmation by the engine
---------------------------
-Every plan is applied to the snapshot (durations reduced with
-:func:`dataclasses.replace`) and rescheduled by :func:`forensic.engine.schedule`;
-the completion reported is the engine's. On a network whose activities all
-use the default calendar the program is the engine's own arithmetic and the
-first solve is confirmed. Where activities use other calendars, their
-durations and lags are scaled into default-calendar days by the ratio of
-working days per week, which is an approximation: when the engine's
-completion misses the target, the program's target is tightened by the
-shortfall and the program solved again, until the engine confirms (at most
-``MAX_SOLVES`` solves); the plan is then the cheapest the program found, not
-proven cheapest.
+Days recovered, the curve's steps and ``days`` in the ``working-days`` delay
+unit are working days of the completion activity's calendar (named in the
+result), since that is the calendar its date moves on.
+
+Time limit
+----------
+All the solves of one analysis share ``time_limit`` seconds. When it is
+reached, a solve returns the best plan it has found (HiGHS' incumbent), or,
+with none, the cheapest plan already confirmed that meets the target (at
+worst every shortening); such a plan meets its target in the engine but is
+marked ``proven`` false ("not proven least-cost"). The curve is then made
+non-decreasing by carrying a cheaper plan for more days back to fewer.
+Anything the solver writes is kept off standard output.
 
 Note that in a precedence network shortening an activity can delay the
 completion (an FF or SF link on a shortened successor pushes its start
@@ -126,10 +145,12 @@ class Shortening:
 class RecoveryPlan:
     """A plan to meet ``target``: the shortenings, their cost, and the engine's new completion.
 
-    ``working_days_recovered`` is on the project's default calendar and
-    ``calendar_days_recovered`` in calendar days, both from the current
-    completion to the engine's new one. ``solves`` counts the programs solved
-    until the engine confirmed the target.
+    ``working_days_recovered`` is in working days of the completion
+    activity's calendar (those from the new completion, included, to the
+    current one, excluded) and ``calendar_days_recovered`` in calendar days.
+    ``solves`` counts the programs solved until the engine confirmed the
+    target. ``proven`` is false when the time limit cut the search: the plan
+    meets the target but is not proven least-cost.
     """
 
     target: date
@@ -148,7 +169,7 @@ class RecoveryPlan:
 
 @dataclass(frozen=True, slots=True)
 class CurvePoint:
-    """One point of the time-cost curve: the least cost to recover ``working_days`` days."""
+    """One point of the time-cost curve: the least cost to recover ``working_days`` days (completion's calendar)."""
 
     working_days: int
     plan: RecoveryPlan
@@ -159,9 +180,11 @@ class RecoveryResult:
     """The recovery analysis of one snapshot: the plan for the target, and the time-cost curve.
 
     ``earliest_completion`` is the engine's completion of the plan that
-    finishes soonest; ``max_working_days`` the working days (default
-    calendar) it recovers. ``curve`` holds one point per working day from 1
-    to ``max_working_days`` (empty when the curve was not asked for).
+    finishes soonest; ``max_working_days`` the working days it recovers, on
+    ``working_days_calendar`` (the completion activity's calendar). ``curve``
+    holds one point per working day from 1 to ``max_working_days`` (empty
+    when the curve was not asked for). ``proven`` is false when the time limit
+    (``time_limit`` seconds) left any plan not proven least-cost.
     """
 
     snapshot_id: str
@@ -371,47 +394,52 @@ class _Program:
                 if indeg[link.succ] == 0:
                     order.append(link.succ)
 
-        # Lowest boundaries any plan can give (forward, durations at their longest or shortest).
-        def link_value(link, k_pred: int | None) -> int:
+        # The range of boundaries any plan can give, forward: the engine's early start is the
+        # largest of the start candidates A (data date, start constraint, SS/FS links) and the
+        # finish candidates V (finish constraint, FF/SF links) less the duration, so with the
+        # duration between D - limit and D: e in [max(A) , max(A, V - D + limit)] at the extremes
+        # of the predecessors' own ranges, and f = max(A + duration, V).
+        def link_value(link, k_pred: int) -> int:
             succ = nodes[link.succ]
             if link.pred in nodes:
-                pn = nodes[link.pred]
-                t = pn.day(pred_end(link), k_pred if k_pred is not None else 0)
+                t = nodes[link.pred].day(pred_end(link), k_pred)
             else:
                 t = done_s[link.pred] if link.type in ("SS", "SF") else done_f[link.pred]
             return succ.ix.first_at[t - lo] + link.lag
 
-        for aid in relevant:
+        for aid in order:
             nd = nodes[aid]
             a = nd.act
             fa = nd.ix.first_at
-            lbe = fa[dd - lo]
-            lbf = -_BIG
+            start_c = fa[dd - lo]
+            finish_c = -_BIG
             if a.constraint is not None and a.constraint_date is not None:
                 cday = day_number(a.constraint_date)
                 s_late = (a.kind == "task" and a.duration != 0) or nd.fl  # the engine's instant kinds
                 if a.constraint in ("start-from", "start-fixed") and nd.status == 0:
-                    lbe = max(lbe, fa[cday - lo] + (0 if s_late else 1))
+                    start_c = max(start_c, fa[cday - lo] + (0 if s_late else 1))
                 elif a.constraint in ("finish-from", "finish-fixed"):
-                    lbf = max(lbf, fa[cday - lo] + (0 if (nd.dur == 0 and nd.fl) else 1))
-            nd.lbe, nd.lbf = lbe, lbf
-        for aid in order:
-            nd = nodes[aid]
+                    finish_c = fa[cday - lo] + (0 if (nd.dur == 0 and nd.fl) else 1)
+            la = ua = start_c
+            lv = uv = finish_c
             for link in into[aid]:
-                k = None
                 if link.pred in nodes and moves(link):
-                    k = nodes[link.pred].bounds(pred_end(link))[0]
-                v = link_value(link, k)
-                if link.type in ("FF", "SF"):
-                    nd.lbf = max(nd.lbf, v)
+                    pn = nodes[link.pred]
+                    end = pred_end(link)
+                    lo_k, hi_k = (pn.lbe, pn.ube) if end == "s" or pn.dur == 0 else (pn.lbf, pn.ubf)
+                    v_lo, v_hi = link_value(link, lo_k), link_value(link, hi_k)
                 else:
-                    nd.lbe = max(nd.lbe, v)
-            nd.lbe = max(nd.lbe, nd.lbf - nd.dur)
-            nd.lbf = max(nd.lbf, nd.lbe + nd.dur - nd.lim)
+                    v_lo = v_hi = link_value(link, 0)
+                if link.type in ("FF", "SF"):
+                    lv, uv = max(lv, v_lo), max(uv, v_hi)
+                else:
+                    la, ua = max(la, v_lo), max(ua, v_hi)
+            nd.lbe = max(la, lv - nd.dur)
+            nd.lbf = max(la + nd.dur - nd.lim, lv)
+            nd.ube = max(ua, uv - nd.dur + nd.lim)
+            nd.ubf = max(ua + nd.dur, uv)
 
-        # Highest boundaries any plan meeting the current completion can have (backward).
-        for aid in relevant:
-            nodes[aid].ube = nodes[aid].ubf = _BIG
+        # ... and backward: no plan meeting the current completion has a boundary past these.
         cur = day_number(current)
         for aid in targets:
             nd = nodes[aid]

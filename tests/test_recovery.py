@@ -10,7 +10,7 @@ from click.testing import CliRunner
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from forensic.calendars import DAY_NAMES, add_workdays
+from forensic.calendars import DAY_NAMES, add_workdays, workdays_between
 from forensic.cli import main
 from forensic.engine import schedule
 from forensic.errors import RecoveryError
@@ -325,7 +325,7 @@ def test_plans_stay_within_limits_and_cost_rises_with_the_days(cf, objective):
 @settings(max_examples=30, deadline=None)
 @given(crash_networks(progress=False), st.lists(st.sampled_from(["7d", "5d"]), min_size=7, max_size=7))
 def test_mixed_calendars_plans_are_confirmed_by_the_engine(cf, cals):
-    """Across calendars the program is approximate, but every plan reported meets its target in the engine."""
+    """Across calendars every plan reported meets its target in the engine, with the completion it reports."""
     snap = cf.snapshots[0]
     acts = [replace(a, calendar=cals[k % 7]) for k, a in enumerate(snap.activities.values())]
     cf = casefile(acts, snap.links, cal="5d", completion=cf.project.completion)
@@ -405,3 +405,210 @@ def test_days_recovered_count_on_the_completion_calendar():
     assert r.plan.completion == date(2026, 1, 17)
     assert r.plan.solves == 1 and r.plan.proven
     assert recovery_json(r)["working_days_calendar"] == "7d"
+
+
+# --------------------------------------------------------------------------- several calendars, exact (issue 14)
+
+# Three calendars with different work weeks, holidays and an extra working day, so that
+# links between them pass weekends and holidays at different places (invented, common practice).
+MULTI = {
+    "7d": Calendar("7d", DAY_NAMES, holidays=(date(2026, 1, 10),)),
+    "5d": Calendar("5d", DAY_NAMES[:5], holidays=(date(2026, 1, 7), date(2026, 1, 15))),
+    "4d": Calendar("4d", DAY_NAMES[:4], holidays=(date(2026, 1, 13),), extra_workdays=(date(2026, 1, 9),)),
+}
+
+
+@st.composite
+def multi_calendar_networks(draw):
+    """4-6 crashable activities on 2-3 calendars, all link types with lags, progress, optional constraint."""
+    n = draw(st.integers(4, 7))
+    n_crash = draw(st.integers(4, min(6, n)))
+    cal_ids = draw(st.lists(st.sampled_from(sorted(MULTI)), min_size=2, max_size=3, unique=True))
+    durations = draw(st.lists(st.integers(2, 6), min_size=n, max_size=n))
+    crash = draw(st.lists(st.sampled_from([1, 2]), min_size=n, max_size=n))
+    costs = draw(st.lists(st.integers(0, 30), min_size=n, max_size=n))
+    cals = draw(st.lists(st.sampled_from(cal_ids), min_size=n, max_size=n))
+    edges = draw(
+        st.sets(
+            st.tuples(st.integers(0, n - 1), st.integers(0, n - 1), st.sampled_from(["FS", "FS", "SS", "FF", "SF"]),
+                      st.integers(-1, 3)).filter(lambda e: e[0] < e[1]),
+            min_size=n - 1, max_size=2 * n,
+        )
+    )
+    state = draw(st.sampled_from(["none", "finished", "in-progress"]))
+    constrained = draw(st.sampled_from([None, "start-from", "finish-from"]))
+    crashable = set(range(n - n_crash, n))
+    acts = []
+    for i in range(n):
+        kw = {}
+        if i in crashable:
+            kw = dict(crash_days=crash[i], crash_cost=costs[i])
+        if i == 0 and state == "finished":
+            kw.update(actual_start=MONDAY - timedelta(days=20), actual_finish=MONDAY - timedelta(days=18))
+        elif i == 0 and state == "in-progress":
+            kw.update(actual_start=MONDAY - timedelta(days=3), remaining=durations[i])
+        if i == n - 1 and constrained:
+            kw.update(constraint=constrained, constraint_date=MONDAY + timedelta(days=draw(st.integers(0, 12))))
+        acts.append(Activity(f"A{i}", "", durations[i] + (3 if state == "in-progress" and i == 0 else 0),
+                             calendar=cals[i], **kw))
+    links, seen = [], set()
+    for p, s, typ, lag in sorted(edges):
+        if (p, s) not in seen:
+            seen.add((p, s))
+            links.append(Link(f"A{p}", f"A{s}", typ, lag))
+    named = draw(st.booleans())
+    if named:
+        acts.append(Activity("END", "", 0, kind="closing-milestone", calendar=draw(st.sampled_from(cal_ids))))
+        links += [Link(f"A{i}", "END") for i in range(n)]
+    snap = Snapshot("S", MONDAY, frozen_mapping({a.id: a for a in acts}), tuple(links), role="baseline")
+    project = Project("t", draw(st.sampled_from(cal_ids)), completion="END" if named else None,
+                      progress_logic=draw(st.sampled_from(["retained", "override"])),
+                      delay_unit=draw(st.sampled_from(["calendar-days", "working-days"])))
+    return Casefile(project, frozen_mapping(MULTI), frozen_mapping(), (snap,))
+
+
+def _completion_calendar(cf, result):
+    a = cf.snapshots[0].activities[result.completion_id]
+    return cf.calendars[a.calendar or cf.project.default_calendar]
+
+
+@settings(max_examples=40, deadline=None)
+@given(multi_calendar_networks(), st.integers(0, 40))
+def test_several_calendars_least_cost_equals_brute_force(cf, pick):
+    """On 2-3 calendars every curve point and plan is the cheapest whose engine completion meets its target.
+
+    The reference is brute force: every combination of whole-day shortenings
+    rescheduled by the engine (Kelley and Walker 1959 define the least-cost
+    schedule for each completion time; the engine is the judge of time).
+    The curve's targets are working days of the completion activity's calendar.
+    """
+    plans = brute_force(cf)
+    current = schedule(cf.snapshots[0], cf.calendars, cf.project)
+    earliest = min(done for done, _ in plans.values())
+    if earliest >= current.completion:
+        with pytest.raises(RecoveryError):
+            recover(cf, "S", target=current.completion - timedelta(days=1))
+        return
+    r = recover(cf, "S", target=earliest)
+    assert r.proven and r.plan.proven
+    assert r.earliest_completion == earliest
+    comp_cal = _completion_calendar(cf, r)
+    assert r.working_days_calendar == comp_cal.id
+    # The most that can be recovered: working days of that calendar from the earliest to the current completion.
+    assert r.max_working_days == workdays_between(comp_cal, earliest, current.completion)
+    assert r.max_working_days == len(r.curve)
+    costs = []
+    for pt in r.curve:
+        target = add_workdays(comp_cal, current.completion, -pt.working_days)
+        assert pt.plan.target == target
+        cheapest = min(cost for done, cost in plans.values() if done <= target)
+        assert pt.plan.cost == pytest.approx(cheapest)
+        key = tuple(sorted((s.id, s.days) for s in pt.plan.shortenings))
+        assert plans[key][0] == pt.plan.completion <= target  # the engine's completion, meeting the target
+        costs.append(pt.plan.cost)
+    assert costs == sorted(costs)  # never cheaper as the days grow
+    # Any target date between the earliest and the current completion, working day or not.
+    span = (current.completion - earliest).days
+    target = earliest + timedelta(days=pick % (span + 1))
+    one = recover(cf, "S", target=target, curve=False)
+    assert one.plan.cost == pytest.approx(min(cost for done, cost in plans.values() if done <= target))
+    assert one.plan.completion <= target
+
+
+def test_several_calendars_hand_worked_across_a_holiday():
+    """A 5-day task feeding a 7-day task across a holiday: either shortening buys the same day (worked by hand).
+
+    A (5-day week, 5 days) runs Mon 5 to Fri 9 Jan; B (7-day week with Sat 10 a
+    holiday, 3 days, FS) starts on the first of its working days on or after
+    Sat 10, Sun 11, and runs Sun 11 to Tue 13. Shortening B by one day (cost 10)
+    gives Mon 12; shortening A by one day (cost 4) lets B start Fri 9 and run
+    Fri 9, Sun 11, Mon 12: also Mon 12. Both: Sun 11. So one working day back
+    (Mon 12 on B's calendar, the completion's) costs 4, two (Sun 11) cost 14,
+    and the earliest is Sun 11.
+    """
+    seven = Calendar("7h", DAY_NAMES, holidays=(date(2026, 1, 10),))
+    acts = [
+        Activity("A", "", 5, calendar="5d", crash_days=1, crash_cost=4),
+        Activity("B", "", 3, calendar="7h", crash_days=1, crash_cost=10),
+    ]
+    snap = Snapshot("S", MONDAY, frozen_mapping({a.id: a for a in acts}), (Link("A", "B"),), role="baseline")
+    cals = frozen_mapping({"5d": FIVE, "7h": seven})
+    cf = Casefile(Project("t", "5d", delay_unit="working-days"), cals, frozen_mapping(), (snap,))
+    r = recover(cf, "S", days=1)
+    assert r.current_completion == date(2026, 1, 13)
+    assert r.working_days_calendar == "7h"
+    assert [(pt.working_days, pt.plan.completion, pt.plan.cost) for pt in r.curve] == [
+        (1, date(2026, 1, 12), 4), (2, date(2026, 1, 11), 14),
+    ]
+    assert r.earliest_completion == date(2026, 1, 11)
+    assert [(s.id, s.days) for s in r.plan.shortenings] == [("A", 1)]
+
+
+# --------------------------------------------------------------------------- time limit and hostile options (issue 22)
+
+def test_time_limit_reached_reports_the_best_plan_found_not_proven(monkeypatch):
+    """A time limit too short for any solve: the best plan found (here every shortening) is shown, not proven.
+
+    Every plan is still the engine's: it meets the target, only its cost is not proven least.
+    """
+    monkeypatch.setattr("forensic.cli.recover.load", lambda path: house())
+    runner = CliRunner()
+    res = runner.invoke(main, ["recover", "case", "--snapshot", "S", "--days", "4", "--time-limit", "1e-9"])
+    assert res.exit_code == 0, res.output
+    assert "Not proven least-cost" in res.output and "time limit of 1e-09 s" in res.output
+    res = runner.invoke(main, ["recover", "case", "--snapshot", "S", "--days", "4", "--time-limit", "1e-9", "--json"])
+    doc = json.loads(res.output)
+    assert doc["proven_least_cost"] is False and doc["plan"]["proven_least_cost"] is False
+    assert doc["time_limit"] == 1e-9
+    assert doc["plan"]["completion"] <= doc["plan"]["target"]
+    costs = [pt["cost"] for pt in doc["curve"]]
+    assert costs == sorted(costs)  # still never cheaper as the days grow
+    proven = json.loads(runner.invoke(main, ["recover", "case", "--snapshot", "S", "--days", "4", "--json"]).output)
+    assert proven["proven_least_cost"] is True and proven["time_limit"] == 60.0  # the documented default
+    assert doc["plan"]["cost"] >= proven["plan"]["cost"]
+
+
+@pytest.mark.parametrize(
+    "args, code, words",
+    [
+        (["--days", "1e9"], 2, "Invalid value for '--days'"),
+        (["--days", "-3"], 2, "Invalid value for '--days'"),
+        (["--days", "abc"], 2, "Invalid value for '--days'"),
+        (["--days", "1000000000"], 1, "before the data date"),
+        (["--days", "9" * 40], 1, "before the data date"),
+        (["--target", "0001-01-01"], 1, "earliest achievable completion"),
+        (["--target", "2026-13-40"], 2, "Invalid value for '--target'"),
+        (["--days", "2", "--time-limit", "nan"], 1, "time limit must be a number of seconds"),
+        (["--days", "2", "--time-limit", "inf"], 1, "time limit must be a number of seconds"),
+        (["--days", "2", "--time-limit", "1e400"], 1, "time limit must be a number of seconds"),
+        (["--days", "2", "--time-limit", "0"], 1, "time limit must be a number of seconds"),
+        (["--days", "2", "--time-limit", "-5"], 1, "time limit must be a number of seconds"),
+        (["--days", "2", "--time-limit", "soon"], 2, "Invalid value for '--time-limit'"),
+    ],
+)
+def test_hostile_option_values_are_named_refusals(monkeypatch, args, code, words):
+    """Hostile values give `Error:` naming the option or the reason, exit 1 (or 2 for click's usage errors), no traceback."""
+    monkeypatch.setattr("forensic.cli.recover.load", lambda path: house())
+    res = CliRunner().invoke(main, ["recover", "case", "--snapshot", "S", *args])
+    assert res.exit_code == code, res.output
+    assert "Error: " in res.output and words in res.output
+    assert "internal error" not in res.output and "Traceback" not in res.output
+    assert not isinstance(res.exception, Exception) or isinstance(res.exception, SystemExit)
+
+
+def test_recover_stdout_holds_only_the_json_even_when_the_limit_cuts_a_solve():
+    """Through a real process: stdout is the JSON alone (solver output kept off it), whatever the limit cuts."""
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    root = Path(__file__).resolve().parents[1]
+    out = subprocess.run(
+        [sys.executable, "-m", "forensic", "recover", str(root / "casefiles" / "riverside"), "--snapshot", "U10",
+         "--days", "20", "--time-limit", "0.4", "--json"],
+        capture_output=True, text=True, cwd=root, env={"PYTHONPATH": str(root), "PATH": "/usr/bin:/bin"}, timeout=120,
+    )
+    assert out.returncode == 0, out.stderr
+    doc = json.loads(out.stdout)
+    assert isinstance(doc["proven_least_cost"], bool)
+    assert doc["plan"]["completion"] <= doc["plan"]["target"]
