@@ -92,6 +92,58 @@ def test_house_project_curve_starts_with_the_cheapest_critical_activity():
     assert r.curve[3].plan.cost == pytest.approx(140)
 
 
+def test_house_project_least_cost_curve():
+    """The textbook's marginal cost analysis, 44 to 40 weeks: J, J, F, F for 30, 60, 100, 140 (Hillier & Lieberman, from memory).
+
+    Worked by hand from the data above: the critical path A-B-C-E-F-J-L-N is 44
+    weeks, A-B-C-E-F-J-K-N 43, A-B-C-I-J-L-N 42. J (30 a week, on all three)
+    gives 43 then 42; then both the L and K paths are critical and F (40, on
+    both, not on the I path, which is at 40) gives 41 and 40.
+    """
+    r = recover(house(), "S", days=4)
+    assert [pt.plan.cost for pt in r.curve[:4]] == pytest.approx([30, 60, 100, 140])
+    assert [{s.id: s.days for s in pt.plan.shortenings} for pt in r.curve[:4]] == [
+        {"J": 1}, {"J": 2}, {"F": 1, "J": 2}, {"F": 2, "J": 2},
+    ]
+
+
+# Render, Stair and Hanna, Quantitative Analysis for Management, the General Foundry
+# project (from memory): normal/crash weeks and normal/crash costs; predecessors.
+FOUNDRY = dict(
+    A=(2, 1, 22000, 22750), B=(3, 1, 30000, 34000), C=(2, 1, 26000, 27000), D=(4, 3, 48000, 49000),
+    E=(4, 2, 56000, 58000), F=(3, 2, 30000, 30500), G=(5, 2, 80000, 86000), H=(2, 1, 16000, 19000),
+)
+FOUNDRY_PREDS = dict(C="A", D="B", E="C", F="C", G="DE", H="FG")
+
+
+def test_general_foundry_least_cost_curve():
+    """15 weeks down to 7: the whole least-cost curve (data from memory; curve worked by hand here).
+
+    Paths: P1 A-C-E-G-H 15 weeks, P2 B-D-G-H 14, P3 A-C-F-H 9. Per week: on P1
+    only A 750 (1), C 1000 (1), E 1000 (2); on P2 only D 1000 (1), B 2000 (2);
+    on both G 2000 (3), H 3000 (1). With g weeks off G/H, P1 needs 15 - w - g
+    from its own list and P2 14 - w - g from its own (w = weeks wanted off):
+    14: A 750. 13: A + G, or A + C + D: 2750. 12: A + C + D + G, or A + 2G: 4750.
+    11: 6750. 10: A + C + D + 3G: 8750. 9: 11750. 8: 14750. 7 (every P1 and P2
+    shortening, P3 then 6): 17750, the earliest; F is never needed.
+    The textbook's 14-week answer is A by one week for 750.
+    """
+    acts = [
+        Activity(k, f"foundry {k}", n, crash_days=n - c, crash_cost=(cc - nc) / (n - c))
+        for k, (n, c, nc, cc) in FOUNDRY.items()
+    ]
+    acts.append(Activity("END", "foundry complete", 0, kind="closing-milestone"))
+    links = [Link(p, s) for s, ps in FOUNDRY_PREDS.items() for p in ps]
+    links.append(Link("H", "END"))
+    cf = casefile(acts, links, completion="END")
+    r = recover(cf, "S", days=1)
+    assert (r.current_completion - MONDAY).days + 1 == 15
+    assert (r.earliest_completion - MONDAY).days + 1 == 7
+    assert [pt.plan.cost for pt in r.curve] == pytest.approx([750, 2750, 4750, 6750, 8750, 11750, 14750, 17750])
+    assert {s.id: s.days for s in r.plan.shortenings} == {"A": 1}
+    assert all("F" not in {s.id for s in pt.plan.shortenings} for pt in r.curve)
+
+
 def test_target_beyond_the_most_recoverable_names_the_earliest_completion():
     """A target before the earliest achievable completion is an error that gives that date (common practice)."""
     cf = house()
