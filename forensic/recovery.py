@@ -407,6 +407,7 @@ class _Program:
                 t = done_s[link.pred] if link.type in ("SS", "SF") else done_f[link.pred]
             return succ.ix.first_at[t - lo] + link.lag
 
+        idle: set[int] = set()  # links that never bind
         for aid in order:
             nd = nodes[aid]
             a = nd.act
@@ -422,12 +423,14 @@ class _Program:
                     finish_c = fa[cday - lo] + (0 if (nd.dur == 0 and nd.fl) else 1)
             la = ua = start_c
             lv = uv = finish_c
+            ranges = []
             for link in into[aid]:
                 if link.pred in nodes and moves(link):
                     pn = nodes[link.pred]
                     end = pred_end(link)
                     lo_k, hi_k = (pn.lbe, pn.ube) if end == "s" or pn.dur == 0 else (pn.lbf, pn.ubf)
                     v_lo, v_hi = link_value(link, lo_k), link_value(link, hi_k)
+                    ranges.append((link, v_lo, v_hi))
                 else:
                     v_lo = v_hi = link_value(link, 0)
                 if link.type in ("FF", "SF"):
@@ -438,6 +441,29 @@ class _Program:
             nd.lbf = max(la + nd.dur - nd.lim, lv)
             nd.ube = max(ua, uv - nd.dur + nd.lim)
             nd.ubf = max(ua + nd.dur, uv)
+            # A link whose highest value cannot pass what the other candidates already
+            # guarantee never binds (in any plan) and is left out of the program.
+            for k, (link, _v_lo, v_hi) in enumerate(ranges):
+                on_finish = link.type in ("FF", "SF")
+                others_a, others_v = start_c, finish_c
+                for k2, (l2, w_lo, _) in enumerate(ranges):
+                    if k2 != k:
+                        if l2.type in ("FF", "SF"):
+                            others_v = max(others_v, w_lo)
+                        else:
+                            others_a = max(others_a, w_lo)
+                for l2 in into[aid]:
+                    if not (l2.pred in nodes and moves(l2)):
+                        if l2.type in ("FF", "SF"):
+                            others_v = max(others_v, link_value(l2, 0))
+                        else:
+                            others_a = max(others_a, link_value(l2, 0))
+                if on_finish:
+                    floor = max(others_a + nd.dur - nd.lim, others_v)
+                else:
+                    floor = max(others_a, others_v - nd.dur)
+                if v_hi <= floor:
+                    idle.add(id(link))
 
         # ... and backward: no plan meeting the current completion has a boundary past these.
         cur = day_number(current)
@@ -559,8 +585,8 @@ class _Program:
                 coefs, const = boundary(nd, "f")
                 rows.append((coefs, nd.lbf - const, nd.ubf - const))
             for link in into[aid]:
-                if not moves(link):
-                    continue  # a constant: already in the lower bounds
+                if not moves(link) or id(link) in idle:
+                    continue  # a constant (already in the lower bounds) or a link that never binds
                 succ_end = "f" if link.type in ("FF", "SF") else "s"
                 add_ge(boundary(nd, succ_end), mapped(nodes[link.pred], pred_end(link), nd.ix), float(link.lag))
 
@@ -570,6 +596,12 @@ class _Program:
             shift = 0.0 if (nd.dur == 0 and nd.fl) else 1.0  # the finish date is the day before the boundary's
             add_ge(({self.t_var: 1.0}, 0.0), mapped(nd, "f", None), -shift)
         self.targets = targets
+        # A valid tightening: at or past a later step of an end means at or past every earlier one.
+        prev_key, prev_u = None, None
+        for (aid, end, _a), u in sorted(steps.items()):
+            if prev_key == (aid, end):
+                rows.append(({prev_u: 1.0, u: -1.0}, 0.0, math.inf))
+            prev_key, prev_u = (aid, end), u
 
         for c, xv, yv in zip(self.crashable, x_vars, y_vars, strict=True):  # x <= limit * y
             rows.append(({xv: 1.0, yv: -float(c.limit)}, -math.inf, 0.0))
@@ -632,7 +664,8 @@ class _Program:
             return res.x, False
         return None, True
 
-    def solve(self, t_ub: float, objective: str, clock: _Clock) -> tuple[list[int] | None, bool]:
+    def solve(self, t_ub: float, objective: str, clock: _Clock,
+              cost_floor: float | None = None) -> tuple[list[int] | None, bool]:
         """The shortenings (days per crashable activity) meeting ``T <= t_ub``, or ``None`` if none.
 
         Objectives are solved lexicographically: ``cost`` = least cost; ``count`` =
@@ -656,6 +689,11 @@ class _Program:
         if not q:
             stages = [np.zeros(n)]
         extra: list[tuple[np.ndarray, float]] = []
+        if cost_floor is not None and objective == "cost" and q:
+            # A proven least cost for a looser target bounds this one from below (the plans
+            # meeting this target are among those meeting the looser one): a valid cut that
+            # lets the solver stop as soon as it finds a plan at that cost.
+            extra.append((-cost_vec, -(cost_floor - 1e-7 * max(1.0, abs(cost_floor)))))
         x = None
         proven = True
         for k, vec in enumerate(stages):
@@ -814,7 +852,8 @@ class _Planner:
         best = min(fits, key=lambda p: (p.cost, sum(s.days for s in p.shortenings)))
         return replace(best, target=target, proven=False)
 
-    def plan_for(self, target: date, objective: str) -> tuple[RecoveryPlan | None, bool]:
+    def plan_for(self, target: date, objective: str,
+                 cost_floor: float | None = None) -> tuple[RecoveryPlan | None, bool]:
         """The least-cost plan whose engine completion meets ``target``.
 
         Returns ``(plan, settled)``: ``plan`` is ``None`` when no plan meets
@@ -825,7 +864,7 @@ class _Planner:
             return self.nothing(target), True
         t_ub = self.program.target_time(target)
         for solve_no in range(1, MAX_SOLVES + 1):
-            xs, proven = self.program.solve(t_ub, objective, self.clock)
+            xs, proven = self.program.solve(t_ub, objective, self.clock, cost_floor)
             if xs is None:
                 if proven:
                     return None, True
@@ -951,8 +990,11 @@ def recover(
         raise unreachable(f"the target {target.isoformat()}")
     points: list[CurvePoint] = []
     if curve:
+        floor = None
         for k in range(1, max_days + 1):
-            p, _ = planner.plan_for(planner.back(k), "cost")
+            p, _ = planner.plan_for(planner.back(k), "cost", floor)
+            if p is not None and p.proven:
+                floor = p.cost
             if p is not None:
                 points.append(CurvePoint(k, p))
         # The curve never gets cheaper as days grow: a plan for more days meets every
