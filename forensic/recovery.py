@@ -63,7 +63,7 @@ with none, the cheapest plan already confirmed that meets the target (at
 worst every shortening); such a plan meets its target in the engine but is
 marked ``proven`` false ("not proven least-cost"). The curve is then made
 non-decreasing by carrying a cheaper plan for more days back to fewer.
-Anything the solver writes is kept off standard output.
+Anything the solver writes is kept off standard output (discarded).
 
 Note that in a precedence network shortening an activity can delay the
 completion (an FF or SF link on a shortened successor pushes its start
@@ -738,15 +738,18 @@ class _Clock:
 
 @contextlib.contextmanager
 def _quiet_stdout():
-    """Keep anything the solver writes to file descriptor 1 off standard output (to standard error)."""
+    """Keep anything the solver writes to file descriptor 1 off standard output (HiGHS prints
+    debugging lines such as ``HighsMipSolverData::transformNewIntegerFeasibleSolution`` when a
+    time limit cuts a search); they are discarded."""
     try:
         sys.stdout.flush()
         saved = os.dup(1)
+        sink = os.open(os.devnull, os.O_WRONLY)
     except (OSError, ValueError, AttributeError):
         yield
         return
     try:
-        os.dup2(2, 1)
+        os.dup2(sink, 1)
         yield
     finally:
         try:
@@ -755,6 +758,7 @@ def _quiet_stdout():
             pass
         os.dup2(saved, 1)
         os.close(saved)
+        os.close(sink)
 
 
 # --------------------------------------------------------------------------- plans

@@ -664,3 +664,17 @@ def test_recover_stdout_holds_only_the_json_even_when_the_limit_cuts_a_solve():
     doc = json.loads(out.stdout)
     assert isinstance(doc["proven_least_cost"], bool)
     assert doc["plan"]["completion"] <= doc["plan"]["target"]
+
+
+def test_library_refuses_hostile_days_and_limits_for_report_and_export():
+    """`report`/`export --recover-days` call recover() with the default limit: huge days or bad limits are RecoveryError."""
+    import inspect
+
+    from forensic.recovery import DEFAULT_TIME_LIMIT
+
+    assert inspect.signature(recover).parameters["time_limit"].default == DEFAULT_TIME_LIMIT == 60.0
+    with pytest.raises(RecoveryError, match="before the data date"):
+        recover(house(), "S", days=10**30)
+    for bad in (float("nan"), float("inf"), 0.0, -1.0, 10.0**9):
+        with pytest.raises(RecoveryError, match="time limit"):
+            recover(house(), "S", days=1, time_limit=bad)

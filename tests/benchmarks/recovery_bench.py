@@ -22,7 +22,7 @@ from forensic.calendars import DAY_NAMES  # noqa: E402
 from forensic.model import Activity, Calendar, Casefile, Link, Project, Snapshot, frozen_mapping  # noqa: E402
 from forensic.recovery import recover  # noqa: E402
 
-__all__ = ["LADDER", "bench_ladder", "bench_network", "bench_recovery"]
+__all__ = ["LADDER", "SYNTH", "bench_ladder", "bench_network", "bench_recovery", "synth_all_crashable"]
 
 
 CALENDARS = {
@@ -92,29 +92,62 @@ LADDER = (
     (200, 1.0, 1, 5), (200, 1.0, 3, 5), (500, 1.0, 1, 5), (500, 1.0, 3, 5),
     (2000, 0.15, 1, 10), (2000, 0.15, 3, 10), (2000, 1.0, 1, 10), (5000, 1.0, 1, 60),
 )
+# ``forensic synth`` networks with every task crashable: (activities asked for, days asked).
+SYNTH = ((200, 5), (500, 5))
 
 
-def bench_ladder(time_limit: float = 60.0, ladder=LADDER) -> list[dict]:
-    """Plan and curve (the ``recover`` command's work) per rung, with the default time limit."""
-    rows = []
-    for n, share, cals, days in ladder:
-        cf = bench_network(n, round(n * share), calendars=cals)
+def synth_all_crashable(n: int, seed: int = 1) -> Casefile:
+    """A ``forensic synth`` casefile (three calendars, constraints, progress) with every task crashable.
+
+    Its latest update gets ``crash_days`` = a third of each task's duration (at
+    least 1) and a cost of 500 to 5,000 a day, the shape of the issue 22 attack.
+    """
+    from dataclasses import replace
+
+    from forensic.synthetic import generate_casefile
+
+    cf = generate_casefile(n, updates=3, seed=seed)
+    rng = random.Random(seed)
+    snap = cf.snapshots[-1]
+    acts = {
+        a.id: (replace(a, crash_days=max(1, a.duration // 3), crash_cost=float(rng.randint(5, 50) * 100))
+               if a.kind == "task" and a.duration > 1 else a)
+        for a in snap.activities.values()
+    }
+    snap = replace(snap, activities=frozen_mapping(acts))
+    return replace(cf, snapshots=(*cf.snapshots[:-1], snap))
+
+
+def bench_ladder(time_limit: float = 60.0, ladder=LADDER, synth=SYNTH):
+    """Plan and curve (the ``recover`` command's work) per rung, with the default time limit (one row each)."""
+    cases = [(n, share, cals, days, None) for n, share, cals, days in ladder]
+    cases += [(n, 1.0, 3, days, "synth") for n, days in synth]
+    for n, share, cals, days, kind in cases:
+        if kind == "synth":
+            cf = synth_all_crashable(n)
+            snap = cf.snapshots[-1]
+            total = len(snap.activities)
+            crashable = sum(1 for a in snap.activities.values() if a.crash_days)
+            share = crashable / total
+        else:
+            cf = bench_network(n, round(n * share), calendars=cals)
+            snap, total = cf.snapshots[0], n
         t = time.perf_counter()
-        r = recover(cf, "BM", days=days, time_limit=time_limit)
-        rows.append({
-            "activities": n, "crashable_share": share, "calendars": cals, "days": days,
-            "seconds": time.perf_counter() - t, "curve_points": len(r.curve), "proven": r.proven,
+        r = recover(cf, snap.id, days=days, time_limit=time_limit)
+        yield {
+            "network": kind or "layered", "activities": total, "crashable_share": share, "calendars": cals,
+            "days": days, "seconds": time.perf_counter() - t, "curve_points": len(r.curve), "proven": r.proven,
             "cost": r.plan.cost,
-        })
-    return rows
+        }
 
 
 if __name__ == "__main__":
     if "--ladder" in sys.argv:
-        print("| activities | crashable | calendars | --days | seconds | curve points | proven least-cost |")
-        print("|---:|---:|---:|---:|---:|---:|---|")
+        print("| network | activities | crashable | calendars | --days | seconds | curve points | proven least-cost |")
+        print("|---|---:|---:|---:|---:|---:|---:|---|")
         for row in bench_ladder():
-            print(f"| {row['activities']:,} | {row['crashable_share']:.0%} | {row['calendars']} | {row['days']} "
+            print(f"| {row['network']} | {row['activities']:,} | {row['crashable_share']:.0%} | {row['calendars']} "
+                  f"| {row['days']} "
                   f"| {row['seconds']:.1f} | {row['curve_points']} | {'yes' if row['proven'] else 'no'} |", flush=True)
     else:
         for key, value in bench_recovery().items():
