@@ -26,7 +26,8 @@ from ._common import casefile_argument, emit, emit_xlsx, format_options, load
 @click.option("--target", type=click.DateTime(formats=["%Y-%m-%d"]), metavar="DATE",
               help="Completion wanted on or before this date (YYYY-MM-DD).")
 @click.option("--days", type=click.IntRange(min=1), metavar="N",
-              help="Days to recover, in the project's delay unit, back from the current completion.")
+              help="Days to recover, in the project's delay unit (working days: of the completion's "
+                   "calendar), back from the current completion.")
 @click.option("--objective", type=click.Choice(OBJECTIVES), default="cost", show_default=True,
               help="cost: least total cost; count: fewest activities shortened, then least cost.")
 @click.option("--time-limit", "time_limit", type=float, default=DEFAULT_TIME_LIMIT, show_default=True,
@@ -41,10 +42,12 @@ def recover_command(
     """Plan the cheapest way to win back days on a snapshot of CASEFILE.
 
     Shortens remaining activities by whole working days within their
-    crash_days, at crash_cost per day (the time-cost trade-off of Kelley 1961
-    and Fulkerson 1961, solved exactly as a mixed-integer program), and
-    confirms every plan by rescheduling with the engine. Prints the plan, the
-    new completion, the cost and the time-cost curve. Give --target or --days.
+    crash_days, at crash_cost per day (the time-cost trade-off of Kelley and
+    Walker 1959, Kelley 1961 and Fulkerson 1961, solved exactly as a
+    mixed-integer program in the engine's own time, every calendar included),
+    and reschedules every plan with the engine. Prints the plan, the new
+    completion, the cost and the time-cost curve (steps in working days of the
+    completion's calendar). Give --target or --days. See docs/recovery.md.
 
     Example: forensic recover casefiles/riverside --snapshot U03 --days 10 --objective count
 
