@@ -24,8 +24,13 @@ def _interrupted_early(signum, frame):  # pragma: no cover - timing dependent
 _interrupted_early.forensic_early = True  # the group puts the default handler back (forensic.cli._base)
 
 
+PROGRAM = False  # true once run() starts: the command line may then leave with os._exit on Ctrl-C
+
+
 def run() -> None:
     """The ``forensic`` entry point: install the early Ctrl-C handler, then import and run the CLI."""
+    global PROGRAM
+    PROGRAM = True
     try:
         if signal.getsignal(signal.SIGINT) is not signal.SIG_IGN:  # ignored (nohup, a background job): keep so
             signal.signal(signal.SIGINT, _interrupted_early)

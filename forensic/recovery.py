@@ -3,27 +3,46 @@
 Which remaining activities should be shortened, and by how many whole
 working days, so that the completion is met by a target date at the least
 cost (or by the fewest activities shortened, with cost as the tie-breaker)?
-This is the project time-cost trade-off of Kelley (1961) and Fulkerson
-(1961), which they solved as a linear program; with whole days of crashing
-it becomes a mixed-integer program, solved here exactly by
-``scipy.optimize.milp`` (HiGHS branch and bound with a zero optimality gap).
+This is the project time-cost trade-off of Kelley and Walker (1959), Kelley
+(1961) and Fulkerson (1961), which they solved as a linear program; with
+whole days of crashing and several calendars it becomes a mixed-integer
+program, solved here exactly by ``scipy.optimize.milp`` (HiGHS branch and
+bound with a zero optimality gap) within a time limit.
 
 The model
 ---------
-Time in the program is the working day of the project's default calendar,
-counted from the data date (boundary 0 is the start of the first working day
-on or after it). For every activity not yet finished there is a start
-variable ``s`` (the start of its remaining work), and for every activity
-that may be shortened an integer ``x`` in ``0 .. limit``, so that its finish
-is ``s + D - x``. Each link is one inequality, as in the engine
-(:mod:`forensic.engine`): FS ``s_j >= f_i + lag``, SS ``s_j >= s_i + lag``,
-FF ``f_j >= f_i + lag``, SF ``f_j >= s_i + lag``, with the same progress
-rules (a finished activity is a constant; the remaining work of an activity
-in progress ignores its SS links under retained logic and every link under
-override), no remaining work before the data date, and the early-date
-constraints (start/finish on or after, start/finish on). The completion
-(the project's completion milestone, or every activity when none is named)
-must finish by the target.
+Time in the program is the engine's own (:mod:`forensic.engine`). Each
+unfinished activity that can reach the completion has a start variable
+``e``, a boundary of its own calendar's working days (the start of its
+remaining work), and each activity that may be shortened an integer ``x`` in
+``0 .. limit``; its finish boundary is ``e + D - x``. A link passes a
+calendar day, as the engine does: the predecessor's start date (SS, SF) or
+the day after its finish date (FS, FF); the successor takes the first of its
+own working days on or after that day and adds the lag in its own working
+days. Each link is then one inequality, FS ``e_j >= map(f_i) + lag``, SS
+``e_j >= map(e_i) + lag``, FF ``f_j >= map(f_i) + lag``, SF
+``f_j >= map(e_i) + lag``, where ``map`` is the identity when both
+activities share a calendar and otherwise a non-decreasing step function of
+the predecessor's boundary (weekends and holidays the two calendars do not
+share). A step function is written exactly over the range its boundary can
+take (lowest by a forward pass with durations at their longest or shortest,
+highest by a backward pass from the current completion): one binary
+``u_a`` per step that is not a plain "+1", with ``u_a = 1`` exactly when the
+boundary is at or past ``a``. The completion bound ``T`` is a calendar day,
+reached the same way from the completion's finish (the project's completion
+milestone, or every activity when none is named). The engine's progress
+rules are kept (a finished activity is a constant; the remaining work of an
+activity in progress ignores its SS links under retained logic and every
+link under override), no remaining work before the data date, and the
+early-date constraints (start/finish on or after, start/finish on).
+
+Because every rule is the engine's and the engine's early dates are the least
+solution of these inequalities, a plan is feasible in the program exactly
+when the engine's completion of it meets the target, on one calendar or
+many, so the optimum is the cheapest plan whose engine completion meets the
+target (Kelley and Walker 1959; Kelley 1961 for the least-cost curve). Every
+plan is still rescheduled by the engine, and the completion reported is the
+engine's; ``solves`` stays 1 (a tightening loop remains only as a safety net).
 
 Only remaining work is shortened: the duration of work not started, the
 remaining duration of work in progress. Finished work and milestones are
@@ -32,19 +51,19 @@ never below one working day of remaining work. An activity with
 ``crash_days`` but no ``crash_cost`` cannot be priced and is not shortened
 (a warning says so).
 
-Confirmation by the engine
---------------------------
-Every plan is applied to the snapshot (durations reduced with
-:func:`dataclasses.replace`) and rescheduled by :func:`forensic.engine.schedule`;
-the completion reported is the engine's. On a network whose activities all
-use the default calendar the program is the engine's own arithmetic and the
-first solve is confirmed. Where activities use other calendars, their
-durations and lags are scaled into default-calendar days by the ratio of
-working days per week, which is an approximation: when the engine's
-completion misses the target, the program's target is tightened by the
-shortfall and the program solved again, until the engine confirms (at most
-``MAX_SOLVES`` solves); the plan is then the cheapest the program found, not
-proven cheapest.
+Days recovered, the curve's steps and ``days`` in the ``working-days`` delay
+unit are working days of the completion activity's calendar (named in the
+result), since that is the calendar its date moves on.
+
+Time limit
+----------
+All the solves of one analysis share ``time_limit`` seconds. When it is
+reached, a solve returns the best plan it has found (HiGHS' incumbent), or,
+with none, the cheapest plan already confirmed that meets the target (at
+worst every shortening); such a plan meets its target in the engine but is
+marked ``proven`` false ("not proven least-cost"). The curve is then made
+non-decreasing by carrying a cheaper plan for more days back to fewer.
+Anything the solver writes is kept off standard output (discarded).
 
 Note that in a precedence network shortening an activity can delay the
 completion (an FF or SF link on a shortened successor pushes its start
@@ -67,7 +86,11 @@ Operations Management* 1(3), 121-130 (from memory).
 
 from __future__ import annotations
 
+import contextlib
 import math
+import os
+import sys
+import time
 from collections.abc import Mapping
 from dataclasses import dataclass, replace
 from datetime import date, timedelta
@@ -82,7 +105,9 @@ from .model import Activity, Calendar, Casefile, Project, Snapshot, frozen_mappi
 from .tables import Table
 
 __all__ = [
+    "DEFAULT_TIME_LIMIT",
     "MAX_SOLVES",
+    "MAX_TIME_LIMIT",
     "OBJECTIVES",
     "CurvePoint",
     "RecoveryPlan",
@@ -96,7 +121,9 @@ __all__ = [
 ]
 
 OBJECTIVES = ("cost", "count")
-MAX_SOLVES = 12  # program solves per target before giving up on the engine's confirmation
+MAX_SOLVES = 12  # safety net: program solves per target before giving up on the engine's confirmation
+DEFAULT_TIME_LIMIT = 60.0  # seconds for every solve of one analysis together (recover --time-limit)
+MAX_TIME_LIMIT = 86400.0  # a day: a larger limit is refused as a mistake
 
 
 @dataclass(frozen=True, slots=True)
@@ -118,10 +145,12 @@ class Shortening:
 class RecoveryPlan:
     """A plan to meet ``target``: the shortenings, their cost, and the engine's new completion.
 
-    ``working_days_recovered`` is on the project's default calendar and
-    ``calendar_days_recovered`` in calendar days, both from the current
-    completion to the engine's new one. ``solves`` counts the programs solved
-    until the engine confirmed the target.
+    ``working_days_recovered`` is in working days of the completion
+    activity's calendar (those from the new completion, included, to the
+    current one, excluded) and ``calendar_days_recovered`` in calendar days.
+    ``solves`` counts the programs solved until the engine confirmed the
+    target. ``proven`` is false when the time limit cut the search: the plan
+    meets the target but is not proven least-cost.
     """
 
     target: date
@@ -131,6 +160,7 @@ class RecoveryPlan:
     cost: float
     shortenings: tuple[Shortening, ...]
     solves: int
+    proven: bool = True
 
     @property
     def activities(self) -> tuple[str, ...]:
@@ -139,7 +169,7 @@ class RecoveryPlan:
 
 @dataclass(frozen=True, slots=True)
 class CurvePoint:
-    """One point of the time-cost curve: the least cost to recover ``working_days`` days."""
+    """One point of the time-cost curve: the least cost to recover ``working_days`` days (completion's calendar)."""
 
     working_days: int
     plan: RecoveryPlan
@@ -150,9 +180,11 @@ class RecoveryResult:
     """The recovery analysis of one snapshot: the plan for the target, and the time-cost curve.
 
     ``earliest_completion`` is the engine's completion of the plan that
-    finishes soonest; ``max_working_days`` the working days (default
-    calendar) it recovers. ``curve`` holds one point per working day from 1
-    to ``max_working_days`` (empty when the curve was not asked for).
+    finishes soonest; ``max_working_days`` the working days it recovers, on
+    ``working_days_calendar`` (the completion activity's calendar). ``curve``
+    holds one point per working day from 1 to ``max_working_days`` (empty
+    when the curve was not asked for). ``proven`` is false when the time limit
+    (``time_limit`` seconds) left any plan not proven least-cost.
     """
 
     snapshot_id: str
@@ -165,6 +197,9 @@ class RecoveryResult:
     plan: RecoveryPlan
     curve: tuple[CurvePoint, ...]
     warnings: tuple[str, ...] = ()
+    working_days_calendar: str = ""
+    time_limit: float = DEFAULT_TIME_LIMIT
+    proven: bool = True
 
 
 # --------------------------------------------------------------------------- the program
@@ -178,22 +213,81 @@ class _Crashable:
     remaining: int
 
 
+_BIG = 1 << 40  # "no bound" for a working-day boundary
+
+
+class _Node:
+    """One unfinished activity as the program sees it (the engine's quantities, module notes)."""
+
+    __slots__ = ("act", "ix", "status", "dur", "fl", "lim", "lbe", "ube", "lbf", "ubf", "var", "crash")
+
+    def __init__(self, act: Activity, ix: WorkdayIndex, status: int, dur: int, fl: bool):
+        self.act, self.ix, self.status, self.dur, self.fl = act, ix, status, dur, fl
+        self.lim = 0
+        self.crash: int | None = None  # position in the crashable list
+        self.var = -1
+        self.lbe = self.lbf = 0
+        self.ube = self.ubf = _BIG
+
+    def kind(self, end: str) -> str:
+        """How the day an end passes to a link depends on its boundary ``k``.
+
+        ``c``: a constant (the actual start of work in progress); ``d``: the
+        day of working day ``k`` (a start, a start milestone); ``a``: the day
+        after working day ``k - 1`` (a finish, a finish milestone).
+        """
+        if end == "s" and self.status == 1:
+            return "c"
+        if self.dur == 0:
+            return "d" if self.fl else "a"
+        return "d" if end == "s" else "a"
+
+    def day(self, end: str, k: int) -> int:
+        kd = self.kind(end)
+        if kd == "c":
+            return day_number(self.act.actual_start)
+        days = self.ix.days
+        return days[k] if kd == "d" else days[k - 1] + 1
+
+    def last_boundary(self, end: str, day: int) -> int:
+        """The largest boundary ``k`` of ``end`` whose day is on or before ``day``."""
+        ix = self.ix
+        if day < ix.lo:
+            return -_BIG
+        if day + 1 >= ix.hi:
+            return _BIG
+        if self.kind(end) == "d":
+            return ix.first_at[day + 1 - ix.lo] - 1
+        return ix.first_at[day - ix.lo]
+
+    def bounds(self, end: str) -> tuple[int, int]:
+        return (self.lbe, self.ube) if end == "s" or self.dur == 0 else (self.lbf, self.ubf)
+
+
 class _Program:
     """The mixed-integer program of one snapshot, built once and solved for many targets.
 
-    Variables, in order: ``s`` per unfinished activity, ``x`` per crashable
-    activity, ``y`` (binary, "is shortened") per crashable activity, and
-    ``T`` the completion bound.
+    Time is the engine's: each activity's start and finish are boundaries of
+    its own calendar's working days, and a link passes a calendar day from
+    the predecessor to the successor, who takes the first of its working
+    days on or after that day and adds the lag (:mod:`forensic.engine`).
+    Between activities on one calendar this is the identity plus the lag;
+    between two calendars it is a non-decreasing step function of the
+    predecessor's boundary, written exactly over the range the boundary can
+    take with one binary per step that is not a plain "+1" (a weekend, a
+    holiday: ``u_a = 1`` when the boundary is at or past ``a``). The
+    completion bound ``T`` is a calendar day, reached the same way from the
+    completion's own calendar. So a plan is feasible in the program exactly
+    when the engine's completion of it meets the target.
     """
 
-    def __init__(self, snapshot: Snapshot, calendars: Mapping[str, Calendar], project: Project):
+    def __init__(self, snapshot: Snapshot, calendars: Mapping[str, Calendar], project: Project, current: date):
         self.snapshot = snapshot
         self.project = project
-        self.calendars = calendars
         self.warnings: list[str] = []
         acts = list(snapshot.activities.values())
-        dd = day_number(snapshot.data_date)
-        days = [dd] + [
+        self.dd = dd = day_number(snapshot.data_date)
+        days = [dd, day_number(current)] + [
             day_number(d)
             for a in acts
             for d in (a.actual_start, a.actual_finish, a.constraint_date)
@@ -202,71 +296,45 @@ class _Program:
         pad = sum(a.duration + (a.remaining or 0) for a in acts)
         pad += sum(abs(link.lag) for link in snapshot.links) + 10
         margin = 7 * pad + 400
-        self.lo, hi = min(days) - margin, max(max(days) + margin, dd + 800)
-        self.default = workday_index(calendars[project.default_calendar], self.lo, hi)
-        self.base = self.default.first_at[dd - self.lo]
-        logic = project.progress_logic
+        self.lo, self.hi = lo, hi = min(days) - margin, max(max(days) + margin, dd + 800)
 
-        def cal_of(a: Activity) -> WorkdayIndex:
+        def index_of(a: Activity) -> WorkdayIndex:
             cid = a.calendar or project.default_calendar
             try:
                 cal = calendars[cid]
             except KeyError:
                 msg = f"snapshot {snapshot.id}, activity {a.id}: unknown calendar {cid!r}"
                 raise NotFoundError(msg) from None
-            return workday_index(cal, self.lo, hi)
+            return workday_index(cal, lo, hi)
 
-        # Scale from an activity's working days to default-calendar days: the
-        # ratio of working days over two years from the data date (1 on the default).
-        def ratio(ix: WorkdayIndex) -> float:
-            if ix.calendar == self.default.calendar:
-                return 1.0
-            span = (dd - self.lo, dd + 730 - self.lo)
-            own = ix.first_at[span[1]] - ix.first_at[span[0]]
-            dflt = self.default.first_at[span[1]] - self.default.first_at[span[0]]
-            return dflt / own if own else 1.0
+        self.index_of = index_of
+        self.default = workday_index(calendars[project.default_calendar], lo, hi)
 
-        self.crashable: list[_Crashable] = []
-        var_s: dict[str, int] = {}
-        var_x: dict[str, int] = {}
-        status: dict[str, int] = {}  # 0 not started, 1 in progress, 2 finished (as the engine)
-        dur: dict[str, float] = {}
-        r: dict[str, float] = {}
-        kinds: dict[str, tuple[bool, bool]] = {}  # (start is late-type, finish is late-type)
-        const_s: dict[str, float] = {}
-        const_f: dict[str, float] = {}
+        # Status, durations and the days finished work passes on, as the engine computes them.
+        nodes: dict[str, _Node] = {}
+        done_s: dict[str, int] = {}
+        done_f: dict[str, int] = {}
+        done_finish_day: dict[str, int] = {}
+        status: dict[str, int] = {}
         for a in acts:
-            milestone = a.kind != "task" or a.duration == 0
-            if a.kind == "opening-milestone":
-                kinds[a.id] = (True, True)
-            elif milestone:
-                kinds[a.id] = (False, False)
-            else:
-                kinds[a.id] = (True, False)
-            if a.actual_finish is not None or (milestone and a.actual_start is not None):
+            zero = a.kind != "task" or a.duration == 0
+            start_ms = a.kind == "opening-milestone"
+            if a.actual_finish is not None or (zero and a.actual_start is not None):
                 status[a.id] = 2
                 s_day = day_number(a.actual_start or a.actual_finish)
                 f_day = day_number(a.actual_finish or a.actual_start)
-                if a.kind == "opening-milestone":
-                    const_s[a.id] = const_f[a.id] = self.model_time(s_day)
-                elif milestone:
-                    const_s[a.id] = const_f[a.id] = self.model_time(f_day + 1)
-                else:
-                    const_s[a.id] = self.model_time(s_day)
-                    const_f[a.id] = self.model_time(f_day + 1)
+                done_s[a.id] = s_day if start_ms or not zero else f_day + 1
+                done_f[a.id] = s_day if start_ms else f_day + 1
+                done_finish_day[a.id] = f_day
                 continue
-            status[a.id] = 1 if a.actual_start is not None else 0
-            if status[a.id] == 1:
-                const_s[a.id] = self.model_time(day_number(a.actual_start))
-            ix = cal_of(a)
-            r[a.id] = ratio(ix)
-            d = 0 if (milestone and status[a.id] == 0) else a.remaining_duration
-            dur[a.id] = d
-            var_s[a.id] = len(var_s)
-            if milestone or not a.crash_days or a.crash_days <= 0:
+            st = 1 if a.actual_start is not None else 0
+            status[a.id] = st
+            dur = 0 if (zero and st == 0) else a.remaining_duration
+            node = nodes[a.id] = _Node(a, index_of(a), st, dur, start_ms)
+            if zero or not a.crash_days or a.crash_days <= 0:
                 continue
-            limit = min(a.crash_days, d - 1)
-            if status[a.id] == 0:
+            limit = min(a.crash_days, dur - 1)
+            if st == 0:
                 limit = min(limit, a.duration - 1)
             if a.crash_cost is None:
                 self.warnings.append(
@@ -274,178 +342,423 @@ class _Program:
                     "it cannot be priced and is not shortened"
                 )
                 continue
-            if limit <= 0:
-                continue
-            var_x[a.id] = len(self.crashable)
-            self.crashable.append(_Crashable(a, limit, float(a.crash_cost), d))
+            if limit > 0:
+                node.lim = limit
 
-        m, q = len(var_s), len(self.crashable)
-        self.m, self.q = m, q
-        self.n_vars = m + 2 * q + 1
-        self.t_var = m + 2 * q
-        self.var_x = var_x
+        comp = project.completion if project.completion in status else None
+        self.completion_finished = comp is not None and status[comp] == 2
+        targets = [comp] if comp is not None else list(nodes)
+        targets = [t for t in targets if t in nodes]
+        self.t_floor = -math.inf  # unnamed completion: finished work already sets a floor
+        if comp is None and done_finish_day:
+            self.t_floor = float(max(done_finish_day.values()) - dd)
 
-        def start_term(aid: str) -> tuple[dict[int, float], float]:
-            if status[aid] == 0:
-                return {var_s[aid]: 1.0}, 0.0
-            return {}, const_s[aid]
-
-        def finish_term(aid: str) -> tuple[dict[int, float], float]:
-            if status[aid] == 2:
-                return {}, const_f[aid]
-            coefs = {var_s[aid]: 1.0}
-            if aid in var_x:
-                coefs[m + var_x[aid]] = -r[aid]
-            return coefs, dur[aid] * r[aid]
-
-        rows: list[tuple[dict[int, float], float, float]] = []  # (coefs, lower, upper)
-
-        def add_row(succ_term, pred_term, lag: float) -> None:
-            (cs, ks), (cp, kp) = succ_term, pred_term
-            coefs = dict(cs)
-            for v, c in cp.items():
-                coefs[v] = coefs.get(v, 0.0) - c
-            coefs = {v: c for v, c in coefs.items() if c != 0.0}
-            if coefs:
-                rows.append((coefs, lag + kp - ks, math.inf))
-
-        s_lower = [0.0] * m  # no remaining work before the data date
+        # Links the engine's forward pass uses (module notes of forensic.engine).
+        logic = project.progress_logic
+        into: dict[str, list] = {aid: [] for aid in nodes}
         for link in snapshot.links:
             p, j = link.pred, link.succ
             if p not in status or j not in status:
                 msg = f"snapshot {snapshot.id}: link {p} -> {j} names an unknown activity"
                 raise NotFoundError(msg)
-            if status[j] == 2:
+            if status[j] == 2 or (status[j] == 1 and (logic == "override" or link.type == "SS")):
                 continue
-            if status[j] == 1 and (logic == "override" or link.type == "SS"):
-                continue
-            pred = start_term(p) if link.type in ("SS", "SF") else finish_term(p)
-            succ = finish_term(j) if link.type in ("FF", "SF") else start_term(j)
-            if status[j] == 1 and link.type in ("FS",):
-                succ = ({var_s[j]: 1.0}, 0.0)  # the remaining work's start
-            lag = link.lag * r[j]
-            if not succ[0]:
-                continue
-            if not pred[0] and len(succ[0]) == 1 and link.type in ("FS", "SS"):
-                (v,) = succ[0]
-                s_lower[v] = max(s_lower[v], lag + pred[1] - succ[1])
-                continue
-            add_row(succ, pred, lag)
+            into[j].append(link)
 
-        for a in acts:
-            if status[a.id] == 2 or a.constraint is None or a.constraint_date is None:
-                continue
-            t = self.model_time(day_number(a.constraint_date))
-            s_late, f_late = kinds[a.id]
-            if a.constraint in ("start-from", "start-fixed") and status[a.id] == 0:
-                v = var_s[a.id]
-                s_lower[v] = max(s_lower[v], t + (0 if s_late else 1))
-            elif a.constraint in ("finish-from", "finish-fixed"):
-                late = f_late if dur[a.id] == 0 else False
-                add_row(finish_term(a.id), ({}, 0.0), t + (0 if late else 1))
+        # The activities whose timing can reach the completion (through an end that can move).
+        def pred_end(link) -> str:
+            return "s" if link.type in ("SS", "SF") else "f"
 
-        # The completion must finish by T; a start milestone's date is its boundary's own day.
-        comp = project.completion if project.completion in status else None
-        self.completion_id = comp
-        targets = [comp] if comp is not None else [a.id for a in acts if status[a.id] != 2]
+        def moves(link) -> bool:
+            return link.pred in nodes and nodes[link.pred].kind(pred_end(link)) != "c"
+
+        relevant: set[str] = set(targets)
+        stack = list(targets)
+        while stack:
+            j = stack.pop()
+            for link in into[j]:
+                if moves(link) and link.pred not in relevant:
+                    relevant.add(link.pred)
+                    stack.append(link.pred)
+        outs: dict[str, list] = {aid: [] for aid in relevant}
+        indeg = dict.fromkeys(relevant, 0)
+        for j in relevant:
+            for link in into[j]:
+                if moves(link):
+                    outs[link.pred].append(link)
+                    indeg[j] += 1
+        order = [aid for aid in nodes if aid in relevant and indeg[aid] == 0]
+        for aid in order:  # Kahn's algorithm, file order (the engine has refused loops already)
+            for link in outs[aid]:
+                indeg[link.succ] -= 1
+                if indeg[link.succ] == 0:
+                    order.append(link.succ)
+
+        # The range of boundaries any plan can give, forward: the engine's early start is the
+        # largest of the start candidates A (data date, start constraint, SS/FS links) and the
+        # finish candidates V (finish constraint, FF/SF links) less the duration, so with the
+        # duration between D - limit and D: e in [max(A) , max(A, V - D + limit)] at the extremes
+        # of the predecessors' own ranges, and f = max(A + duration, V).
+        def link_value(link, k_pred: int) -> int:
+            succ = nodes[link.succ]
+            if link.pred in nodes:
+                t = nodes[link.pred].day(pred_end(link), k_pred)
+            else:
+                t = done_s[link.pred] if link.type in ("SS", "SF") else done_f[link.pred]
+            return succ.ix.first_at[t - lo] + link.lag
+
+        idle: set[int] = set()  # links that never bind
+        for aid in order:
+            nd = nodes[aid]
+            a = nd.act
+            fa = nd.ix.first_at
+            start_c = fa[dd - lo]
+            finish_c = -_BIG
+            if a.constraint is not None and a.constraint_date is not None:
+                cday = day_number(a.constraint_date)
+                s_late = (a.kind == "task" and a.duration != 0) or nd.fl  # the engine's instant kinds
+                if a.constraint in ("start-from", "start-fixed") and nd.status == 0:
+                    start_c = max(start_c, fa[cday - lo] + (0 if s_late else 1))
+                elif a.constraint in ("finish-from", "finish-fixed"):
+                    finish_c = fa[cday - lo] + (0 if (nd.dur == 0 and nd.fl) else 1)
+            la = ua = start_c
+            lv = uv = finish_c
+            ranges = []
+            for link in into[aid]:
+                if link.pred in nodes and moves(link):
+                    pn = nodes[link.pred]
+                    end = pred_end(link)
+                    lo_k, hi_k = (pn.lbe, pn.ube) if end == "s" or pn.dur == 0 else (pn.lbf, pn.ubf)
+                    v_lo, v_hi = link_value(link, lo_k), link_value(link, hi_k)
+                    ranges.append((link, v_lo, v_hi))
+                else:
+                    v_lo = v_hi = link_value(link, 0)
+                if link.type in ("FF", "SF"):
+                    lv, uv = max(lv, v_lo), max(uv, v_hi)
+                else:
+                    la, ua = max(la, v_lo), max(ua, v_hi)
+            nd.lbe = max(la, lv - nd.dur)
+            nd.lbf = max(la + nd.dur - nd.lim, lv)
+            nd.ube = max(ua, uv - nd.dur + nd.lim)
+            nd.ubf = max(ua + nd.dur, uv)
+            # A link whose highest value cannot pass what the other candidates already
+            # guarantee never binds (in any plan) and is left out of the program.
+            for k, (link, _v_lo, v_hi) in enumerate(ranges):
+                on_finish = link.type in ("FF", "SF")
+                others_a, others_v = start_c, finish_c
+                for k2, (l2, w_lo, _) in enumerate(ranges):
+                    if k2 != k:
+                        if l2.type in ("FF", "SF"):
+                            others_v = max(others_v, w_lo)
+                        else:
+                            others_a = max(others_a, w_lo)
+                for l2 in into[aid]:
+                    if not (l2.pred in nodes and moves(l2)):
+                        if l2.type in ("FF", "SF"):
+                            others_v = max(others_v, link_value(l2, 0))
+                        else:
+                            others_a = max(others_a, link_value(l2, 0))
+                if on_finish:
+                    floor = max(others_a + nd.dur - nd.lim, others_v)
+                else:
+                    floor = max(others_a, others_v - nd.dur)
+                if v_hi <= floor:
+                    idle.add(id(link))
+
+        # ... and backward: no plan meeting the current completion has a boundary past these.
+        cur = day_number(current)
         for aid in targets:
-            if status[aid] == 2:
-                continue
-            coefs, k = finish_term(aid)
-            coefs = dict(coefs)
-            coefs[self.t_var] = -1.0
-            shift = 1.0 if kinds[aid][1] and dur[aid] == 0 else 0.0
-            rows.append((coefs, -math.inf, -k - shift))
-        self.completion_finished = comp is not None and status[comp] == 2
+            nd = nodes[aid]
+            nd.ubf = min(nd.ubf, nd.last_boundary("f", cur + (0 if nd.dur == 0 and nd.fl else 1)))
+        for aid in reversed(order):
+            nd = nodes[aid]
+            for link in outs[aid]:
+                sn = nodes[link.succ]
+                bound = (sn.ubf if link.type in ("FF", "SF") else sn.ube) - link.lag
+                if bound >= sn.ix.size:
+                    continue
+                last_day = sn.ix.days[bound] if bound >= 0 else lo - 1
+                k = nd.last_boundary(pred_end(link), last_day)
+                if pred_end(link) == "s" or nd.dur == 0:
+                    nd.ube = min(nd.ube, k)
+                else:
+                    nd.ubf = min(nd.ubf, k)
+            nd.ube = min(nd.ube, nd.ubf - nd.dur + nd.lim)
+            nd.ubf = min(nd.ubf, nd.ube + nd.dur)
+            if nd.ube >= _BIG // 2 or nd.ubf >= _BIG // 2:  # cannot happen for a relevant activity
+                nd.ube = nd.ubf = nd.ix.size - 1
 
-        for i, c in enumerate(self.crashable):  # x <= limit * y
-            rows.append(({m + i: 1.0, m + q + i: -float(c.limit)}, -math.inf, 0.0))
+        # Variables: e per relevant activity, then x and y per crashable one, u per step, and T.
+        self.nodes = nodes
+        self.crashable: list[_Crashable] = []
+        lb: list[float] = []
+        ub: list[float] = []
+        integ: list[int] = []
 
+        def new_var(lo_: float, hi_: float, integer: int) -> int:
+            lb.append(lo_)
+            ub.append(hi_)
+            integ.append(integer)
+            return len(lb) - 1
+
+        self.infeasible = False
+        for aid in order:
+            nd = nodes[aid]
+            lo_e = max(nd.lbe, nd.lbf - nd.dur)
+            hi_e = min(nd.ube, nd.ubf - nd.dur + nd.lim)
+            if lo_e > hi_e:
+                self.infeasible = True
+            nd.var = new_var(lo_e, hi_e, 0)
+        x_vars: list[int] = []
+        for aid in order:
+            nd = nodes[aid]
+            if nd.lim > 0:
+                nd.crash = len(self.crashable)
+                self.crashable.append(_Crashable(nd.act, nd.lim, float(nd.act.crash_cost), nd.dur))
+                x_vars.append(new_var(0.0, float(nd.lim), 1))
+        y_vars = [new_var(0.0, 1.0, 1) for _ in self.crashable]
+        self.x_vars, self.y_vars = x_vars, y_vars
+
+        rows: list[tuple[dict[int, float], float, float]] = []  # (coefs, lower, upper)
+
+        def boundary(nd: _Node, end: str) -> tuple[dict[int, float], float]:
+            """The boundary of an end as a linear expression (coefs, constant)."""
+            if end == "s" or nd.dur == 0:
+                return {nd.var: 1.0}, 0.0
+            coefs = {nd.var: 1.0}
+            if nd.crash is not None:
+                coefs[x_vars[nd.crash]] = -1.0
+            return coefs, float(nd.dur)
+
+        steps: dict[tuple[str, str, int], int] = {}
+
+        def mapped(nd: _Node, end: str, to) -> tuple[dict[int, float], float]:
+            """The boundary of ``to``'s calendar (or, for ``None``, the day less the data date) an end passes."""
+            coefs, const = boundary(nd, end)
+            if to is nd.ix:
+                return coefs, const
+            L, U = nd.bounds(end)
+
+            def phi(k: int) -> int:
+                t = nd.day(end, k)
+                return t - dd if to is None else to.first_at[t - lo]
+
+            out = dict(coefs)
+            base = phi(L)
+            k0 = float(L)
+            const_out = const - k0 + base
+            prev = base
+            for a_ in range(L + 1, U + 1):
+                cur_v = phi(a_)
+                jump = cur_v - prev - 1
+                prev = cur_v
+                if jump == 0:
+                    continue
+                key = (nd.act.id, end, a_)
+                u = steps.get(key)
+                if u is None:
+                    u = steps[key] = new_var(0.0, 1.0, 1)
+                    integ[nd.var] = 1
+                    # u = 1 exactly when the boundary is at or past a_ (over L..U).
+                    r1 = dict(coefs)
+                    r1[u] = r1.get(u, 0.0) - (a_ - L)
+                    rows.append((r1, L - const, math.inf))
+                    r2 = dict(coefs)
+                    r2[u] = r2.get(u, 0.0) - (U - a_ + 1)
+                    rows.append((r2, -math.inf, a_ - 1 - const))
+                out[u] = out.get(u, 0.0) + jump
+            return out, const_out
+
+        def add_ge(left: tuple[dict[int, float], float], right: tuple[dict[int, float], float], lag: float) -> None:
+            """left >= right + lag."""
+            (cl, kl), (cr, kr) = left, right
+            coefs = dict(cl)
+            for v, c in cr.items():
+                coefs[v] = coefs.get(v, 0.0) - c
+            coefs = {v: c for v, c in coefs.items() if c != 0.0}
+            if coefs:
+                rows.append((coefs, lag + kr - kl, math.inf))
+
+        for aid in order:
+            nd = nodes[aid]
+            if nd.crash is not None:  # the finish stays within its range
+                coefs, const = boundary(nd, "f")
+                rows.append((coefs, nd.lbf - const, nd.ubf - const))
+            for link in into[aid]:
+                if not moves(link) or id(link) in idle:
+                    continue  # a constant (already in the lower bounds) or a link that never binds
+                succ_end = "f" if link.type in ("FF", "SF") else "s"
+                add_ge(boundary(nd, succ_end), mapped(nodes[link.pred], pred_end(link), nd.ix), float(link.lag))
+
+        self.t_var = new_var(self.t_floor, math.inf, 0)
+        for aid in targets:
+            nd = nodes[aid]
+            shift = 0.0 if (nd.dur == 0 and nd.fl) else 1.0  # the finish date is the day before the boundary's
+            add_ge(({self.t_var: 1.0}, 0.0), mapped(nd, "f", None), -shift)
+        self.targets = targets
+        # A valid tightening: at or past a later step of an end means at or past every earlier one.
+        prev_key, prev_u = None, None
+        for (aid, end, _a), u in sorted(steps.items()):
+            if prev_key == (aid, end):
+                rows.append(({prev_u: 1.0, u: -1.0}, 0.0, math.inf))
+            prev_key, prev_u = (aid, end), u
+
+        for c, xv, yv in zip(self.crashable, x_vars, y_vars, strict=True):  # x <= limit * y
+            rows.append(({xv: 1.0, yv: -float(c.limit)}, -math.inf, 0.0))
+
+        self.n_vars = len(lb)
+        self.q = len(self.crashable)
+        self.n_steps = len(steps)
         data, ri, ci = [], [], []
         lower, upper = [], []
-        for k, (coefs, lb, ub) in enumerate(rows):
+        for k, (coefs, lb_, ub_) in enumerate(rows):
             for v, c in coefs.items():
                 ri.append(k)
                 ci.append(v)
                 data.append(c)
-            lower.append(lb)
-            upper.append(ub)
+            lower.append(lb_)
+            upper.append(ub_)
         from scipy.sparse import coo_array  # imported here: scipy costs half a second at start-up
 
         self.A = coo_array((data, (ri, ci)), shape=(len(rows), self.n_vars)).tocsr()
         self.row_lb = np.array(lower)
         self.row_ub = np.array(upper)
-        self.var_lb = np.array(s_lower + [0.0] * (2 * q) + [-math.inf])
-        self.var_ub = np.array([math.inf] * m + [c.limit for c in self.crashable] + [1.0] * q + [math.inf])
-        self.integrality = np.array([0] * m + [1] * (2 * q) + [0])
+        self.var_lb = np.array(lb)
+        self.var_ub = np.array(ub)
+        self.integrality = np.array(integ)
         self.costs = np.array([c.cost for c in self.crashable])
 
-    def model_time(self, day: int) -> float:
-        """Default-calendar working days from the data date to the start of ``day``."""
-        return float(self.default.first_at[day - self.lo] - self.base)
-
     def target_time(self, target: date) -> float:
-        """The program's bound for a completion dated on or before ``target``."""
-        return self.model_time(day_number(target) + 1)
+        """The program's bound on ``T`` for a completion dated on or before ``target``."""
+        return float(day_number(target) - self.dd)
 
-    def _solve(self, c: np.ndarray, extra: list[tuple[np.ndarray, float]], t_ub: float) -> np.ndarray | None:
+    def _solve(self, c: np.ndarray, extra: list[tuple[np.ndarray, float]], t_ub: float,
+               clock: _Clock) -> tuple[np.ndarray | None, bool]:
+        """One solve: (the solution or ``None``, proven optimal)."""
+        if self.infeasible:
+            return None, True
+        left = clock.left()
+        if left <= 0:
+            return None, False
         var_ub = self.var_ub.copy()
         var_ub[self.t_var] = t_ub
+        if t_ub < self.var_lb[self.t_var]:
+            return None, True
         from scipy.optimize import Bounds, LinearConstraint, milp
 
         constraints = [LinearConstraint(self.A, self.row_lb, self.row_ub)]
         for row, ub in extra:
             constraints.append(LinearConstraint(row.reshape(1, -1), -math.inf, ub))
-        res = milp(
-            c,
-            constraints=constraints,
-            integrality=self.integrality,
-            bounds=Bounds(self.var_lb, var_ub),
-            options={"mip_rel_gap": 0.0, "presolve": True},
-        )
-        if res.status != 0 or res.x is None:
-            return None
-        return res.x
+        with _quiet_stdout():
+            res = milp(
+                c,
+                constraints=constraints,
+                integrality=self.integrality,
+                bounds=Bounds(self.var_lb, var_ub),
+                options={"mip_rel_gap": 0.0, "presolve": True, "time_limit": max(left, 0.01), "disp": False},
+            )
+        if res.status == 0 and res.x is not None:
+            return res.x, True
+        if res.status == 1:  # the time limit: the best plan found so far, if any
+            clock.reached = True
+            return res.x, False
+        return None, True
 
-    def solve(self, t_ub: float, objective: str) -> list[int] | None:
+    def solve(self, t_ub: float, objective: str, clock: _Clock,
+              cost_floor: float | None = None) -> tuple[list[int] | None, bool]:
         """The shortenings (days per crashable activity) meeting ``T <= t_ub``, or ``None`` if none.
 
         Objectives are solved lexicographically: ``cost`` = least cost; ``count`` =
         fewest activities, then least cost; last, when some day costs nothing, the
-        fewest days, so that no activity is shortened for nothing.
+        fewest days, so that no activity is shortened for nothing. The flag says
+        whether every stage was solved to optimality (no time limit reached).
         """
-        m, q, n = self.m, self.q, self.n_vars
+        n, q = self.n_vars, self.q
+        xs_idx = np.array(self.x_vars, dtype=np.int64)
+        ys_idx = np.array(self.y_vars, dtype=np.int64)
         cost_vec = np.zeros(n)
-        cost_vec[m : m + q] = self.costs
         count_vec = np.zeros(n)
-        count_vec[m + q : m + 2 * q] = 1.0
         days_vec = np.zeros(n)
-        days_vec[m : m + q] = 1.0
+        if q:
+            cost_vec[xs_idx] = self.costs
+            count_vec[ys_idx] = 1.0
+            days_vec[xs_idx] = 1.0
         stages = [count_vec, cost_vec] if objective == "count" else [cost_vec]
         if q and (self.costs <= 0).any():
             stages.append(days_vec)
         if not q:
             stages = [np.zeros(n)]
         extra: list[tuple[np.ndarray, float]] = []
+        if cost_floor is not None and objective == "cost" and q:
+            # A proven least cost for a looser target bounds this one from below (the plans
+            # meeting this target are among those meeting the looser one): a valid cut that
+            # lets the solver stop as soon as it finds a plan at that cost.
+            extra.append((-cost_vec, -(cost_floor - 1e-7 * max(1.0, abs(cost_floor)))))
         x = None
+        proven = True
         for k, vec in enumerate(stages):
-            x = self._solve(vec, extra, t_ub)
-            if x is None:
-                return None
+            got, ok = self._solve(vec, extra, t_ub, clock)
+            if got is None:
+                if x is not None:  # a later stage ran out of time: keep the earlier stage's plan
+                    return [round(v) for v in x[xs_idx]] if q else [], False
+                return None, ok
+            x = got
+            proven = proven and ok
+            if not ok:
+                break
             best = float(vec @ x)
             if k < len(stages) - 1:
                 extra.append((vec, best + 1e-7 * max(1.0, abs(best)) + (0.5 if vec is count_vec else 0.0)))
         assert x is not None
-        return [round(v) for v in x[m : m + q]]
+        return ([round(v) for v in x[xs_idx]] if q else []), proven
 
-    def earliest(self) -> list[int] | None:
-        """The shortenings that make the completion earliest, at least cost."""
+    def earliest(self, t_ub: float, clock: _Clock) -> tuple[list[int] | None, bool]:
+        """The shortenings that make the completion earliest (by ``t_ub`` at the latest), at least cost."""
         c = np.zeros(self.n_vars)
         c[self.t_var] = 1.0
-        x = self._solve(c, [], math.inf)
+        x, ok = self._solve(c, [], t_ub, clock)
         if x is None:
-            return None
-        return self.solve(math.ceil(x[self.t_var] - 1e-6), "cost")
+            return None, ok
+        xs, ok2 = self.solve(math.ceil(x[self.t_var] - 1e-6), "cost", clock)
+        if xs is None:  # no time left for the cost stage: the plan of the first stage
+            return [round(v) for v in x[np.array(self.x_vars, dtype=np.int64)]] if self.q else [], False
+        return xs, ok and ok2
+
+
+class _Clock:
+    """The time budget of one recovery analysis (``time_limit`` seconds for every solve together)."""
+
+    def __init__(self, seconds: float):
+        self.deadline = time.monotonic() + seconds
+        self.reached = False
+
+    def left(self) -> float:
+        return self.deadline - time.monotonic()
+
+
+@contextlib.contextmanager
+def _quiet_stdout():
+    """Keep anything the solver writes to file descriptor 1 off standard output (HiGHS prints
+    debugging lines such as ``HighsMipSolverData::transformNewIntegerFeasibleSolution`` when a
+    time limit cuts a search); they are discarded."""
+    try:
+        sys.stdout.flush()
+        saved = os.dup(1)
+        sink = os.open(os.devnull, os.O_WRONLY)
+    except (OSError, ValueError, AttributeError):
+        yield
+        return
+    try:
+        os.dup2(sink, 1)
+        yield
+    finally:
+        try:
+            sys.stdout.flush()
+        except (OSError, ValueError):
+            pass
+        os.dup2(saved, 1)
+        os.close(saved)
+        os.close(sink)
 
 
 # --------------------------------------------------------------------------- plans
@@ -471,33 +784,41 @@ def apply_plan(snapshot: Snapshot, shortenings: Mapping[str, int]) -> Snapshot:
 
 
 class _Planner:
-    def __init__(self, snapshot: Snapshot, calendars: Mapping[str, Calendar], project: Project):
+    def __init__(self, snapshot: Snapshot, calendars: Mapping[str, Calendar], project: Project, time_limit: float):
         self.snapshot = snapshot
         self.calendars = calendars
         self.project = project
         self.current = schedule(snapshot, calendars, project)  # raises first on a bad network
-        self.program = _Program(snapshot, calendars, project)
-        self.default = self.program.default
+        self.program = _Program(snapshot, calendars, project, self.current.completion)
+        comp_act = snapshot.activities[self.current.completion_id]
+        self.comp_index = self.program.index_of(comp_act)
+        self.comp_calendar = comp_act.calendar or project.default_calendar
+        self.clock = _Clock(time_limit)
+        self.found: list[RecoveryPlan] = []  # every plan confirmed so far (fallbacks at the time limit)
 
     def workdays_before(self, earlier: date, later: date) -> int:
-        """Default-calendar working days recovered from ``later`` to ``earlier``."""
+        """Working days of the completion's calendar from ``earlier`` (included) to ``later`` (excluded).
+
+        ``later`` is the current completion, a working day of that calendar,
+        so this is the ``k`` of the last target ``back(k)`` that ``earlier`` meets.
+        """
         lo = self.program.lo
-        f = self.default.first_at
-        return f[day_number(later) + 1 - lo] - f[day_number(earlier) + 1 - lo]
+        f = self.comp_index.first_at
+        return f[day_number(later) - lo] - f[day_number(earlier) - lo]
 
     def back(self, days: int) -> date:
-        """The working day (default calendar) ``days`` working days before the current completion."""
+        """The working day (completion's calendar) ``days`` working days before the current completion."""
         lo = self.program.lo
-        k = self.default.first_at[day_number(self.current.completion) + 1 - lo] - 1 - days
+        k = self.comp_index.first_at[day_number(self.current.completion) - lo] - days
         k = max(k, 0)  # far before the data date: no plan can meet it, and the caller says so
-        return from_day_number(self.default.days[k])
+        return from_day_number(self.comp_index.days[k])
 
-    def confirm(self, xs: list[int]) -> tuple[dict[str, int], ScheduleResult]:
+    def confirm(self, xs: list[int]) -> ScheduleResult:
         plan = {c.act.id: x for c, x in zip(self.program.crashable, xs, strict=True) if x > 0}
-        snap = apply_plan(self.snapshot, plan)
-        return plan, schedule(snap, self.calendars, self.project)
+        return schedule(apply_plan(self.snapshot, plan), self.calendars, self.project)
 
-    def make_plan(self, target: date, xs: list[int], result: ScheduleResult, solves: int) -> RecoveryPlan:
+    def make_plan(self, target: date, xs: list[int], result: ScheduleResult, solves: int,
+                  proven: bool = True) -> RecoveryPlan:
         items = []
         for c, x in zip(self.program.crashable, xs, strict=True):
             if x > 0:
@@ -507,7 +828,7 @@ class _Planner:
                         c.remaining, c.remaining - x,
                     )
                 )
-        return RecoveryPlan(
+        plan = RecoveryPlan(
             target=target,
             completion=result.completion,
             working_days_recovered=self.workdays_before(result.completion, self.current.completion),
@@ -515,31 +836,60 @@ class _Planner:
             cost=float(sum(s.cost for s in items)),
             shortenings=tuple(items),
             solves=solves,
+            proven=proven,
         )
+        self.found.append(plan)
+        return plan
 
-    def plan_for(self, target: date, objective: str) -> RecoveryPlan | None:
-        """The plan confirmed by the engine to finish by ``target``; ``None`` when none is found."""
+    def nothing(self, target: date) -> RecoveryPlan:
+        return self.make_plan(target, [0] * self.program.q, self.current, 0)
+
+    def fallback(self, target: date) -> RecoveryPlan | None:
+        """The cheapest plan already confirmed that meets ``target`` (marked not proven), or ``None``."""
+        fits = [p for p in self.found if p.completion <= target]
+        if not fits:
+            xs = [c.limit for c in self.program.crashable]  # every shortening: a last resort
+            result = self.confirm(xs)
+            if result.completion > target:
+                return None
+            fits = [self.make_plan(target, xs, result, 0, proven=False)]
+        best = min(fits, key=lambda p: (p.cost, sum(s.days for s in p.shortenings)))
+        return replace(best, target=target, proven=False)
+
+    def plan_for(self, target: date, objective: str,
+                 cost_floor: float | None = None) -> tuple[RecoveryPlan | None, bool]:
+        """The least-cost plan whose engine completion meets ``target``.
+
+        Returns ``(plan, settled)``: ``plan`` is ``None`` when no plan meets
+        the target; ``settled`` is false when the time limit was reached
+        before that was decided (then ``plan`` is the best found, if any).
+        """
         if target >= self.current.completion:
-            return self.make_plan(target, [0] * self.program.q, self.current, 0)
+            return self.nothing(target), True
         t_ub = self.program.target_time(target)
         for solve_no in range(1, MAX_SOLVES + 1):
-            xs = self.program.solve(t_ub, objective)
+            xs, proven = self.program.solve(t_ub, objective, self.clock, cost_floor)
             if xs is None:
-                return None
-            _, result = self.confirm(xs)
+                if proven:
+                    return None, True
+                return self.fallback(target), False
+            result = self.confirm(xs)
             if result.completion <= target:
-                return self.make_plan(target, xs, result, solve_no)
-            t_ub -= max(1, self.workdays_before(target, result.completion))
-        return None
+                return self.make_plan(target, xs, result, solve_no, proven=proven and solve_no == 1), True
+            # The program is exact (module notes), so this is a safety net only: tighten and solve again.
+            t_ub = min(t_ub - 1, self.program.target_time(target) - (result.completion - target).days)
+        return self.fallback(target), False
 
-    def earliest(self) -> tuple[RecoveryPlan, date]:
-        xs = self.program.earliest()
-        if xs is None:  # unreachable for a schedulable network; kept for safety
-            return self.make_plan(self.current.completion, [0] * self.program.q, self.current, 1), self.current.completion
-        _, result = self.confirm(xs)
+    def earliest(self) -> tuple[RecoveryPlan, bool]:
+        """The plan that finishes soonest, at least cost; the flag is false when not proven (time limit)."""
+        xs, proven = self.program.earliest(self.program.target_time(self.current.completion), self.clock)
+        if xs is None:  # the time limit before any plan: every shortening, if that helps
+            xs = [c.limit for c in self.program.crashable]
+            proven = False
+        result = self.confirm(xs)
         if result.completion >= self.current.completion:
-            return self.make_plan(self.current.completion, [0] * self.program.q, self.current, 1), self.current.completion
-        return self.make_plan(result.completion, xs, result, 1), result.completion
+            return self.nothing(self.current.completion), proven
+        return self.make_plan(result.completion, xs, result, 1, proven=proven), proven
 
 
 def recover(
@@ -550,6 +900,7 @@ def recover(
     days: int | None = None,
     objective: str = "cost",
     curve: bool = True,
+    time_limit: float = DEFAULT_TIME_LIMIT,
 ) -> RecoveryResult:
     """Plan the cheapest acceleration of a snapshot to meet a target completion.
 
@@ -563,14 +914,20 @@ def recover(
         Completion wanted on or before this date.
     days : int, optional
         Days to recover instead of a date, in the project's ``delay_unit``
-        (calendar days, or working days of the default calendar) counted
-        back from the current completion. Give exactly one of the two.
+        (calendar days, or working days of the completion activity's
+        calendar) counted back from the current completion. Give exactly
+        one of the two.
     objective : {"cost", "count"}
         ``cost``: least total cost. ``count``: fewest activities shortened,
         then least cost.
     curve : bool
-        Also compute the time-cost curve (least cost for each working day
-        recovered, 1 to the most that can be recovered).
+        Also compute the time-cost curve (least cost for each working day of
+        the completion's calendar recovered, 1 to the most that can be
+        recovered).
+    time_limit : float
+        Seconds for all the solves of the analysis together. When it is
+        reached the best plan found is reported with ``proven`` false
+        ("not proven least-cost").
 
     Returns
     -------
@@ -580,15 +937,15 @@ def recover(
     ------
     RecoveryError
         When the target cannot be met by shortening remaining work within
-        its limits; the message and ``earliest`` give the earliest
-        achievable completion.
+        its limits (the message and ``earliest`` give the earliest
+        achievable completion), or an option is out of range.
     NotFoundError
         When the snapshot does not exist.
 
     References
     ----------
-    Kelley (1961) and Fulkerson (1961), the project time-cost trade-off; see
-    the module notes for the program and its confirmation by the engine.
+    Kelley and Walker (1959), Kelley (1961) and Fulkerson (1961), the project
+    time-cost trade-off; see the module notes for the program.
     """
     if objective not in OBJECTIVES:
         msg = f"objective {objective!r} is not one of {', '.join(OBJECTIVES)}"
@@ -596,41 +953,65 @@ def recover(
     if (target is None) == (days is None):
         msg = "give exactly one of a target date and a number of days to recover"
         raise ValueError(msg)
+    if not (isinstance(time_limit, (int, float)) and math.isfinite(time_limit) and 0 < time_limit <= MAX_TIME_LIMIT):
+        msg = f"the time limit must be a number of seconds above 0 and at most {MAX_TIME_LIMIT:g} (got {time_limit!r})"
+        raise RecoveryError(msg)
+    if days is not None and days < 1:
+        msg = f"days to recover must be at least 1 (got {days})"
+        raise RecoveryError(msg)
     snap = casefile.snapshot(snapshot_id)
-    planner = _Planner(snap, casefile.calendars, casefile.project)
+    planner = _Planner(snap, casefile.calendars, casefile.project, float(time_limit))
     current = planner.current
     if planner.program.completion_finished:
         msg = f"snapshot {snap.id}: the completion {current.completion_id} is already finished; nothing to recover"
         raise RecoveryError(msg, earliest=current.completion)
+    earliest_plan, earliest_proven = planner.earliest()
+    earliest = earliest_plan.completion
+    max_days = planner.workdays_before(earliest, current.completion)
+    unit = f"working days of the completion's calendar {planner.comp_calendar}"
+
+    def unreachable(what: str) -> RecoveryError:
+        return RecoveryError(
+            f"snapshot {snap.id}: {what} cannot be met by shortening the remaining work within its limits; "
+            f"the earliest achievable completion is {earliest.isoformat()} ({max_days} {unit} before the "
+            f"current {current.completion.isoformat()})",
+            earliest=earliest,
+        )
+
     if days is not None:
-        if days < 1:
-            msg = f"days to recover must be at least 1 (got {days})"
-            raise ValueError(msg)
+        span = (current.completion - snap.data_date).days
+        if days > span:  # before the data date (and beyond any date): nothing remaining can finish there
+            raise unreachable(f"{days} days back from {current.completion.isoformat()} (before the data date)")
         if casefile.project.delay_unit == "working-days":
             target = planner.back(days)
         else:
             target = current.completion - timedelta(days=days)
     assert target is not None
-    earliest_plan, earliest = planner.earliest()
-    max_days = planner.workdays_before(earliest, current.completion)
-    plan = None if target < earliest else planner.plan_for(target, objective)
+    if target < earliest and earliest_proven:
+        raise unreachable(f"the target {target.isoformat()}")
+    plan, _ = planner.plan_for(target, objective)
     if plan is None:
-        unit = "working days of the default calendar"
-        msg = (
-            f"snapshot {snap.id}: the target {target.isoformat()} cannot be met by shortening the "
-            f"remaining work within its limits; the earliest achievable completion is "
-            f"{earliest.isoformat()} ({max_days} {unit} before the current {current.completion.isoformat()})"
-        )
-        raise RecoveryError(msg, earliest=earliest)
-    points = []
+        raise unreachable(f"the target {target.isoformat()}")
+    points: list[CurvePoint] = []
     if curve:
+        floor = None
         for k in range(1, max_days + 1):
-            p = planner.plan_for(planner.back(k), "cost")
-            if p is None and k == max_days:
-                p = earliest_plan
-            if p is None:  # the engine could not confirm this day (calendar approximation)
-                continue
-            points.append(CurvePoint(k, p))
+            p, _ = planner.plan_for(planner.back(k), "cost", floor)
+            if p is not None and p.proven:
+                floor = p.cost
+            if p is not None:
+                points.append(CurvePoint(k, p))
+        # The curve never gets cheaper as days grow: a plan for more days meets every
+        # earlier point's target too (only a plan cut short by the time limit can need this).
+        for i in range(len(points) - 2, -1, -1):
+            later = points[i + 1].plan
+            if later.cost < points[i].plan.cost - 1e-9:
+                points[i] = CurvePoint(points[i].working_days, replace(later, target=points[i].plan.target, proven=False))
+    if objective == "cost" and not plan.proven:
+        better = planner.fallback(target)
+        if better is not None and better.cost < plan.cost - 1e-9:
+            plan = better
+    proven = earliest_proven and plan.proven and all(pt.plan.proven for pt in points)
     return RecoveryResult(
         snapshot_id=snap.id,
         data_date=snap.data_date,
@@ -642,6 +1023,9 @@ def recover(
         plan=plan,
         curve=tuple(points),
         warnings=tuple(planner.program.warnings),
+        working_days_calendar=planner.comp_calendar,
+        time_limit=float(time_limit),
+        proven=proven,
     )
 
 
@@ -704,6 +1088,7 @@ def _plan_json(plan: RecoveryPlan) -> dict[str, Any]:
             for s in plan.shortenings
         ],
         "solves": plan.solves,
+        "proven_least_cost": plan.proven,
     }
 
 
@@ -717,6 +1102,9 @@ def recovery_json(result: RecoveryResult) -> dict[str, Any]:
         "current_completion": result.current_completion,
         "earliest_completion": result.earliest_completion,
         "max_working_days": result.max_working_days,
+        "working_days_calendar": result.working_days_calendar,
+        "time_limit": result.time_limit,
+        "proven_least_cost": result.proven,
         "plan": _plan_json(result.plan),
         "curve": [{"working_days": pt.working_days, **_plan_json(pt.plan)} for pt in result.curve],
         "warnings": list(result.warnings),

@@ -10,7 +10,7 @@ from click.testing import CliRunner
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from forensic.calendars import DAY_NAMES, add_workdays
+from forensic.calendars import DAY_NAMES, add_workdays, workdays_between
 from forensic.cli import main
 from forensic.engine import schedule
 from forensic.errors import RecoveryError
@@ -90,6 +90,58 @@ def test_house_project_curve_starts_with_the_cheapest_critical_activity():
     assert {s.id: s.days for s in first.shortenings} == {"J": 1}
     assert first.cost == pytest.approx(30)
     assert r.curve[3].plan.cost == pytest.approx(140)
+
+
+def test_house_project_least_cost_curve():
+    """The textbook's marginal cost analysis, 44 to 40 weeks: J, J, F, F for 30, 60, 100, 140 (Hillier & Lieberman, from memory).
+
+    Worked by hand from the data above: the critical path A-B-C-E-F-J-L-N is 44
+    weeks, A-B-C-E-F-J-K-N 43, A-B-C-I-J-L-N 42. J (30 a week, on all three)
+    gives 43 then 42; then both the L and K paths are critical and F (40, on
+    both, not on the I path, which is at 40) gives 41 and 40.
+    """
+    r = recover(house(), "S", days=4)
+    assert [pt.plan.cost for pt in r.curve[:4]] == pytest.approx([30, 60, 100, 140])
+    assert [{s.id: s.days for s in pt.plan.shortenings} for pt in r.curve[:4]] == [
+        {"J": 1}, {"J": 2}, {"F": 1, "J": 2}, {"F": 2, "J": 2},
+    ]
+
+
+# Render, Stair and Hanna, Quantitative Analysis for Management, the General Foundry
+# project (from memory): normal/crash weeks and normal/crash costs; predecessors.
+FOUNDRY = dict(
+    A=(2, 1, 22000, 22750), B=(3, 1, 30000, 34000), C=(2, 1, 26000, 27000), D=(4, 3, 48000, 49000),
+    E=(4, 2, 56000, 58000), F=(3, 2, 30000, 30500), G=(5, 2, 80000, 86000), H=(2, 1, 16000, 19000),
+)
+FOUNDRY_PREDS = dict(C="A", D="B", E="C", F="C", G="DE", H="FG")
+
+
+def test_general_foundry_least_cost_curve():
+    """15 weeks down to 7: the whole least-cost curve (data from memory; curve worked by hand here).
+
+    Paths: P1 A-C-E-G-H 15 weeks, P2 B-D-G-H 14, P3 A-C-F-H 9. Per week: on P1
+    only A 750 (1), C 1000 (1), E 1000 (2); on P2 only D 1000 (1), B 2000 (2);
+    on both G 2000 (3), H 3000 (1). With g weeks off G/H, P1 needs 15 - w - g
+    from its own list and P2 14 - w - g from its own (w = weeks wanted off):
+    14: A 750. 13: A + G, or A + C + D: 2750. 12: A + C + D + G, or A + 2G: 4750.
+    11: 6750. 10: A + C + D + 3G: 8750. 9: 11750. 8: 14750. 7 (every P1 and P2
+    shortening, P3 then 6): 17750, the earliest; F is never needed.
+    The textbook's 14-week answer is A by one week for 750.
+    """
+    acts = [
+        Activity(k, f"foundry {k}", n, crash_days=n - c, crash_cost=(cc - nc) / (n - c))
+        for k, (n, c, nc, cc) in FOUNDRY.items()
+    ]
+    acts.append(Activity("END", "foundry complete", 0, kind="closing-milestone"))
+    links = [Link(p, s) for s, ps in FOUNDRY_PREDS.items() for p in ps]
+    links.append(Link("H", "END"))
+    cf = casefile(acts, links, completion="END")
+    r = recover(cf, "S", days=1)
+    assert (r.current_completion - MONDAY).days + 1 == 15
+    assert (r.earliest_completion - MONDAY).days + 1 == 7
+    assert [pt.plan.cost for pt in r.curve] == pytest.approx([750, 2750, 4750, 6750, 8750, 11750, 14750, 17750])
+    assert {s.id: s.days for s in r.plan.shortenings} == {"A": 1}
+    assert all("F" not in {s.id for s in pt.plan.shortenings} for pt in r.curve)
 
 
 def test_target_beyond_the_most_recoverable_names_the_earliest_completion():
@@ -325,7 +377,7 @@ def test_plans_stay_within_limits_and_cost_rises_with_the_days(cf, objective):
 @settings(max_examples=30, deadline=None)
 @given(crash_networks(progress=False), st.lists(st.sampled_from(["7d", "5d"]), min_size=7, max_size=7))
 def test_mixed_calendars_plans_are_confirmed_by_the_engine(cf, cals):
-    """Across calendars the program is approximate, but every plan reported meets its target in the engine."""
+    """Across calendars every plan reported meets its target in the engine, with the completion it reports."""
     snap = cf.snapshots[0]
     acts = [replace(a, calendar=cals[k % 7]) for k, a in enumerate(snap.activities.values())]
     cf = casefile(acts, snap.links, cal="5d", completion=cf.project.completion)
@@ -353,7 +405,9 @@ def test_tables_and_json_carry_the_plan_and_the_curve():
     assert set(doc) == {
         "snapshot", "data_date", "objective", "completion_activity", "current_completion",
         "earliest_completion", "max_working_days", "plan", "curve", "warnings",
+        "working_days_calendar", "time_limit", "proven_least_cost",
     }
+    assert doc["proven_least_cost"] is True and doc["plan"]["proven_least_cost"] is True
 
 
 def test_cli_recover_prints_json(monkeypatch):
@@ -385,13 +439,242 @@ def test_cli_recover_help_has_an_example():
     assert res.exit_code == 0 and "Example: forensic recover" in res.output
 
 
-def test_other_calendar_miss_is_tightened_until_the_engine_confirms():
-    """A 7-day task in a 5-day project: the scaled program misses by a day, is tightened, and re-solved (worked out here)."""
-    acts = [Activity("A", "", 14, calendar="7d", crash_days=7, crash_cost=1)]  # Mon 5 Jan to Sun 18 Jan
+def test_days_recovered_count_on_the_completion_calendar():
+    """A 7-day task in a 5-day project: working days back are days of the completion's calendar (issue 14, item 4).
+
+    Worked by hand: A runs Mon 5 Jan to Sun 18 Jan on its 7-day calendar and is
+    the completion (none is named). One working day back on that calendar is
+    Sat 17 Jan, met by shortening A by one day; the exact program needs one
+    solve. (The old scaled program counted on the 5-day default, Sun 18 as Fri 16,
+    and asked for Thu 15: three days off A.)
+    """
+    acts = [Activity("A", "", 14, calendar="7d", crash_days=7, crash_cost=1)]
     cf = casefile(acts, [], cal="5d", delay_unit="working-days")
     r = recover(cf, "S", days=1, curve=False)
-    # On the 5-day default a Sunday finish counts as Friday 16, so one working day back is Thursday 15: 3 days off A.
-    assert r.plan.target == date(2026, 1, 15)
-    assert [(s.id, s.days) for s in r.plan.shortenings] == [("A", 3)]
-    assert r.plan.completion == date(2026, 1, 15)
-    assert r.plan.solves == 2
+    assert r.working_days_calendar == "7d"
+    assert r.plan.target == date(2026, 1, 17)
+    assert [(s.id, s.days) for s in r.plan.shortenings] == [("A", 1)]
+    assert r.plan.completion == date(2026, 1, 17)
+    assert r.plan.solves == 1 and r.plan.proven
+    assert recovery_json(r)["working_days_calendar"] == "7d"
+
+
+# --------------------------------------------------------------------------- several calendars, exact (issue 14)
+
+# Three calendars with different work weeks, holidays and an extra working day, so that
+# links between them pass weekends and holidays at different places (invented, common practice).
+MULTI = {
+    "7d": Calendar("7d", DAY_NAMES, holidays=(date(2026, 1, 10),)),
+    "5d": Calendar("5d", DAY_NAMES[:5], holidays=(date(2026, 1, 7), date(2026, 1, 15))),
+    "4d": Calendar("4d", DAY_NAMES[:4], holidays=(date(2026, 1, 13),), extra_workdays=(date(2026, 1, 9),)),
+}
+
+
+@st.composite
+def multi_calendar_networks(draw):
+    """4-6 crashable activities on 2-3 calendars, all link types with lags, progress, optional constraint."""
+    n = draw(st.integers(4, 7))
+    n_crash = draw(st.integers(4, min(6, n)))
+    cal_ids = draw(st.lists(st.sampled_from(sorted(MULTI)), min_size=2, max_size=3, unique=True))
+    durations = draw(st.lists(st.integers(2, 6), min_size=n, max_size=n))
+    crash = draw(st.lists(st.sampled_from([1, 2]), min_size=n, max_size=n))
+    costs = draw(st.lists(st.integers(0, 30), min_size=n, max_size=n))
+    cals = draw(st.lists(st.sampled_from(cal_ids), min_size=n, max_size=n))
+    edges = draw(
+        st.sets(
+            st.tuples(st.integers(0, n - 1), st.integers(0, n - 1), st.sampled_from(["FS", "FS", "SS", "FF", "SF"]),
+                      st.integers(-1, 3)).filter(lambda e: e[0] < e[1]),
+            min_size=n - 1, max_size=2 * n,
+        )
+    )
+    state = draw(st.sampled_from(["none", "finished", "in-progress"]))
+    constrained = draw(st.sampled_from([None, "start-from", "finish-from"]))
+    crashable = set(range(n - n_crash, n))
+    acts = []
+    for i in range(n):
+        kw = {}
+        if i in crashable:
+            kw = dict(crash_days=crash[i], crash_cost=costs[i])
+        if i == 0 and state == "finished":
+            kw.update(actual_start=MONDAY - timedelta(days=20), actual_finish=MONDAY - timedelta(days=18))
+        elif i == 0 and state == "in-progress":
+            kw.update(actual_start=MONDAY - timedelta(days=3), remaining=durations[i])
+        if i == n - 1 and constrained:
+            kw.update(constraint=constrained, constraint_date=MONDAY + timedelta(days=draw(st.integers(0, 12))))
+        acts.append(Activity(f"A{i}", "", durations[i] + (3 if state == "in-progress" and i == 0 else 0),
+                             calendar=cals[i], **kw))
+    links, seen = [], set()
+    for p, s, typ, lag in sorted(edges):
+        if (p, s) not in seen:
+            seen.add((p, s))
+            links.append(Link(f"A{p}", f"A{s}", typ, lag))
+    named = draw(st.booleans())
+    if named:
+        acts.append(Activity("END", "", 0, kind="closing-milestone", calendar=draw(st.sampled_from(cal_ids))))
+        links += [Link(f"A{i}", "END") for i in range(n)]
+    snap = Snapshot("S", MONDAY, frozen_mapping({a.id: a for a in acts}), tuple(links), role="baseline")
+    project = Project("t", draw(st.sampled_from(cal_ids)), completion="END" if named else None,
+                      progress_logic=draw(st.sampled_from(["retained", "override"])),
+                      delay_unit=draw(st.sampled_from(["calendar-days", "working-days"])))
+    return Casefile(project, frozen_mapping(MULTI), frozen_mapping(), (snap,))
+
+
+def _completion_calendar(cf, result):
+    a = cf.snapshots[0].activities[result.completion_id]
+    return cf.calendars[a.calendar or cf.project.default_calendar]
+
+
+@settings(max_examples=40, deadline=None)
+@given(multi_calendar_networks(), st.integers(0, 40))
+def test_several_calendars_least_cost_equals_brute_force(cf, pick):
+    """On 2-3 calendars every curve point and plan is the cheapest whose engine completion meets its target.
+
+    The reference is brute force: every combination of whole-day shortenings
+    rescheduled by the engine (Kelley and Walker 1959 define the least-cost
+    schedule for each completion time; the engine is the judge of time).
+    The curve's targets are working days of the completion activity's calendar.
+    """
+    plans = brute_force(cf)
+    current = schedule(cf.snapshots[0], cf.calendars, cf.project)
+    earliest = min(done for done, _ in plans.values())
+    if earliest >= current.completion:
+        with pytest.raises(RecoveryError):
+            recover(cf, "S", target=current.completion - timedelta(days=1))
+        return
+    r = recover(cf, "S", target=earliest)
+    assert r.proven and r.plan.proven
+    assert r.earliest_completion == earliest
+    comp_cal = _completion_calendar(cf, r)
+    assert r.working_days_calendar == comp_cal.id
+    # The most that can be recovered: working days of that calendar from the earliest to the current completion.
+    assert r.max_working_days == workdays_between(comp_cal, earliest, current.completion)
+    assert r.max_working_days == len(r.curve)
+    costs = []
+    for pt in r.curve:
+        target = add_workdays(comp_cal, current.completion, -pt.working_days)
+        assert pt.plan.target == target
+        cheapest = min(cost for done, cost in plans.values() if done <= target)
+        assert pt.plan.cost == pytest.approx(cheapest)
+        key = tuple(sorted((s.id, s.days) for s in pt.plan.shortenings))
+        assert plans[key][0] == pt.plan.completion <= target  # the engine's completion, meeting the target
+        costs.append(pt.plan.cost)
+    assert costs == sorted(costs)  # never cheaper as the days grow
+    # Any target date between the earliest and the current completion, working day or not.
+    span = (current.completion - earliest).days
+    target = earliest + timedelta(days=pick % (span + 1))
+    one = recover(cf, "S", target=target, curve=False)
+    assert one.plan.cost == pytest.approx(min(cost for done, cost in plans.values() if done <= target))
+    assert one.plan.completion <= target
+
+
+def test_several_calendars_hand_worked_across_a_holiday():
+    """A 5-day task feeding a 7-day task across a holiday: either shortening buys the same day (worked by hand).
+
+    A (5-day week, 5 days) runs Mon 5 to Fri 9 Jan; B (7-day week with Sat 10 a
+    holiday, 3 days, FS) starts on the first of its working days on or after
+    Sat 10, Sun 11, and runs Sun 11 to Tue 13. Shortening B by one day (cost 10)
+    gives Mon 12; shortening A by one day (cost 4) lets B start Fri 9 and run
+    Fri 9, Sun 11, Mon 12: also Mon 12. Both: Sun 11. So one working day back
+    (Mon 12 on B's calendar, the completion's) costs 4, two (Sun 11) cost 14,
+    and the earliest is Sun 11.
+    """
+    seven = Calendar("7h", DAY_NAMES, holidays=(date(2026, 1, 10),))
+    acts = [
+        Activity("A", "", 5, calendar="5d", crash_days=1, crash_cost=4),
+        Activity("B", "", 3, calendar="7h", crash_days=1, crash_cost=10),
+    ]
+    snap = Snapshot("S", MONDAY, frozen_mapping({a.id: a for a in acts}), (Link("A", "B"),), role="baseline")
+    cals = frozen_mapping({"5d": FIVE, "7h": seven})
+    cf = Casefile(Project("t", "5d", delay_unit="working-days"), cals, frozen_mapping(), (snap,))
+    r = recover(cf, "S", days=1)
+    assert r.current_completion == date(2026, 1, 13)
+    assert r.working_days_calendar == "7h"
+    assert [(pt.working_days, pt.plan.completion, pt.plan.cost) for pt in r.curve] == [
+        (1, date(2026, 1, 12), 4), (2, date(2026, 1, 11), 14),
+    ]
+    assert r.earliest_completion == date(2026, 1, 11)
+    assert [(s.id, s.days) for s in r.plan.shortenings] == [("A", 1)]
+
+
+# --------------------------------------------------------------------------- time limit and hostile options (issue 22)
+
+def test_time_limit_reached_reports_the_best_plan_found_not_proven(monkeypatch):
+    """A time limit too short for any solve: the best plan found (here every shortening) is shown, not proven.
+
+    Every plan is still the engine's: it meets the target, only its cost is not proven least.
+    """
+    monkeypatch.setattr("forensic.cli.recover.load", lambda path: house())
+    runner = CliRunner()
+    res = runner.invoke(main, ["recover", "case", "--snapshot", "S", "--days", "4", "--time-limit", "1e-9"])
+    assert res.exit_code == 0, res.output
+    assert "Not proven least-cost" in res.output and "time limit of 1e-09 s" in res.output
+    res = runner.invoke(main, ["recover", "case", "--snapshot", "S", "--days", "4", "--time-limit", "1e-9", "--json"])
+    doc = json.loads(res.output)
+    assert doc["proven_least_cost"] is False and doc["plan"]["proven_least_cost"] is False
+    assert doc["time_limit"] == 1e-9
+    assert doc["plan"]["completion"] <= doc["plan"]["target"]
+    costs = [pt["cost"] for pt in doc["curve"]]
+    assert costs == sorted(costs)  # still never cheaper as the days grow
+    proven = json.loads(runner.invoke(main, ["recover", "case", "--snapshot", "S", "--days", "4", "--json"]).output)
+    assert proven["proven_least_cost"] is True and proven["time_limit"] == 60.0  # the documented default
+    assert doc["plan"]["cost"] >= proven["plan"]["cost"]
+
+
+@pytest.mark.parametrize(
+    "args, code, words",
+    [
+        (["--days", "1e9"], 2, "Invalid value for '--days'"),
+        (["--days", "-3"], 2, "Invalid value for '--days'"),
+        (["--days", "abc"], 2, "Invalid value for '--days'"),
+        (["--days", "1000000000"], 1, "before the data date"),
+        (["--days", "9" * 40], 1, "before the data date"),
+        (["--target", "0001-01-01"], 1, "earliest achievable completion"),
+        (["--target", "2026-13-40"], 2, "Invalid value for '--target'"),
+        (["--days", "2", "--time-limit", "nan"], 1, "time limit must be a number of seconds"),
+        (["--days", "2", "--time-limit", "inf"], 1, "time limit must be a number of seconds"),
+        (["--days", "2", "--time-limit", "1e400"], 1, "time limit must be a number of seconds"),
+        (["--days", "2", "--time-limit", "0"], 1, "time limit must be a number of seconds"),
+        (["--days", "2", "--time-limit", "-5"], 1, "time limit must be a number of seconds"),
+        (["--days", "2", "--time-limit", "soon"], 2, "Invalid value for '--time-limit'"),
+    ],
+)
+def test_hostile_option_values_are_named_refusals(monkeypatch, args, code, words):
+    """Hostile values give `Error:` naming the option or the reason, exit 1 (or 2 for click's usage errors), no traceback."""
+    monkeypatch.setattr("forensic.cli.recover.load", lambda path: house())
+    res = CliRunner().invoke(main, ["recover", "case", "--snapshot", "S", *args])
+    assert res.exit_code == code, res.output
+    assert "Error: " in res.output and words in res.output
+    assert "internal error" not in res.output and "Traceback" not in res.output
+    assert not isinstance(res.exception, Exception) or isinstance(res.exception, SystemExit)
+
+
+def test_recover_stdout_holds_only_the_json_even_when_the_limit_cuts_a_solve():
+    """Through a real process: stdout is the JSON alone (solver output kept off it), whatever the limit cuts."""
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    root = Path(__file__).resolve().parents[1]
+    out = subprocess.run(
+        [sys.executable, "-m", "forensic", "recover", str(root / "casefiles" / "riverside"), "--snapshot", "U10",
+         "--days", "20", "--time-limit", "0.4", "--json"],
+        capture_output=True, text=True, cwd=root, env={"PYTHONPATH": str(root), "PATH": "/usr/bin:/bin"}, timeout=120,
+    )
+    assert out.returncode == 0, out.stderr
+    doc = json.loads(out.stdout)
+    assert isinstance(doc["proven_least_cost"], bool)
+    assert doc["plan"]["completion"] <= doc["plan"]["target"]
+
+
+def test_library_refuses_hostile_days_and_limits_for_report_and_export():
+    """`report`/`export --recover-days` call recover() with the default limit: huge days or bad limits are RecoveryError."""
+    import inspect
+
+    from forensic.recovery import DEFAULT_TIME_LIMIT
+
+    assert inspect.signature(recover).parameters["time_limit"].default == DEFAULT_TIME_LIMIT == 60.0
+    with pytest.raises(RecoveryError, match="before the data date"):
+        recover(house(), "S", days=10**30)
+    for bad in (float("nan"), float("inf"), 0.0, -1.0, 10.0**9):
+        with pytest.raises(RecoveryError, match="time limit"):
+            recover(house(), "S", days=1, time_limit=bad)

@@ -86,7 +86,15 @@ class _Group(click.Group):
             os.dup2(devnull, sys.stdout.fileno())
             ctx.exit(1)
         except KeyboardInterrupt:
+            # The interrupt has unwound through every write (each removes its temporary
+            # file on the way out). Leave at once with 130: a clean interpreter shutdown
+            # after an interrupt during a lazy import was seen to die of SIGINT (-2).
             click.echo("Interrupted; nothing was written.", err=True)
+            if any(getattr(sys.modules.get(m), "PROGRAM", False) for m in ("forensic.__main__", "__main__")):
+                # the real program only (the script, or python -m forensic), never a caller's process
+                sys.stdout.flush()
+                sys.stderr.flush()
+                os._exit(130)
             ctx.exit(130)
         except Exception as exc:  # a bug: say so plainly, keep the traceback for developers
             if os.environ.get("FORENSIC_DEBUG"):

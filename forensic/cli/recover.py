@@ -7,7 +7,14 @@ from pathlib import Path
 
 import click
 
-from ..recovery import OBJECTIVES, recover, recovery_curve_table, recovery_json, recovery_plan_table
+from ..recovery import (
+    DEFAULT_TIME_LIMIT,
+    OBJECTIVES,
+    recover,
+    recovery_curve_table,
+    recovery_json,
+    recovery_plan_table,
+)
 from ..tables import to_csv, to_text
 from ._base import main
 from ._common import casefile_argument, emit, emit_json, emit_xlsx, format_options, load
@@ -19,20 +26,28 @@ from ._common import casefile_argument, emit, emit_json, emit_xlsx, format_optio
 @click.option("--target", type=click.DateTime(formats=["%Y-%m-%d"]), metavar="DATE",
               help="Completion wanted on or before this date (YYYY-MM-DD).")
 @click.option("--days", type=click.IntRange(min=1), metavar="N",
-              help="Days to recover, in the project's delay unit, back from the current completion.")
+              help="Days to recover, in the project's delay unit (working days: of the completion's "
+                   "calendar), back from the current completion.")
 @click.option("--objective", type=click.Choice(OBJECTIVES), default="cost", show_default=True,
               help="cost: least total cost; count: fewest activities shortened, then least cost.")
+@click.option("--time-limit", "time_limit", type=float, default=DEFAULT_TIME_LIMIT, show_default=True,
+              metavar="SECONDS",
+              help="Seconds for the optimiser in all; when reached, the best plan found is shown as "
+                   "not proven least-cost.")
 @format_options
 def recover_command(
-    casefile: Path, snapshot_id: str, target, days: int | None, objective: str, as_json: bool, as_csv: bool
+    casefile: Path, snapshot_id: str, target, days: int | None, objective: str, time_limit: float,
+    as_json: bool, as_csv: bool,
 ) -> None:
     """Plan the cheapest way to win back days on a snapshot of CASEFILE.
 
     Shortens remaining activities by whole working days within their
-    crash_days, at crash_cost per day (the time-cost trade-off of Kelley 1961
-    and Fulkerson 1961, solved exactly as a mixed-integer program), and
-    confirms every plan by rescheduling with the engine. Prints the plan, the
-    new completion, the cost and the time-cost curve. Give --target or --days.
+    crash_days, at crash_cost per day (the time-cost trade-off of Kelley and
+    Walker 1959, Kelley 1961 and Fulkerson 1961, solved exactly as a
+    mixed-integer program in the engine's own time, every calendar included),
+    and reschedules every plan with the engine. Prints the plan, the new
+    completion, the cost and the time-cost curve (steps in working days of the
+    completion's calendar). Give --target or --days. See docs/recovery.md.
 
     Example: forensic recover casefiles/riverside --snapshot U03 --days 10 --objective count
 
@@ -41,7 +56,7 @@ def recover_command(
         raise click.UsageError("give one of --target DATE and --days N")
     cf = load(casefile)
     wanted: date | None = target.date() if target is not None else None
-    result = recover(cf, snapshot_id, target=wanted, days=days, objective=objective)
+    result = recover(cf, snapshot_id, target=wanted, days=days, objective=objective, time_limit=time_limit)
     emit_xlsx([recovery_plan_table(result), recovery_curve_table(result)], cf)
     if as_json:
         emit_json(recovery_json(result))
@@ -53,21 +68,27 @@ def recover_command(
     click.echo(f"{cf.project.name}: snapshot {result.snapshot_id}, data date {result.data_date.isoformat()}")
     click.echo(f"Current completion ({result.completion_id}): {result.current_completion.isoformat()}")
     click.echo(f"Target: {plan.target.isoformat()}; objective: {result.objective}")
+    cal = result.working_days_calendar
     click.echo(
         f"New completion (rescheduled): {plan.completion.isoformat()}, {plan.working_days_recovered} working "
-        f"days ({plan.calendar_days_recovered} calendar days) recovered, cost {plan.cost:g}, "
+        f"days of calendar {cal} ({plan.calendar_days_recovered} calendar days) recovered, cost {plan.cost:g}, "
         f"{len(plan.shortenings)} activities shortened"
     )
     click.echo(
         f"Earliest achievable completion: {result.earliest_completion.isoformat()} "
-        f"({result.max_working_days} working days of the default calendar)\n"
+        f"({result.max_working_days} working days of the completion's calendar {cal})\n"
     )
+    if not result.proven:
+        click.echo(
+            f"Not proven least-cost: the time limit of {result.time_limit:g} s was reached; the best plans "
+            "found are shown (raise --time-limit to prove them).\n"
+        )
     if plan.shortenings:
         emit(to_text(recovery_plan_table(result)))
     else:
         click.echo("The current schedule already meets the target; nothing is shortened.")
     if result.curve:
-        click.echo("\nTime-cost curve (least cost per working day recovered):")
+        click.echo(f"\nTime-cost curve (least cost per working day of calendar {cal} recovered):")
         emit(to_text(recovery_curve_table(result)))
     for w in result.warnings:
         click.echo(f"warning: {w}", err=True)
