@@ -62,7 +62,7 @@ def test_killed_writer_leaves_the_old_output_intact(tmp_path):
     target.write_text("old result\n", encoding="utf-8")
     proc = _start("from forensic.outputs import atomic_write\n"
                   "atomic_write('result.json', b'x' * 4_000_000)\n", tmp_path)
-    parts = list(tmp_path.glob(".result.json.*.part"))
+    parts = list(tmp_path.glob(".forensic-*.part"))
     assert len(parts) == 1 and 0 < parts[0].stat().st_size < 4_000_000  # caught mid-write
     proc.send_signal(signal.SIGKILL)
     proc.wait(timeout=30)
@@ -103,7 +103,8 @@ def test_out_refuses_every_casefile_file(tmp_path, rel):
     before = (root / rel).read_bytes()
     result = CliRunner().invoke(main, ["check", str(root), "--csv", "--out", str(root / rel)])
     assert result.exit_code == 1
-    assert "refusing to write over a casefile input" in result.output
+    assert result.output.startswith("Error: ")
+    assert f"nothing is written inside a casefile folder ({root})" in result.output
     assert (root / rel).read_bytes() == before
 
 
