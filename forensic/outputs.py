@@ -72,7 +72,8 @@ def _refuse_inside(target: Path, real: Path, protected: Iterable[Path]) -> None:
     what = ("over a casefile input" if is_input
             else "over a file of a casefile" if os.path.lexists(real) else "inside a casefile folder")
     where = f" ({folder})" if folder is not None else ""
-    msg = (f"{target}: refusing to write {what}: nothing is written inside a casefile folder{where}; "
+    shown = f"{target} (leads to {real})" if Path(os.path.abspath(target)) != real else f"{target}"
+    msg = (f"{shown}: refusing to write {what}: nothing is written inside a casefile folder{where}; "
            "choose an output path outside it")
     raise OutputError(msg)
 
