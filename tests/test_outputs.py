@@ -430,3 +430,19 @@ def test_any_out_target_is_written_outside_the_casefile_or_not_at_all(tmp_path_f
         changed = {k for k in set(before) | set(after) if before.get(k) != after.get(k)}
         assert changed == {real.relative_to(tmp).as_posix()}
         assert real.read_text(encoding="utf-8").startswith("{")
+
+
+def test_batch_reports_that_cannot_be_written_leave_no_folder(tmp_path, monkeypatch):
+    """A full disk while writing a batch report: 'Error: cannot write ...', and no report folder, no temporary."""
+    write_casefile(tmp_path / "port")
+
+    def full(*_args):
+        raise OSError(errno.ENOSPC, os.strerror(errno.ENOSPC))
+
+    monkeypatch.setattr(os, "replace", full)
+    result = CliRunner().invoke(main, ["batch", str(tmp_path / "port"), "--jobs", "1", "--report",
+                                       str(tmp_path / "reports")])
+    assert result.exit_code == 1
+    assert "Error: cannot write" in result.output and "No space left on device" in result.output
+    assert "no report was written" in result.output and "Traceback" not in result.output
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["port"]
