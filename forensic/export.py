@@ -33,9 +33,9 @@ from datetime import date, datetime
 from pathlib import Path
 from typing import Any
 
-from .errors import ForensicError, OutputError
+from .errors import ForensicError
 from .model import Activity, Casefile
-from .outputs import atomic_write
+from .outputs import check_folder, staged_folder, write_new_file
 from .tables import Table, dumps_json, neutralise, schedule_table, to_csv
 from .writer import ACTIVITY_COLUMNS, EVENT_COLUMNS, LINK_COLUMNS
 
@@ -43,6 +43,8 @@ __all__ = [
     "FIXED_TIMESTAMP",
     "Export",
     "casefile_tables",
+    "check_csv_dir",
+    "csv_file_names",
     "input_tables",
     "sheet_names",
     "tables_json",
@@ -201,22 +203,61 @@ def casefile_tables(
 # --- writers -----------------------------------------------------------------
 
 
+_STEM_MAX = 200  # bytes: with "~NNN.csv" well under the usual 255-byte name limit (POSIX NAME_MAX; common practice)
+
+
 def _file_stem(name: str) -> str:
-    return re.sub(r"[^A-Za-z0-9._-]", "_", name) or "table"
+    return re.sub(r"[^A-Za-z0-9._-]", "_", name)[:_STEM_MAX] or "table"
+
+
+def csv_file_names(tables: Sequence[Table]) -> list[str]:
+    """A unique ``<stem>.csv`` file name for each table, in order.
+
+    The stem keeps ASCII letters, digits, ``.``, ``_`` and ``-`` of the
+    table name and turns anything else into ``_`` (so ``activities-Ä1`` and
+    ``activities-Ü1`` both give ``activities-_1``). Names are unique
+    regardless of case (as on case-insensitive file systems): a later table
+    whose name is taken gets ``~2``, ``~3``... like the workbook's sheet
+    names, in table order, so the same tables always get the same names.
+    """
+    names: list[str] = []
+    seen: set[str] = set()
+    for t in tables:
+        stem = _file_stem(t.name)
+        candidate, n = stem, 1
+        while candidate.casefold() in seen:
+            n += 1
+            candidate = f"{stem}~{n}"
+        seen.add(candidate.casefold())
+        names.append(f"{candidate}.csv")
+    return names
+
+
+def _only_csv_files(entries) -> bool:
+    """An earlier CSV export: nothing but regular ``.csv`` files (no folders, links or other files)."""
+    return all(e.name.endswith(".csv") and e.is_file(follow_symlinks=False) for e in entries)
+
+
+def check_csv_dir(folder: str | Path, protected: Sequence[Path] = ()) -> Path:
+    """Decide, before anything is written, whether the CSV folder may be written (see :func:`write_csv_dir`)."""
+    return check_folder(folder, replaceable=_only_csv_files, protected=protected, what="CSV files")
 
 
 def write_csv_dir(tables: Sequence[Table], folder: str | Path, protected: Sequence[Path] = ()) -> list[Path]:
-    """Write each table to ``<folder>/<name>.csv`` (folder created); return the paths.
+    """Write each table to ``<folder>/<name>.csv``, the folder whole or not at all; return the paths.
 
-    Each file is written atomically; ``protected`` files (a casefile's
-    inputs) are never overwritten.
+    The folder is new, empty, or holds only the ``.csv`` files of an earlier
+    export (it is then replaced whole); never inside a casefile folder. The
+    files are built in a hidden temporary folder beside it and renamed into
+    place at once (:func:`forensic.outputs.staged_folder`); file names come
+    from :func:`csv_file_names`, so each table gets its own file.
     """
     root = Path(folder)
-    if root.exists() and not root.is_dir():
-        msg = f"{root}: exists and is not a folder; give a folder for the CSV files"
-        raise OutputError(msg)
-    root.mkdir(parents=True, exist_ok=True)
-    return [atomic_write(root / f"{_file_stem(t.name)}.csv", to_csv(t), protected) for t in tables]
+    names = csv_file_names(tables)
+    with staged_folder(root, replaceable=_only_csv_files, protected=protected, what="CSV files") as tmp:
+        for name, t in zip(names, tables, strict=True):
+            write_new_file(tmp / name, to_csv(t))
+    return [root / name for name in names]
 
 
 def tables_json(tables: Sequence[Table]) -> str:

@@ -31,8 +31,6 @@ every change made to bring them into the analysis is recorded).
 from __future__ import annotations
 
 import os
-import shutil
-import tempfile
 from dataclasses import dataclass, replace
 from pathlib import Path
 
@@ -45,6 +43,7 @@ from ._sources import close_books, read_source
 from .casefile import Limits, load_casefile
 from .errors import CasefileError, ImportMappingError, LimitExceeded, OutputError
 from .model import Casefile, Fragnet, Snapshot, frozen_mapping
+from .outputs import check_folder, staged_folder
 from .validation import ValidationResult, validate_casefile
 from .writer import write_casefile
 
@@ -226,16 +225,12 @@ def import_casefile(mapping: str | os.PathLike[str], out: str | os.PathLike[str]
     if target.exists() and (not target.is_dir() or any(target.iterdir())):
         msg = f"{target}: already exists and is not an empty folder; give a new folder for the casefile"
         raise OutputError(msg)
-    parent = target.parent if str(target.parent) else Path(".")
-    if not parent.is_dir():
-        msg = f"{target}: the folder {parent} does not exist"
-        raise OutputError(msg)
+    check_folder(target, what="casefile")  # outside any casefile folder, parent exists (docs/robustness.md)
     limits = limits or Limits()
     m_path = Path(mapping)
     cf, notes, (origins, columns) = _read(m_path, limits)
     back = _Origins(origins, m_path.name, columns)
-    tmp = Path(tempfile.mkdtemp(prefix=f".{target.name}.", suffix=".part", dir=parent))
-    try:
+    with staged_folder(target, what="casefile") as tmp:
         write_casefile(cf, tmp)
         try:
             loaded = load_casefile(tmp, limits=limits)
@@ -243,11 +238,5 @@ def import_casefile(mapping: str | os.PathLike[str], out: str | os.PathLike[str]
             raise ImportMappingError([back.problem(p) for p in exc.problems]) from None
         validation = validate_casefile(loaded)
         validation = replace(validation, warnings=tuple(back.warning(w) for w in validation.warnings))
-        if target.exists():
-            target.rmdir()
-        os.replace(tmp, target)
-    except BaseException:
-        shutil.rmtree(tmp, ignore_errors=True)
-        raise
     final = load_casefile(target, limits=limits)
     return ImportReport(target, final, validation, notes, validation.warnings)

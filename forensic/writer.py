@@ -9,16 +9,12 @@ from __future__ import annotations
 
 import csv
 import io
-import os
-import shutil
-import tempfile
 from collections.abc import Iterable, Mapping
 from datetime import date
 from pathlib import Path
 
-from .errors import OutputError
 from .model import Activity, Casefile, Event, Link
-from .outputs import atomic_write
+from .outputs import check_folder, replace_file, staged_folder
 
 __all__ = ["ACTIVITY_COLUMNS", "EVENT_COLUMNS", "LINK_COLUMNS", "check_new_folder", "write_casefile", "write_new_casefile"]
 
@@ -172,44 +168,47 @@ def manifest_toml(cf: Casefile, *, events_file: str | None) -> str:
     return "\n".join(parts)
 
 
+def _put(path: Path, text: str) -> None:
+    replace_file(path, text.encode("utf-8"))
+
+
 def write_casefile(cf: Casefile, folder: str | Path) -> Path:
     """Write ``cf`` as a casefile folder (created if needed); return the folder.
 
     Layout: ``casefile.toml``, ``snapshots/<id>/activities.csv`` and
     ``links.csv``, ``events.csv`` when there are events, and
-    ``fragnets/<id>/`` for each fragnet.
+    ``fragnets/<id>/`` for each fragnet. Each file is replaced atomically;
+    this library function applies no output policy (the commands use
+    :func:`write_new_casefile`, which does). Folders and files follow the
+    umask.
     """
     root = Path(folder)
     root.mkdir(parents=True, exist_ok=True)
     for snap in cf.snapshots:
         d = root / "snapshots" / snap.id
         d.mkdir(parents=True, exist_ok=True)
-        atomic_write(d / "activities.csv", activities_csv(snap.activities.values()))
-        atomic_write(d / "links.csv", links_csv(snap.links))
+        _put(d / "activities.csv", activities_csv(snap.activities.values()))
+        _put(d / "links.csv", links_csv(snap.links))
     for frag in cf.fragnets.values():
         d = root / "fragnets" / frag.id
         d.mkdir(parents=True, exist_ok=True)
-        atomic_write(d / "activities.csv", activities_csv(frag.activities.values()))
-        atomic_write(d / "links.csv", links_csv(frag.links))
+        _put(d / "activities.csv", activities_csv(frag.activities.values()))
+        _put(d / "links.csv", links_csv(frag.links))
     events_file = None
     if cf.events:
         events_file = "events.csv"
-        atomic_write(root / events_file, events_csv(cf.events))
-    atomic_write(root / "casefile.toml", manifest_toml(cf, events_file=events_file))
+        _put(root / events_file, events_csv(cf.events))
+    _put(root / "casefile.toml", manifest_toml(cf, events_file=events_file))
     return root
 
 
 def check_new_folder(folder: str | Path) -> Path:
-    """Raise ``OutputError`` unless ``folder`` is new or empty and its parent exists."""
-    root = Path(folder)
-    if root.exists() and (not root.is_dir() or any(root.iterdir())):
-        msg = f"{root}: the output folder exists and is not empty; choose a new or empty folder"
-        raise OutputError(msg)
-    parent = root.parent if str(root.parent) else Path(".")
-    if not parent.is_dir():
-        msg = f"{root}: the folder {parent} does not exist"
-        raise OutputError(msg)
-    return root
+    """Raise ``OutputError`` unless ``folder`` is new or empty, its parent exists, and it is outside any casefile.
+
+    The rules are :func:`forensic.outputs.check_folder`'s (docs/robustness.md, "Outputs").
+    """
+    check_folder(folder, what="casefile")
+    return Path(folder)
 
 
 def write_new_casefile(cf: Casefile, folder: str | Path) -> Path:
@@ -218,17 +217,8 @@ def write_new_casefile(cf: Casefile, folder: str | Path) -> Path:
     The folder must not exist or be empty (``OutputError`` otherwise: a
     casefile is never written over). The files go to a hidden temporary
     folder beside it, which is renamed into place when complete, so an
-    interrupted run leaves no partial casefile.
+    interrupted run leaves no partial casefile (:func:`forensic.outputs.staged_folder`).
     """
-    root = check_new_folder(folder)
-    parent = root.parent if str(root.parent) else Path(".")
-    tmp = Path(tempfile.mkdtemp(prefix=f".{root.name}.", suffix=".part", dir=parent))
-    try:
+    with staged_folder(folder, what="casefile") as tmp:
         write_casefile(cf, tmp)
-        if root.exists():
-            root.rmdir()  # empty, checked above
-        os.replace(tmp, root)
-    except BaseException:
-        shutil.rmtree(tmp, ignore_errors=True)
-        raise
-    return root
+    return Path(folder)

@@ -11,7 +11,7 @@ import click
 
 from .. import __version__
 from ..model import Casefile
-from ..outputs import atomic_write
+from ..outputs import atomic_write, check_output
 from ..tables import dumps_json
 
 __all__ = ["casefile_argument", "emit", "emit_json", "emit_xlsx", "format_options", "limit_hint", "load",
@@ -91,7 +91,14 @@ def format_options(func: Callable) -> Callable:
             raise click.UsageError("choose one of --json and --csv")
         if out is not None and not (kwargs.get("as_json") or kwargs.get("as_csv")):
             raise click.UsageError("--out writes JSON or CSV: add --json or --csv")
-        click.get_current_context().meta[_OUT] = out
+        ctx = click.get_current_context()
+        ctx.meta[_OUT] = out
+        # Refusals are decided before the command loads or writes anything
+        # (docs/robustness.md, "Outputs"); the write checks again.
+        targets = [t for t in (out, ctx.meta.get(_XLSX_KEY)) if t is not None]
+        real = [check_output(t) for t in targets]
+        if len(real) == 2 and real[0] == real[1]:
+            raise click.UsageError("--out and --xlsx name the same file")
         return func(*args, **kwargs)
 
     return wrapper

@@ -7,7 +7,8 @@ from pathlib import Path
 
 import click
 
-from ..batch import batch_table, find_casefiles, run_batch
+from ..batch import batch_table, check_report_dir, find_casefiles, report_names, run_batch
+from ..outputs import MANIFEST
 from ..tables import to_csv, to_text
 from ._base import main
 from ._common import emit, emit_json, emit_xlsx, format_options, pick_format
@@ -33,15 +34,23 @@ def batch(folder: Path, jobs: int | None, report_dir: Path | None, as_json: bool
     paths = find_casefiles(folder)
     if not paths:
         raise click.ClickException(f"{folder}: no casefile (casefile.toml) found under this folder")
-    if report_dir is not None and not report_dir.is_dir():
-        raise click.ClickException(f"--report {report_dir}: no such folder; create it first")
+    names = {}
+    if report_dir is not None:
+        check_report_dir(report_dir)  # decided before anything runs (docs/robustness.md, "Outputs")
+        names = report_names(paths, folder)
     with click.progressbar(length=len(paths), label=f"{len(paths)} casefiles",
                            file=sys.stderr) as bar:
         rows = run_batch(folder, jobs=jobs, report_dir=report_dir, progress=lambda _row: bar.update(1))
     table = batch_table(rows)
-    # The casefiles are loaded in the workers, so protect every file of every
-    # casefile folder found: no output may land over one of them.
-    protected = [f for p in paths for f in Path(p).rglob("*") if f.is_file()]
+    if names:
+        click.echo(f"reports in {report_dir}, named by each casefile's path under {folder}:", err=True)
+        valid = {r.casefile: r.valid for r in rows}
+        for p in paths:
+            failed = "" if valid[str(p)] else " (not written: the casefile failed)"
+            click.echo(f"  {p} -> {names[p]}{failed}", err=True)
+    # Nothing is written inside any casefile folder (forensic.outputs); the
+    # manifests are named so that a refusal says "over a casefile input".
+    protected = [Path(p) / MANIFEST for p in paths]
     emit_xlsx([table], protected=protected)
     fmt = pick_format(as_json, as_csv)
     if fmt == "json":

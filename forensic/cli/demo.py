@@ -7,8 +7,8 @@ from pathlib import Path
 import click
 
 from ..attribution import analyse_delay
-from ..demo import copy_demo
-from ..outputs import atomic_write
+from ..demo import DEMO_NAME, copy_demo
+from ..outputs import atomic_write, check_folder, refuse_casefile_paths
 from ..report import DEFAULT_TEMPLATE, build_report
 from ..validation import validate_casefile
 from ._base import main
@@ -32,6 +32,12 @@ def demo(out: Path) -> None:
     Example: forensic demo --out /tmp/forensic-demo
 
     """
+    # Refused before anything is copied: never inside a casefile folder (docs/robustness.md, "Outputs").
+    refuse_casefile_paths(out, ())
+    if (out / DEMO_NAME).exists():
+        refuse_casefile_paths(out / f"{DEMO_NAME}-{DEFAULT_TEMPLATE}.pdf", ())
+    elif out.exists():  # a new --out folder is created by the copy; an existing one is checked first
+        check_folder(out / DEMO_NAME, what="demo casefile")
     folder = copy_demo(out)
     click.echo(f"Demo casefile copied to {folder}")
     cf = load(folder)

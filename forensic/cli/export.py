@@ -7,8 +7,8 @@ from pathlib import Path
 
 import click
 
-from ..export import casefile_tables, tables_json, to_xlsx, write_csv_dir
-from ..outputs import atomic_write
+from ..export import casefile_tables, check_csv_dir, tables_json, to_xlsx, write_csv_dir
+from ..outputs import atomic_write, check_output
 from ..tables import dumps_json
 from ._base import main
 from ._common import casefile_argument, load, provenance
@@ -46,9 +46,19 @@ def export_command(casefile: Path, xlsx: Path | None, csv_dir: Path | None, json
     if recover_snapshot and recover_days is None:
         raise click.UsageError("--recover-snapshot needs --recover-days N")
     cf = load(casefile)
+    protected = [cf.root / rel for rel in cf.inputs] if cf.root is not None else []
+    # Every refusal is decided before any analysis runs and before anything is written.
+    files = [f for f in (xlsx, json_file) if f]
+    if len(files) == 2 and check_output(xlsx) == check_output(json_file):
+        raise click.UsageError("--xlsx and --json name the same file")
+    for f in files:
+        check_output(f, protected)
+    if csv_dir:
+        folder = check_csv_dir(csv_dir, protected)
+        if any(check_output(f).is_relative_to(folder) for f in files):
+            raise click.UsageError("--xlsx and --json go outside the --csv-dir folder (it is replaced whole)")
     result = casefile_tables(cf, recover_days=recover_days, recover_snapshot=recover_snapshot,
                              inputs=not no_inputs)
-    protected = [cf.root / rel for rel in cf.inputs] if cf.root is not None else []
     for line in result.skipped:
         click.echo(f"skipped: {line}", err=True)
     if xlsx:

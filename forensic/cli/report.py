@@ -6,7 +6,7 @@ from pathlib import Path
 
 import click
 
-from ..outputs import atomic_write
+from ..outputs import atomic_write, check_output
 from ..report import DEFAULT_TEMPLATE, build_report, builtin_templates, load_template
 from ._base import main
 from ._common import casefile_argument, load
@@ -46,14 +46,15 @@ def report_command(casefile: Path, template_name: str, out: Path | None, recover
 
     """
     template = load_template(template_name)
+    if out is None:
+        out = Path(f"{casefile.resolve().name}-{template.name}.pdf")
+    check_output(out)  # refused before the casefile is read (docs/robustness.md, "Outputs")
     cf = load(casefile)
     shown = template_name if not template_name.endswith(".toml") else Path(template_name).name
     command = f"forensic report {casefile.resolve().name} --template {shown}"
     if recover_days is not None:
         command += f" --recover-days {recover_days}"
     pdf = build_report(cf, template, command=command, recover_days=recover_days, progress=status_printer("report"))
-    if out is None:
-        out = Path(f"{casefile.resolve().name}-{template.name}.pdf")
     protected = [cf.root / rel for rel in cf.inputs] if cf.root is not None else []
     atomic_write(out, pdf, protected)
     click.echo(f"wrote {out} ({template.title}, {len(pdf) // 1024} KiB)")
