@@ -17,9 +17,19 @@ from ..impact import (
     time_impact,
     time_impacts,
 )
-from ..tables import Table, to_csv, to_text
+from ..tables import Table, to_csv
 from ._base import main
-from ._common import casefile_argument, emit, emit_json, emit_xlsx, format_options, load
+from ._common import (
+    casefile_argument,
+    emit,
+    emit_json,
+    emit_xlsx,
+    fit,
+    format_options,
+    load,
+    say,
+    table_text,
+)
 
 _PROGRESS_NOTE = (
     "Progress to the event's start is assumed as planned in the unimpacted schedule "
@@ -39,16 +49,16 @@ def _impact_text(r: ImpactResult) -> str:
         lines.append("Fragnet activities inserted: " + " ".join(r.inserted))
     for h in r.hold_ups:
         lines.append(f"No fragnet: {h.activity} extended by {h.days} working days")
-    out = "\n".join(lines) + "\n\nMilestones\n" + to_text(milestones_table(r))
+    out = "\n".join(lines) + "\n\nMilestones\n" + table_text(milestones_table(r))
     if r.float_consumed:
-        out += "\nTotal float consumed on the paths touched (working days)\n" + to_text(float_table(r))
+        out += "\nTotal float consumed on the paths touched (working days)\n" + table_text(float_table(r))
     out += f"\nLongest path after ({len(r.critical_path)} activities): " + " -> ".join(r.critical_path) + "\n"
     return out
 
 
 def _warn(warnings) -> None:
     for w in warnings:
-        click.echo(f"warning: {w}", err=True)
+        say(f"warning: {w}", err=True)
 
 
 @main.command("impact")
@@ -98,11 +108,11 @@ def impact_command(
             emit(to_csv(series_table(series)))
             return
         c = series.cumulative
-        click.echo(f"{cf.project.name}: {len(series.individual)} events, impacts in {series.unit}")
+        say(f"{cf.project.name}: {len(series.individual)} events, impacts in {series.unit}")
         if progress_to_event:
-            click.echo(_PROGRESS_NOTE)
-        emit(to_text(series_table(series)))
-        click.echo(
+            say(_PROGRESS_NOTE)
+        emit(table_text(series_table(series)))
+        say(
             f"\nCumulative into {c.into}: {c.completion_before.isoformat()} -> {c.completion_after.isoformat()}, "
             f"{c.impact} {series.unit}. Sum of impacts alone: {series.sum_of_individual}; "
             f"difference (non-additivity): {series.non_additivity}."
@@ -126,7 +136,7 @@ def impact_command(
         rows = tuple((r.event, r.into, *row) for r, t in zip(results, tables, strict=True) for row in t.rows)
         emit(to_csv(Table("impact-milestones", ("event", "into", *tables[0].columns), rows)))
         return
-    click.echo("\n".join(_impact_text(r) for r in results), nl=False)
+    click.echo(fit("\n".join(_impact_text(r) for r in results)), nl=False)
 
 
 @main.command("but-for")
@@ -161,11 +171,11 @@ def but_for_command(
         emit(to_csv(but_for_table(report)))
         return
     b = report.as_built
-    click.echo(f"{cf.project.name}: as-built from {b.source}, completion {b.completion.isoformat()}")
-    click.echo(f"Pinned where logic does not explain the start: {' '.join(b.pins) or 'none'}")
+    say(f"{cf.project.name}: as-built from {b.source}, completion {b.completion.isoformat()}")
+    say(f"Pinned where logic does not explain the start: {' '.join(b.pins) or 'none'}")
     for p, s, t, n, lag in b.relinked:
-        click.echo(f"Relinked (actual dates contradict it): {p} -> {s} {t} now {n}" + (f" lag {lag}" if n != "dropped" else ""))
-    click.echo("\nDelays in the as-built")
-    emit(to_text(as_built_table(report)))
-    click.echo("\nBut-for cases")
-    emit(to_text(but_for_table(report)))
+        say(f"Relinked (actual dates contradict it): {p} -> {s} {t} now {n}" + (f" lag {lag}" if n != "dropped" else ""))
+    say("\nDelays in the as-built")
+    emit(table_text(as_built_table(report)))
+    say("\nBut-for cases")
+    emit(table_text(but_for_table(report)))
