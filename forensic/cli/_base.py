@@ -20,6 +20,13 @@ class _Group(click.Group):
     def invoke(self, ctx: click.Context):
         try:
             return super().invoke(ctx)
+        except click.exceptions.NoSuchOption as exc:
+            if exc.option_name in _GROUP_OPTIONS and ctx.invoked_subcommand:
+                exc.message = exc.message.rstrip(".") + (
+                    f" after the command. {exc.option_name} is an option of forensic itself: put it "
+                    f"before the command (forensic {exc.option_name} N {ctx.invoked_subcommand} ...)."
+                )
+            raise
         except (click.exceptions.ClickException, click.exceptions.Exit, click.exceptions.Abort):
             raise
         except ForensicError as exc:
@@ -44,6 +51,7 @@ class _Group(click.Group):
             raise click.ClickException(msg) from None
 
 
+_GROUP_OPTIONS = ("--max-activities", "--max-links", "--max-file-mb")
 _DEFAULT = Limits()
 _MB = 1024 * 1024
 

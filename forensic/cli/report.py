@@ -55,4 +55,4 @@ def report_command(casefile: Path, template_name: str, out: Path | None, recover
         out = Path(f"{casefile.resolve().name}-{template.name}.pdf")
     protected = [cf.root / rel for rel in cf.inputs] if cf.root is not None else []
     atomic_write(out, pdf, protected)
-    click.echo(f"wrote {out} ({template.title}, {len(pdf) // 1024} KiB)")
+    click.echo(f"wrote {out} ({template.title}, {len(pdf) // 1024} KiB)", err=True)

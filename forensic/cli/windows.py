@@ -47,9 +47,10 @@ _TABLES = ("windows", "contributors", "ledger", "cumulative", "as-built")
     help="Comma-separated snapshot ids that bound the windows, e.g. U01,U04,U08 "
     "(the baseline and the last update are always added).",
 )
-@click.option("--table", type=click.Choice(_TABLES), default="windows", show_default=True, help="Table printed by --csv.")
+@click.option("--table", type=click.Choice(_TABLES), default=None,
+              help="Table printed by --csv (default: windows); refused without --csv.")
 @format_options
-def windows_command(casefile: Path, bounds: str | None, table: str, as_json: bool, as_csv: bool) -> None:
+def windows_command(casefile: Path, bounds: str | None, table: str | None, as_json: bool, as_csv: bool) -> None:
     """Windows analysis of CASEFILE with the half-step split and the delay ledger.
 
     For each window between updates: completion before and after, the slip
@@ -61,6 +62,9 @@ def windows_command(casefile: Path, bounds: str | None, table: str, as_json: boo
     Example: forensic windows casefiles/riverside --windows U02,U04 --json
 
     """
+    if table is not None and not as_csv:
+        raise click.UsageError("--table chooses the table printed by --csv: add --csv")
+    table = table or "windows"
     status(f"Loading {casefile} ...")
     cf = load(casefile)
     ids = [s.strip() for s in bounds.split(",") if s.strip()] if bounds else None
