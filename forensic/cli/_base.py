@@ -73,7 +73,9 @@ def main(ctx: click.Context, max_activities: int, max_links: int, max_file_mb: i
 
     A casefile holds the baseline programme, the monthly updates, calendars,
     parties, delay events and fragnets (see casefiles/README.md). Start with
-    `forensic demo`, then `forensic check` and `forensic schedule` on your own.
+    `forensic demo`, which copies the demo casefile to forensic-demo/riverside
+    (the folder the examples use), then `forensic check` and `forensic
+    schedule` on your own.
 
     The results support, and do not replace, the judgement of a qualified
     scheduling professional; entitlement depends on the contract and the
@@ -83,6 +85,6 @@ def main(ctx: click.Context, max_activities: int, max_links: int, max_file_mb: i
     on what any command loads, so a hostile casefile cannot exhaust memory;
     see docs/robustness.md.
 
-    Example: forensic --max-activities 5000 check casefiles/riverside
+    Example: forensic --max-activities 5000 check forensic-demo/riverside
     """
     ctx.obj = Limits(max_file_bytes=max_file_mb * _MB, max_activities=max_activities, max_links=max_links)

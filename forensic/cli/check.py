@@ -47,9 +47,9 @@ def check(casefile: Path, quality: bool, snapshot_ids: tuple[str, ...], as_json:
 
     Examples:
 
-      forensic check casefiles/riverside
+      forensic check forensic-demo/riverside
 
-      forensic check casefiles/riverside --quality --snapshot U02 --json
+      forensic check forensic-demo/riverside --quality --snapshot U02 --json
 
     """
     if snapshot_ids and not quality:

@@ -61,7 +61,7 @@ def compare_command(casefile: Path, old: str, new: str, as_json: bool, as_csv: b
     A `*` marks a change on or touching the longest path of either snapshot
     (AACE RP 29R-03, sec. 2.3; AACE RP 49R-06).
 
-    Example: forensic compare casefiles/riverside U01 U02 --json
+    Example: forensic compare forensic-demo/riverside U01 U02 --json
 
     """
     cf = load(casefile)

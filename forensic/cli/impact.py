@@ -88,7 +88,7 @@ def impact_command(
     --all) each is analysed alone; --cumulative adds them one after another
     in date order and reports the difference from the sum (non-additivity).
 
-    Example: forensic impact casefiles/riverside --event EV03 --json
+    Example: forensic impact forensic-demo/riverside --event EV03 --json
 
     """
     if not events and not all_events:
@@ -155,7 +155,7 @@ def but_for_command(
     turn and then all owner delays together, reschedules, and reports the
     but-for completion and its difference from the as-built completion.
 
-    Example: forensic but-for casefiles/riverside --party OWN
+    Example: forensic but-for forensic-demo/riverside --party OWN
 
     """
     if party and event:

@@ -20,7 +20,7 @@ from ._common import casefile_argument, load
     default=DEFAULT_TEMPLATE,
     show_default=True,
     metavar="NAME",
-    help=f"A template of report_templates/ ({', '.join(builtin_templates()) or 'none found'}) or a path to your own .toml.",
+    help=f"A shipped template ({', '.join(builtin_templates()) or 'none found'}) or a path to your own .toml.",
 )
 @click.option(
     "--out",
@@ -41,7 +41,7 @@ def report_command(casefile: Path, template_name: str, out: Path | None, recover
     settings give a byte-identical PDF; the file is written atomically and
     never over a casefile input.
 
-    Example: forensic report casefiles/riverside --template monthly --out riverside-monthly.pdf
+    Example: forensic report forensic-demo/riverside --template monthly --out riverside-monthly.pdf
 
     """
     template = load_template(template_name)

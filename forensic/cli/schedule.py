@@ -33,9 +33,9 @@ def schedule_command(casefile: Path, snapshot_id: str | None, as_json: bool, as_
     activity's calendar), the critical flag, the driving predecessors and the
     longest path traced back from the completion (AACE RP 49R-06).
 
-    Example: forensic schedule casefiles/riverside --snapshot U03 --json
+    Example: forensic schedule forensic-demo/riverside --snapshot U03 --json
 
-    Example: forensic schedule casefiles/riverside --xlsx u10.xlsx
+    Example: forensic schedule forensic-demo/riverside --xlsx u10.xlsx
 
     """
     cf = load(casefile)

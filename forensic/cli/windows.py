@@ -59,7 +59,7 @@ def windows_command(casefile: Path, bounds: str | None, table: str | None, as_js
     parties it is attributed to, concurrent days, and the ledger (AACE RP
     29R-03 protocols 3.3/3.4; SCL Protocol 2nd ed.). Rules: docs/windows.md.
 
-    Example: forensic windows casefiles/riverside --windows U02,U04 --json
+    Example: forensic windows forensic-demo/riverside --windows U02,U04 --json
 
     """
     if table is not None and not as_csv:
