@@ -50,6 +50,33 @@ class Table:
     def records(self) -> list[dict[str, Any]]:
         return [dict(zip(self.columns, row, strict=True)) for row in self.rows]
 
+    def to_pandas(self) -> Any:
+        """The table as a :class:`pandas.DataFrame` with real dtypes, one column per column.
+
+        Dates become ``datetime64`` (a missing date is ``NaT``); whole numbers
+        (days, floats of the schedule, counts) the nullable integer dtype
+        ``Int64`` (a missing value is ``<NA>``, not a float NaN); true/false
+        the nullable ``boolean``; other numbers ``float64``; lists of ids stay
+        Python lists; text stays text (``object``).
+        """
+        import pandas as pd
+
+        data: dict[str, Any] = {}
+        for i, col in enumerate(self.columns):
+            values = [row[i] for row in self.rows]
+            present = [v for v in values if v is not None]
+            if present and all(isinstance(v, date) for v in present):
+                data[col] = pd.to_datetime(pd.Series(values, dtype=object))
+            elif present and all(isinstance(v, bool) for v in present):
+                data[col] = pd.Series(values, dtype="boolean")
+            elif present and all(isinstance(v, int) and not isinstance(v, bool) for v in present):
+                data[col] = pd.Series(values, dtype="Int64")
+            elif present and all(_is_number(v) for v in present):
+                data[col] = pd.Series([math.nan if v is None else float(v) for v in values], dtype="float64")
+            else:
+                data[col] = pd.Series([list(v) if isinstance(v, tuple) else v for v in values], dtype=object)
+        return pd.DataFrame(data, columns=list(self.columns))
+
 
 def neutralise(value: Any) -> Any:
     """Make a text cell inert in a spreadsheet (OWASP, CSV injection); other values pass.
