@@ -17,6 +17,7 @@ import io
 import json
 import math
 import re
+import textwrap
 from dataclasses import dataclass
 from datetime import date
 from typing import Any
@@ -55,6 +56,33 @@ class Table:
 
     def records(self) -> list[dict[str, Any]]:
         return [dict(zip(self.columns, row, strict=True)) for row in self.rows]
+
+    def to_pandas(self) -> Any:
+        """The table as a :class:`pandas.DataFrame` with real dtypes, one column per column.
+
+        Dates become ``datetime64`` (a missing date is ``NaT``); whole numbers
+        (days, floats of the schedule, counts) the nullable integer dtype
+        ``Int64`` (a missing value is ``<NA>``, not a float NaN); true/false
+        the nullable ``boolean``; other numbers ``float64``; lists of ids stay
+        Python lists; text stays text (``object``).
+        """
+        import pandas as pd
+
+        data: dict[str, Any] = {}
+        for i, col in enumerate(self.columns):
+            values = [row[i] for row in self.rows]
+            present = [v for v in values if v is not None]
+            if present and all(isinstance(v, date) for v in present):
+                data[col] = pd.to_datetime(pd.Series(values, dtype=object))
+            elif present and all(isinstance(v, bool) for v in present):
+                data[col] = pd.Series(values, dtype="boolean")
+            elif present and all(isinstance(v, int) and not isinstance(v, bool) for v in present):
+                data[col] = pd.Series(values, dtype="Int64")
+            elif present and all(_is_number(v) for v in present):
+                data[col] = pd.Series([math.nan if v is None else float(v) for v in values], dtype="float64")
+            else:
+                data[col] = pd.Series([list(v) if isinstance(v, tuple) else v for v in values], dtype=object)
+        return pd.DataFrame(data, columns=list(self.columns))
 
 
 def neutralise(value: Any) -> Any:
@@ -150,17 +178,109 @@ def dumps_json(obj: Any) -> str:
     return json.dumps(obj, default=_json_default, ensure_ascii=False, indent=2, allow_nan=False) + "\n"
 
 
-def to_text(table: Table, max_width: int = 40) -> str:
-    """A fixed-width text table for the terminal."""
-    def show(v: Any) -> str:
-        s = "" if v is None else _cell(v) if not isinstance(v, str) else v
-        s = str(s).replace("\n", " ")
-        return s if len(s) <= max_width else s[: max_width - 1] + "…"
+_ID_COLUMNS = frozenset({"id", "activity", "window", "event", "snapshot", "casefile", "party", "from", "to"})
 
-    cells = [list(table.columns)] + [[show(v) for v in row] for row in table.rows]
-    widths = [max(len(r[c]) for r in cells) for c in range(len(table.columns))]
-    lines = ["  ".join(v.ljust(w) for v, w in zip(r, widths, strict=True)).rstrip() for r in cells]
-    lines.insert(1, "  ".join("-" * w for w in widths))
+
+def _is_number(v: Any) -> bool:
+    return isinstance(v, (int, float)) and not isinstance(v, bool)
+
+
+def _noun(column: str, n: int) -> str:
+    """The count that stands for a list of ids ("21 activities"), named after its column."""
+    if "event" in column:
+        return f"{n} event" if n == 1 else f"{n} events"
+    if "part" in column:
+        return f"{n} party" if n == 1 else f"{n} parties"
+    return f"{n} activity" if n == 1 else f"{n} activities"
+
+
+def _split_header(name: str) -> tuple[str, str]:
+    """A header on two lines at the underscore that makes the wider line narrowest."""
+    cuts = [i for i, ch in enumerate(name) if ch == "_"]
+    if not cuts:
+        return name, ""
+    i = min(cuts, key=lambda k: (max(k, len(name) - k - 1), k))
+    return name[:i], name[i + 1:]
+
+
+def to_text(table: Table, max_width: int = 40, width: int | None = None,
+            keep: tuple[str, ...] = ()) -> str:
+    """A fixed-width text table for the terminal; numbers right-aligned.
+
+    Cells longer than ``max_width`` are cut with "…". With ``width`` (the
+    terminal's columns) a wider table is fitted to it, step by step: a list
+    of ids becomes its count ("21 activities"), headers break at an
+    underscore onto two lines, text cells (names; never the first column
+    nor an identifier such as ``id``) are cut down to 12 characters, and if it is still too wide the columns least needed are
+    left out (those not in ``keep``, from the right; then ``keep`` from its
+    end) and a last line names them. ``width=None`` gives the full table.
+    """
+    ncol = len(table.columns)
+    number = [all(_is_number(r[c]) for r in table.rows if r[c] is not None)
+              and any(r[c] is not None for r in table.rows) for c in range(ncol)]
+    is_list = [any(isinstance(r[c], (list, tuple)) for r in table.rows) for c in range(ncol)]
+
+    def show(v: Any, limit: int | None = max_width) -> str:
+        text = "" if v is None else _cell(v) if not isinstance(v, str) else v
+        text = str(text).replace("\n", " ")
+        return text if limit is None or len(text) <= limit else text[: limit - 1].rstrip() + "…"
+
+    body = [[show(v) for v in row] for row in table.rows]
+    headers = [[name] for name in table.columns]
+
+    def natural(c: int) -> int:
+        return max([len(h) for h in headers[c]] + [len(r[c]) for r in body])
+
+    def total(cols: list[int], widths: dict[int, int]) -> int:
+        return sum(widths[c] for c in cols) + 2 * (len(cols) - 1)
+
+    cols = list(range(ncol))
+    widths = {c: natural(c) for c in cols}
+    dropped: list[str] = []
+    if width is not None and total(cols, widths) > width:
+        # 1. Lists of ids become counts.
+        for c in cols:
+            if is_list[c]:
+                for r, row in zip(body, table.rows, strict=True):
+                    v = row[c]
+                    if isinstance(v, (list, tuple)) and len(v) > 1:
+                        r[c] = _noun(table.columns[c], len(v))
+        widths = {c: natural(c) for c in cols}
+    if width is not None and total(cols, widths) > width:
+        # 2. Headers on two lines; 3. text cut to 12 characters at least; 4. columns left out.
+        headers = [list(_split_header(name)) for name in table.columns]
+        # Text columns may be cut, never the first column nor an identifier column.
+        text_col = [c > 0 and table.columns[c] not in _ID_COLUMNS and not number[c]
+                    and any(isinstance(r[c], str) for r in table.rows) for c in range(ncol)]
+        full = {c: natural(c) for c in cols}
+        least = {c: max([len(h) for h in headers[c]] + [min(full[c], 12)]) if text_col[c] else full[c]
+                 for c in cols}
+        order = [table.columns.index(k) for k in keep if k in table.columns]
+        order += [c for c in cols if c not in order]
+        while len(cols) > 1 and total(cols, least) > width:
+            gone = next(c for c in reversed(order) if c in cols)
+            cols.remove(gone)
+            dropped.append(table.columns[gone])
+        widths = dict(least)
+        spare = width - total(cols, widths)
+        for c in (c for c in order if c in cols and text_col[c]):
+            grow = min(spare, full[c] - widths[c])
+            widths[c] += grow
+            spare -= grow
+        body = [[show(v, widths[c]) if c in cols else "" for c, v in enumerate(r)] for r in body]
+    headers = [[h for h in hs if h] or [""] for hs in headers]
+    height = max(len(headers[c]) for c in cols)
+
+    def line(cells: list[str]) -> str:
+        out = [cells[i].rjust(widths[c]) if number[c] else cells[i].ljust(widths[c]) for i, c in enumerate(cols)]
+        return "  ".join(out).rstrip()
+
+    lines = [line([(headers[c] + [""] * height)[k] for c in cols]) for k in range(height)]
+    lines.append("  ".join("-" * widths[c] for c in cols))
+    lines += [line([r[c] for c in cols]) for r in body]
+    if dropped:
+        note = f"({len(dropped)} of {ncol} columns not shown: {', '.join(sorted(dropped, key=table.columns.index))}; --wide shows every column)"
+        lines += textwrap.wrap(note, width=max(width or 0, 20), break_on_hyphens=False, break_long_words=False)
     return "\n".join(lines) + "\n"
 
 

@@ -99,3 +99,22 @@ def test_batch_keeps_every_problem_of_a_failed_casefile(tmp_path):
     (rec,) = data["casefiles"]
     assert [(p["file"], p["line"], p["value"]) for p in rec["problems"]] == [
         ("snapshots/U02/links.csv", 2, "QQ"), ("snapshots/U03/activities.csv", 3, "x20")]
+
+
+def test_table_without_csv_is_refused_and_report_says_wrote_on_stderr(tmp_path):
+    res = CliRunner().invoke(main, ["windows", str(DEMO), "--table", "ledger"])
+    assert res.exit_code == 2  # click's usage error status
+    assert "--table chooses the table printed by --csv: add --csv" in res.stderr
+    ok = CliRunner().invoke(main, ["windows", str(DEMO), "--table", "ledger", "--csv"])
+    assert ok.exit_code == 0 and ok.stdout.startswith("window,excusable_compensable")
+    out = tmp_path / "r.pdf"
+    rep = CliRunner().invoke(main, ["report", str(DEMO), "--template", "monthly", "--out", str(out)])
+    assert rep.exit_code == 0, rep.output
+    assert rep.stdout == "" and rep.stderr.startswith(f"wrote {out}")
+
+
+def test_a_group_option_after_the_command_says_to_put_it_before():
+    res = CliRunner().invoke(main, ["check", str(DEMO), "--max-activities", "10"])
+    assert res.exit_code == 2
+    assert "No such option '--max-activities' after the command." in res.stderr
+    assert "put it before the command (forensic --max-activities N check ...)" in res.stderr

@@ -71,6 +71,14 @@ class _Group(click.Group):
             signal.signal(signal.SIGINT, signal.default_int_handler)
         try:
             return super().invoke(ctx)
+        except click.exceptions.NoSuchOption as exc:
+            if exc.option_name in _GROUP_OPTIONS and ctx.invoked_subcommand:
+                exc.message = exc.message.rstrip(".") + (
+                    f" after the command. {exc.option_name} is an option of forensic itself: put it "
+                    f"before the command (forensic {exc.option_name} N {ctx.invoked_subcommand} ...)."
+                )
+            exc.message = printable(exc.message)
+            raise
         except click.exceptions.ClickException as exc:
             exc.message = printable(exc.message)  # a value quoted from a hostile input stays inert
             raise
@@ -106,6 +114,7 @@ class _Group(click.Group):
             raise click.ClickException(printable(msg)) from None
 
 
+_GROUP_OPTIONS = ("--max-activities", "--max-links", "--max-file-mb")
 _DEFAULT = Limits()
 _MB = 1024 * 1024
 
@@ -127,7 +136,9 @@ def main(ctx: click.Context, max_activities: int, max_links: int, max_file_mb: i
 
     A casefile holds the baseline programme, the monthly updates, calendars,
     parties, delay events and fragnets (see casefiles/README.md). Start with
-    `forensic demo`, then `forensic check` and `forensic schedule` on your own.
+    `forensic demo`, which copies the demo casefile to forensic-demo/riverside
+    (the folder the examples use), then `forensic check` and `forensic
+    schedule` on your own.
 
     The results support, and do not replace, the judgement of a qualified
     scheduling professional; entitlement depends on the contract and the
@@ -137,6 +148,6 @@ def main(ctx: click.Context, max_activities: int, max_links: int, max_file_mb: i
     on what any command loads, so a hostile casefile cannot exhaust memory;
     see docs/robustness.md.
 
-    Example: forensic --max-activities 5000 check casefiles/riverside
+    Example: forensic --max-activities 5000 check forensic-demo/riverside
     """
     ctx.obj = Limits(max_file_bytes=max_file_mb * _MB, max_activities=max_activities, max_links=max_links)

@@ -3,7 +3,10 @@
 from __future__ import annotations
 
 import functools
+import os
+import shutil
 import sys
+import textwrap
 from collections.abc import Callable, Iterable
 from pathlib import Path
 
@@ -15,7 +18,7 @@ from ..outputs import atomic_write, check_output
 from ..tables import dumps_json
 
 __all__ = ["casefile_argument", "emit", "emit_json", "emit_xlsx", "format_options", "limit_hint", "load",
-           "pick_format", "provenance", "status", "xlsx_option"]
+           "fit", "pick_format", "provenance", "say", "status", "table_text", "terminal_width", "xlsx_option"]
 
 
 def casefile_argument(func: Callable) -> Callable:
@@ -26,6 +29,7 @@ def casefile_argument(func: Callable) -> Callable:
 _OUT = "forensic.out"
 _CASEFILE = "forensic.casefile"
 _XLSX_KEY = "forensic.xlsx"
+_WIDE = "forensic.wide"
 
 
 def _remember_xlsx(ctx: click.Context, _param, value):
@@ -71,6 +75,57 @@ def emit_xlsx(tables, casefile: Casefile | None = None, protected: Iterable[Path
     click.echo(f"wrote {out}", err=True)
 
 
+def _remember_wide(ctx: click.Context, _param, value):
+    if value:
+        ctx.meta[_WIDE] = True
+    return value
+
+
+def terminal_width() -> int | None:
+    """The width text output is fitted to, or None for the full width.
+
+    ``--wide`` gives None; else ``COLUMNS`` when it is set to a number (as
+    POSIX shells export it); else the terminal's width when standard output
+    is a terminal; piped output (not a terminal) keeps the full width.
+    """
+    ctx = click.get_current_context(silent=True)
+    if ctx is not None and ctx.meta.get(_WIDE):
+        return None
+    columns = os.environ.get("COLUMNS", "").strip()
+    if columns.isdigit() and int(columns) > 0:
+        return max(int(columns), 20)
+    if sys.stdout.isatty():
+        return max(shutil.get_terminal_size().columns, 20)
+    return None
+
+
+def table_text(table, keep: tuple[str, ...] = (), max_width: int = 40) -> str:
+    """:func:`forensic.tables.to_text` fitted to :func:`terminal_width` (``keep``: the columns kept longest)."""
+    from ..tables import to_text
+
+    return to_text(table, max_width=max_width, width=terminal_width(), keep=keep)
+
+
+def fit(text: str) -> str:
+    """Prose wrapped to :func:`terminal_width`, line by line (ids are never broken at a hyphen)."""
+    width = terminal_width()
+    if width is None:
+        return text
+    out = []
+    for line in text.split("\n"):
+        if len(line) <= width:
+            out.append(line)
+        else:
+            out += textwrap.wrap(line, width=width, subsequent_indent="  ", break_on_hyphens=False,
+                                 break_long_words=False)
+    return "\n".join(out)
+
+
+def say(text: str, err: bool = False) -> None:
+    """Echo prose wrapped by :func:`fit`."""
+    click.echo(fit(text), err=err)
+
+
 def format_options(func: Callable) -> Callable:
     """``--json``, ``--csv`` (machine-readable output instead of the text), ``--out FILE`` and ``--xlsx FILE``.
 
@@ -80,6 +135,8 @@ def format_options(func: Callable) -> Callable:
     """
 
     @xlsx_option
+    @click.option("--wide", is_flag=True, expose_value=False, callback=_remember_wide,
+                  help="Text tables at full width, every column (default: fitted to the terminal).")
     @click.option("--json", "as_json", is_flag=True, help="Print JSON (stable keys, documented in README.md and docs/).")
     @click.option("--csv", "as_csv", is_flag=True, help="Print CSV (one table).")
     @click.option("--out", type=click.Path(dir_okay=False, path_type=Path), metavar="FILE",

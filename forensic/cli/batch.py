@@ -9,9 +9,9 @@ import click
 
 from ..batch import batch_table, check_report_dir, find_casefiles, report_names, run_batch
 from ..outputs import MANIFEST
-from ..tables import to_csv, to_text
+from ..tables import to_csv
 from ._base import main
-from ._common import emit, emit_json, emit_xlsx, format_options, pick_format
+from ._common import emit, emit_json, emit_xlsx, format_options, pick_format, say, table_text
 
 
 @main.command()
@@ -63,7 +63,7 @@ def batch(folder: Path, jobs: int | None, report_dir: Path | None, as_json: bool
     elif fmt == "csv":
         emit(to_csv(table), protected=protected)
     else:
-        emit(to_text(table), protected=protected)
-        click.echo(f"\n{sum(r.valid for r in rows)} of {len(rows)} casefiles valid and analysed.")
+        emit(table_text(table), protected=protected)
+        say(f"\n{sum(r.valid for r in rows)} of {len(rows)} casefiles valid and analysed.")
     if any(not r.valid for r in rows):
         raise SystemExit(1)

@@ -9,7 +9,7 @@ import click
 from ..errors import MAX_LISTED, ForensicError, printable
 from ..model import Casefile
 from ..quality import QualityCheck, assess_casefile, quality_json, quality_table
-from ..tables import Table, to_csv, to_text
+from ..tables import Table, to_csv
 from ..validation import validate_casefile
 from ._base import main
 from ._common import (
@@ -20,7 +20,9 @@ from ._common import (
     format_options,
     load,
     pick_format,
+    say,
     status,
+    table_text,
 )
 
 
@@ -45,9 +47,9 @@ def check(casefile: Path, quality: bool, snapshot_ids: tuple[str, ...], as_json:
 
     Examples:
 
-      forensic check casefiles/riverside
+      forensic check forensic-demo/riverside
 
-      forensic check casefiles/riverside --quality --snapshot U02 --json
+      forensic check forensic-demo/riverside --quality --snapshot U02 --json
 
     """
     if snapshot_ids and not quality:
@@ -82,14 +84,14 @@ def check(casefile: Path, quality: bool, snapshot_ids: tuple[str, ...], as_json:
     if fmt == "csv":
         emit(to_csv(table))
     else:
-        click.echo(f"{cf.project.name}: the casefile is valid ({len(cf.snapshots)} snapshots).")
-        emit(to_text(table))
+        say(f"{cf.project.name}: the casefile is valid ({len(cf.snapshots)} snapshots).")
+        emit(table_text(table))
     if result.warnings:
-        click.echo(f"{len(result.warnings)} warning(s):", err=True)
+        say(f"{len(result.warnings)} warning(s):", err=True)
         for w in result.warnings[:MAX_LISTED]:
-            click.echo(f"  warning: {printable(w)}", err=True)
+            say(f"  warning: {printable(w)}", err=True)
         if len(result.warnings) > MAX_LISTED:  # --json lists them all
-            click.echo(f"  ... and {len(result.warnings) - MAX_LISTED} more warnings not listed "
+            say(f"  ... and {len(result.warnings) - MAX_LISTED} more warnings not listed "
                        "(--json lists every one)", err=True)
 
 
@@ -142,10 +144,10 @@ def _quality(cf: Casefile, snapshot_ids: tuple[str, ...], fmt: str) -> None:
     if fmt == "csv":
         emit(to_csv(quality_table(reports)))
         return
-    click.echo(f"{cf.project.name}: schedule quality (DCMA-EA PAM 200.1, Oct 2012; practitioners' checks)")
+    say(f"{cf.project.name}: schedule quality (DCMA-EA PAM 200.1, Oct 2012; practitioners' checks)")
     for r in reports:
         n_fail = len(r.failed)
-        click.echo(
+        say(
             f"\nSnapshot {r.snapshot_id}, data date {r.data_date.isoformat()}: {r.incomplete_tasks} "
             f"incomplete tasks, {n_fail} check(s) failed (baseline {r.baseline_id})"
         )
@@ -155,11 +157,11 @@ def _quality(cf: Casefile, snapshot_ids: tuple[str, ...], fmt: str) -> None:
             for c in r.checks
         )
         table = Table("quality", ("no.", "check", "count", "of", "value", "threshold", "result", "activities"), rows)
-        emit(to_text(table, max_width=48))
+        emit(table_text(table, max_width=48))
         for c in r.checks:
             if c.number in (12, 13) and c.note:
-                click.echo(f"  {c.number}: {c.note}")
-    click.echo(
+                say(f"  {c.number}: {c.note}")
+    say(
         "\nThresholds of points 1-14 are DCMA-EA PAM 200.1's; the others are common practice. "
         "The scorecard supports, and does not replace, a scheduling professional's review."
     )

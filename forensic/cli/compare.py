@@ -7,7 +7,7 @@ from pathlib import Path
 import click
 
 from ..compare import CHANGE_KINDS, compare_json, compare_snapshots, compare_table
-from ..tables import Table, to_csv, to_text
+from ..tables import Table, to_csv
 from ._base import main
 from ._common import (
     casefile_argument,
@@ -17,6 +17,8 @@ from ._common import (
     format_options,
     load,
     pick_format,
+    say,
+    table_text,
 )
 
 _HEADINGS = {
@@ -59,7 +61,7 @@ def compare_command(casefile: Path, old: str, new: str, as_json: bool, as_csv: b
     A `*` marks a change on or touching the longest path of either snapshot
     (AACE RP 29R-03, sec. 2.3; AACE RP 49R-06).
 
-    Example: forensic compare casefiles/riverside U01 U02 --json
+    Example: forensic compare forensic-demo/riverside U01 U02 --json
 
     """
     cf = load(casefile)
@@ -79,29 +81,30 @@ def compare_command(casefile: Path, old: str, new: str, as_json: bool, as_csv: b
         emit(to_csv(compare_table(result)))
         return
     r = result
-    click.echo(f"{cf.project.name}: {r.old_id} (data date {r.old_data_date.isoformat()}) -> "
+    say(f"{cf.project.name}: {r.old_id} (data date {r.old_data_date.isoformat()}) -> "
                f"{r.new_id} (data date {r.new_data_date.isoformat()})")
-    click.echo(f"Forecast completion ({r.completion_id}): {r.old_completion.isoformat()} -> "
+    say(f"Forecast completion ({r.completion_id}): {r.old_completion.isoformat()} -> "
                f"{r.new_completion.isoformat()} ({r.completion_change_days:+d} calendar days, "
                f"{r.completion_change_workdays:+d} working days)")
-    click.echo(f"Completion float: {_f(r.old_completion_float)} -> {_f(r.new_completion_float)} working days")
-    click.echo(f"Longest path {r.old_id}: " + " -> ".join(r.old_longest_path))
-    click.echo(f"Longest path {r.new_id}: " + " -> ".join(r.new_longest_path))
+    say(f"Completion float: {_f(r.old_completion_float)} -> {_f(r.new_completion_float)} working days")
+    say(f"Longest path {r.old_id}: " + " -> ".join(r.old_longest_path))
+    say(f"Longest path {r.new_id}: " + " -> ".join(r.new_longest_path))
     if not r.changes:
-        click.echo("\nNo changes.")
+        say("\nNo changes.")
         return
     for kind in CHANGE_KINDS:
         group = r.of_kind(kind)
         if not group:
             continue
-        click.echo(f"\n{_HEADINGS[kind]} ({len(group)}):")
+        say(f"\n{_HEADINGS[kind]} ({len(group)}):")
         rows = tuple(
             ("*" if c.longest_path else "", c.activity,
              f"{c.pred} -> {c.succ}" if c.pred is not None else "", c.field, c.before, c.after, c.note)
             for c in group
         )
-        emit(to_text(Table(kind, ("lp", "activity", "link", "field", "before", "after", "note"), rows)))
-    click.echo("\n* on or touching the longest path of either snapshot.")
+        table = Table(kind, ("lp", "activity", "link", "field", "before", "after", "note"), rows)
+        emit(table_text(table, keep=("lp", "activity", "field", "before", "after", "link")))
+    say("\n* on or touching the longest path of either snapshot.")
 
 
 def _f(value: int | None) -> str:

@@ -15,6 +15,7 @@ from ._common import (
     format_options,
     load,
     pick_format,
+    table_text,
 )
 from ._progress import status_printer
 
@@ -45,7 +46,7 @@ def eot_command(casefile: Path, snapshot_id: str | None, table: str, as_json: bo
 
     from ..eot import delay_summary, eot_json, eot_tables
     from ..errors import NotFoundError
-    from ..tables import to_csv, to_text
+    from ..tables import to_csv
 
     cf = load(casefile)
     if snapshot_id is not None:
@@ -68,12 +69,12 @@ def eot_command(casefile: Path, snapshot_id: str | None, table: str, as_json: bo
     click.echo(f"{cf.project.name}: delay summary per event, days in {summary.unit} attributed by each method")
     click.echo(f"Baseline completion {c['baseline'].isoformat()}, latest {c['latest'].isoformat()}: slip {c['slip']}."
                + (f" Contract completion {c['contract'].isoformat()}." if c["contract"] else "") + "\n")
-    emit(to_text(tables["events"]))
+    emit(table_text(tables["events"]))
     click.echo("\nTotals by method and category:")
-    emit(to_text(tables["methods"]))
+    emit(table_text(tables["methods"]))
     click.echo("\nWhy the methods differ:")
-    emit(to_text(tables["reconciliation"]))
+    emit(table_text(tables["reconciliation"]))
     click.echo(f"\nSensitivity of the windows split (moved: a party's share changes by more than {summary.tolerance}):")
-    emit(to_text(tables["sensitivity"]))
+    emit(table_text(tables["sensitivity"]))
     for note in summary.notes:
         click.echo(f"\n{note}")

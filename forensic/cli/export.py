@@ -38,7 +38,7 @@ def export_command(casefile: Path, xlsx: Path | None, csv_dir: Path | None, json
     casefile are listed and skipped. Text cells are neutralised against
     formula injection; workbook dates are date cells.
 
-    Example: forensic export casefiles/riverside --xlsx riverside.xlsx --csv-dir riverside-tables
+    Example: forensic export forensic-demo/riverside --xlsx riverside.xlsx --csv-dir riverside-tables
 
     """
     if not (xlsx or csv_dir or json_file):

@@ -20,9 +20,19 @@ from ..impact import (
     time_impact_series,
     time_impacts,
 )
-from ..tables import Table, to_csv, to_text
+from ..tables import Table, to_csv
 from ._base import main
-from ._common import casefile_argument, emit, emit_json, emit_xlsx, format_options, load
+from ._common import (
+    casefile_argument,
+    emit,
+    emit_json,
+    emit_xlsx,
+    fit,
+    format_options,
+    load,
+    say,
+    table_text,
+)
 
 _PROGRESS_NOTE = (
     "Progress to the event's start is assumed as planned in the unimpacted schedule "
@@ -48,16 +58,16 @@ def _impact_text(r: ImpactResult) -> str:
     for h in r.hold_ups:
         how = next((rep.how for rep in r.represented if rep.event == h.event), "")
         lines.append(f"{h.activity} extended by {h.days} working days ({how})")
-    out = "\n".join(lines) + "\n\nMilestones\n" + to_text(milestones_table(r))
+    out = "\n".join(lines) + "\n\nMilestones\n" + table_text(milestones_table(r))
     if r.float_consumed:
-        out += "\nTotal float consumed or gained on the paths touched (working days)\n" + to_text(float_table(r))
+        out += "\nTotal float consumed or gained on the paths touched (working days)\n" + table_text(float_table(r))
     out += f"\nLongest path after ({len(r.critical_path)} activities): " + " -> ".join(r.critical_path) + "\n"
     return out
 
 
 def _warn(warnings) -> None:
     for w in warnings:
-        click.echo(f"warning: {w}", err=True)
+        say(f"warning: {w}", err=True)
 
 
 @main.command("impact")
@@ -98,7 +108,7 @@ def impact_command(
     states it lost (days_lost), else as the days estimated from the record;
     one that can be none of these is reported as not represented.
 
-    Example: forensic impact casefiles/riverside --event EV03 --json
+    Example: forensic impact forensic-demo/riverside --event EV03 --json
 
     """
     if not events and not all_events:
@@ -123,7 +133,7 @@ def impact_command(
                    f"(AACE RP 29R-03 MIP 3.7), impacts in {run.unit}")
         if progress_to_event:
             click.echo(_PROGRESS_NOTE)
-        emit(to_text(contemporaneous_table(run)))
+        emit(table_text(contemporaneous_table(run)))
         click.echo(f"\nTotal {run.total} {run.unit}; the windows analysis measures {run.windows_total} over the "
                    f"record: a difference of {run.difference_from_windows:+d}.")
         return
@@ -138,11 +148,11 @@ def impact_command(
             emit(to_csv(series_table(series)))
             return
         c = series.cumulative
-        click.echo(f"{cf.project.name}: {len(series.individual)} events, impacts in {series.unit}")
+        say(f"{cf.project.name}: {len(series.individual)} events, impacts in {series.unit}")
         if progress_to_event:
-            click.echo(_PROGRESS_NOTE)
-        emit(to_text(series_table(series)))
-        click.echo(
+            say(_PROGRESS_NOTE)
+        emit(table_text(series_table(series)))
+        say(
             f"\nCumulative into {c.into} (data date {cf.snapshot(c.into).data_date.isoformat()}): "
             f"{c.completion_before.isoformat()} -> {c.completion_after.isoformat()}, "
             f"{c.impact} {series.unit}. Sum of impacts alone: {series.sum_of_individual}; "
@@ -167,7 +177,7 @@ def impact_command(
         rows = tuple((r.event, r.into, *row) for r, t in zip(results, tables, strict=True) for row in t.rows)
         emit(to_csv(Table("impact-milestones", ("event", "into", *tables[0].columns), rows)))
         return
-    click.echo("\n".join(_impact_text(r) for r in results), nl=False)
+    click.echo(fit("\n".join(_impact_text(r) for r in results)), nl=False)
 
 
 @main.command("but-for")
@@ -186,7 +196,7 @@ def but_for_command(
     turn and then all owner delays together, reschedules, and reports the
     but-for completion and its difference from the as-built completion.
 
-    Example: forensic but-for casefiles/riverside --party OWN
+    Example: forensic but-for forensic-demo/riverside --party OWN
 
     """
     if party and event:
@@ -202,16 +212,16 @@ def but_for_command(
         emit(to_csv(but_for_table(report)))
         return
     b = report.as_built
-    click.echo(f"{cf.project.name}: as-built from {b.source}, completion {b.completion.isoformat()}")
-    click.echo(f"Pinned where logic does not explain the start: {' '.join(b.pins) or 'none'}")
+    say(f"{cf.project.name}: as-built from {b.source}, completion {b.completion.isoformat()}")
+    say(f"Pinned where logic does not explain the start: {' '.join(b.pins) or 'none'}")
     for p, s, t, n, lag in b.relinked:
-        click.echo(f"Relinked (actual dates contradict it): {p} -> {s} {t} now {n}" + (f" lag {lag}" if n != "dropped" else ""))
-    click.echo("\nDelays in the as-built")
-    emit(to_text(as_built_table(report)))
-    click.echo("\nBut-for cases")
-    emit(to_text(but_for_table(report)))
+        say(f"Relinked (actual dates contradict it): {p} -> {s} {t} now {n}" + (f" lag {lag}" if n != "dropped" else ""))
+    say("\nDelays in the as-built")
+    emit(table_text(as_built_table(report)))
+    say("\nBut-for cases")
+    emit(table_text(but_for_table(report)))
     for e in b.events:
         if e.how == "not-represented":
-            click.echo(f"{e.event} not represented: {e.why}")
+            say(f"{e.event} not represented: {e.why}")
     if report.overlap is not None:
-        click.echo(f"\nOverlap: {report.overlap}. {report.overlap_note}")
+        say(f"\nOverlap: {report.overlap}. {report.overlap_note}")

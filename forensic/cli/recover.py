@@ -15,9 +15,9 @@ from ..recovery import (
     recovery_json,
     recovery_plan_table,
 )
-from ..tables import to_csv, to_text
+from ..tables import to_csv
 from ._base import main
-from ._common import casefile_argument, emit, emit_json, emit_xlsx, format_options, load
+from ._common import casefile_argument, emit, emit_json, emit_xlsx, format_options, load, table_text
 
 
 @main.command("recover")
@@ -84,12 +84,12 @@ def recover_command(
             "found are shown (raise --time-limit to prove them).\n"
         )
     if plan.shortenings:
-        emit(to_text(recovery_plan_table(result)))
+        emit(table_text(recovery_plan_table(result)))
     else:
         click.echo("The current schedule already meets the target; nothing is shortened.")
     if result.curve:
         click.echo(f"\nTime-cost curve (least cost per working day of calendar {cal} recovered):")
-        emit(to_text(recovery_curve_table(result)))
+        emit(table_text(recovery_curve_table(result)))
     for w in result.warnings:
         click.echo(f"warning: {w}", err=True)
     click.echo("\nThese figures support, and do not replace, the judgement of a qualified scheduling professional.")

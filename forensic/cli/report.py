@@ -21,7 +21,7 @@ from ._progress import status_printer
     default=DEFAULT_TEMPLATE,
     show_default=True,
     metavar="NAME",
-    help=f"A template of report_templates/ ({', '.join(builtin_templates()) or 'none found'}) or a path to your own .toml.",
+    help=f"A shipped template ({', '.join(builtin_templates()) or 'none found'}) or a path to your own .toml.",
 )
 @click.option(
     "--out",
@@ -42,7 +42,7 @@ def report_command(casefile: Path, template_name: str, out: Path | None, recover
     settings give a byte-identical PDF; the file is written atomically and
     never over a casefile input.
 
-    Example: forensic report casefiles/riverside --template monthly --out riverside-monthly.pdf
+    Example: forensic report forensic-demo/riverside --template monthly --out riverside-monthly.pdf
 
     """
     template = load_template(template_name)
@@ -57,4 +57,4 @@ def report_command(casefile: Path, template_name: str, out: Path | None, recover
     pdf = build_report(cf, template, command=command, recover_days=recover_days, progress=status_printer("report"))
     protected = [cf.root / rel for rel in cf.inputs] if cf.root is not None else []
     atomic_write(out, pdf, protected)
-    click.echo(f"wrote {out} ({template.title}, {len(pdf) // 1024} KiB)")
+    click.echo(f"wrote {out} ({template.title}, {len(pdf) // 1024} KiB)", err=True)

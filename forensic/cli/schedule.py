@@ -7,7 +7,7 @@ from pathlib import Path
 import click
 
 from ..engine import schedule_snapshot
-from ..tables import schedule_json, schedule_table, to_csv, to_text
+from ..tables import schedule_json, schedule_table, to_csv
 from ._base import main
 from ._common import (
     casefile_argument,
@@ -17,6 +17,8 @@ from ._common import (
     format_options,
     load,
     pick_format,
+    say,
+    table_text,
 )
 
 
@@ -31,9 +33,9 @@ def schedule_command(casefile: Path, snapshot_id: str | None, as_json: bool, as_
     activity's calendar), the critical flag, the driving predecessors and the
     longest path traced back from the completion (AACE RP 49R-06).
 
-    Example: forensic schedule casefiles/riverside --snapshot U03 --json
+    Example: forensic schedule forensic-demo/riverside --snapshot U03 --json
 
-    Example: forensic schedule casefiles/riverside --xlsx u10.xlsx
+    Example: forensic schedule forensic-demo/riverside --xlsx u10.xlsx
 
     """
     cf = load(casefile)
@@ -49,15 +51,17 @@ def schedule_command(casefile: Path, snapshot_id: str | None, as_json: bool, as_
         emit(to_csv(table))
         return
     p = cf.project
-    click.echo(f"{p.name}: snapshot {snap.id}, data date {snap.data_date.isoformat()}")
+    say(f"{p.name}: snapshot {snap.id}, data date {snap.data_date.isoformat()}")
     line = f"Forecast completion ({result.completion_id}): {result.completion.isoformat()}"
     if result.completion_float is not None:
         line += f", total float {result.completion_float} working days"
-    click.echo(line)
+    say(line)
     if p.contract_completion is not None:
         late = (result.completion - p.contract_completion).days
         where = f"{abs(late)} calendar days {'after' if late > 0 else 'before'} it" if late else "on it"
-        click.echo(f"Contract completion: {p.contract_completion.isoformat()} (forecast {where})")
-    click.echo("Dates are inclusive working days; floats in working days of each activity's calendar.\n")
-    emit(to_text(table))
-    click.echo(f"\nLongest path ({len(result.longest_path)} activities): " + " -> ".join(result.longest_path))
+        say(f"Contract completion: {p.contract_completion.isoformat()} (forecast {where})")
+    say("Dates are inclusive working days; floats in working days of each activity's calendar.\n")
+    keep = ("id", "name", "total_float", "critical", "early_start", "early_finish", "status", "late_start",
+            "late_finish", "free_float", "longest_path")  # the columns kept longest at a narrow terminal
+    emit(table_text(table, keep=keep))
+    say(f"\nLongest path ({len(result.longest_path)} activities): " + " -> ".join(result.longest_path))

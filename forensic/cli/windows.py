@@ -15,7 +15,7 @@ from ..attribution import (
     delay_json,
     ledger_table,
 )
-from ..tables import to_csv, to_text
+from ..tables import to_csv
 from ..windows import windows_table
 from ._base import main
 from ._common import (
@@ -26,8 +26,16 @@ from ._common import (
     format_options,
     load,
     pick_format,
+    say,
     status,
+    table_text,
 )
+
+# The columns kept longest when a text table must fit a narrow terminal (--wide shows all).
+_WINDOW_KEEP = ("window", "slip", "completion_before", "completion_after", "progress_slip", "revision_slip",
+                "half_step_completion")
+_LEDGER_KEEP = ("window", "total", "excusable_compensable", "excusable_noncompensable", "non_excusable",
+                "concurrent", "gains")
 
 _TABLES = ("windows", "contributors", "ledger", "cumulative", "as-built")
 
@@ -39,9 +47,10 @@ _TABLES = ("windows", "contributors", "ledger", "cumulative", "as-built")
     help="Comma-separated snapshot ids that bound the windows, e.g. U01,U04,U08 "
     "(the baseline and the last update are always added).",
 )
-@click.option("--table", type=click.Choice(_TABLES), default="windows", show_default=True, help="Table printed by --csv.")
+@click.option("--table", type=click.Choice(_TABLES), default=None,
+              help="Table printed by --csv (default: windows); refused without --csv.")
 @format_options
-def windows_command(casefile: Path, bounds: str | None, table: str, as_json: bool, as_csv: bool) -> None:
+def windows_command(casefile: Path, bounds: str | None, table: str | None, as_json: bool, as_csv: bool) -> None:
     """Windows analysis of CASEFILE with the half-step split and the delay ledger.
 
     For each window between updates: completion before and after, the slip
@@ -50,9 +59,12 @@ def windows_command(casefile: Path, bounds: str | None, table: str, as_json: boo
     parties it is attributed to, concurrent days, and the ledger (AACE RP
     29R-03 protocols 3.3/3.4; SCL Protocol 2nd ed.). Rules: docs/windows.md.
 
-    Example: forensic windows casefiles/riverside --windows U02,U04 --json
+    Example: forensic windows forensic-demo/riverside --windows U02,U04 --json
 
     """
+    if table is not None and not as_csv:
+        raise click.UsageError("--table chooses the table printed by --csv: add --csv")
+    table = table or "windows"
     status(f"Loading {casefile} ...")
     cf = load(casefile)
     ids = [s.strip() for s in bounds.split(",") if s.strip()] if bounds else None
@@ -74,24 +86,24 @@ def windows_command(casefile: Path, bounds: str | None, table: str, as_json: boo
         emit(to_csv(tables[table]()))
         return
     led = an.ledger
-    click.echo(f"{cf.project.name}: windows analysis, slips in {an.unit} (a gain is negative)")
-    click.echo(
+    say(f"{cf.project.name}: windows analysis, slips in {an.unit} (a gain is negative)")
+    say(
         f"Baseline completion {led.baseline_completion.isoformat()}, last update "
         f"{led.last_completion.isoformat()}: total slip {led.total_slip}.\n"
     )
-    emit(to_text(tables["windows"]()))
-    click.echo("\nContributors (progress) and revision shares:")
-    emit(to_text(tables["contributors"]()))
+    emit(table_text(tables["windows"](), keep=_WINDOW_KEEP))
+    say("\nContributors (progress) and revision shares:")
+    emit(table_text(tables["contributors"]()))
     conc = concurrency_table(an)
-    click.echo("\nConcurrency (but-for in each window):")
+    say("\nConcurrency (but-for in each window):")
     if conc.rows:
-        emit(to_text(conc))
+        emit(table_text(conc))
     else:
-        click.echo("no concurrent days in any window")
-    click.echo(f"Rule: {CONCURRENCY_RULE}.")
-    click.echo("\nLedger per window:")
-    emit(to_text(tables["ledger"]()))
-    click.echo("\nLedger cumulative:")
-    emit(to_text(tables["cumulative"]()))
-    click.echo("\nThe ledger " + ("balances" if led.balanced else "DOES NOT balance") + " to the total slip.")
-    click.echo("Results support, and do not replace, a qualified scheduling professional's judgement.")
+        say("no concurrent days in any window")
+    say(f"Rule: {CONCURRENCY_RULE}.")
+    say("\nLedger per window:")
+    emit(table_text(tables["ledger"](), keep=_LEDGER_KEEP))
+    say("\nLedger cumulative:")
+    emit(table_text(tables["cumulative"](), keep=_LEDGER_KEEP))
+    say("\nThe ledger " + ("balances" if led.balanced else "DOES NOT balance") + " to the total slip.")
+    say("Results support, and do not replace, a qualified scheduling professional's judgement.")
