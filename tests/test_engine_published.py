@@ -94,3 +94,79 @@ def test_engine_matches_the_published_network(engine):
         assert got == want, a
         assert x.critical == (a in CRITICAL)
     assert [a for a in r.longest_path if a != "FIN"] == CRITICAL
+
+
+# ---------------------------------------------------------------------------
+# A precedence-diagramming network with start-to-start links.
+#
+# Source of the network (activities, durations, relationships): course
+# module "Network Construction - Precedence Diagram Method" (15 March 2019),
+# as found through the search tool in a stored page (aggregated at
+# https://huggingface.co/datasets/nvidia/Nemotron-CC-Math-v1). Its activity
+# table: A 2 (none); B 10 (A, S-S); C 13 (A); D 12 (A); E 12 (B); F 7 (B);
+# G 10 (D); H 16 (D); I 6 (F); J 12 (C, G S-S); K 5 (I S-S); L 8 (E, I, K);
+# M 5 (H); N 3 (G, J, L, M); all lags zero. The excerpt seen did not carry
+# the module's answer table, so every number below is HAND-WORKED here and
+# cross-checked with networkx and the reference engine. It has SS links but
+# no FF lags; the FF rules are covered by tests/test_engine_rules.py.
+PDM = {
+    "A": (2, []), "B": (10, [("A", "SS")]), "C": (13, [("A", "FS")]), "D": (12, [("A", "FS")]),
+    "E": (12, [("B", "FS")]), "F": (7, [("B", "FS")]), "G": (10, [("D", "FS")]),
+    "H": (16, [("D", "FS")]), "I": (6, [("F", "FS")]), "J": (12, [("C", "FS"), ("G", "SS")]),
+    "K": (5, [("I", "SS")]), "L": (8, [("E", "FS"), ("I", "FS"), ("K", "FS")]),
+    "M": (5, [("H", "FS")]), "N": (3, [("G", "FS"), ("J", "FS"), ("L", "FS"), ("M", "FS")]),
+}
+# Hand working, forward: A 0-2; B SS A 0-10; C 2-15; D 2-14; E 10-22; F 10-17;
+#   G 14-24; H 14-30; I 17-23; J max(C 15, G's start 14) = 15-27;
+#   K SS I 17-22; L max(22, 23, 22) = 23-31; M 30-35; N max(24, 27, 31, 35) = 35-38.
+# Backward from 38: N 35-38; M 30-35; L 27-35; J 23-35; K (FS L) 22-27;
+#   I min(LF by L 27, LS of K 22 + 6 = 28) -> 21-27; H 14-30;
+#   G min(N 35, LS of J 23 + 10 = 33) -> 23-33; F (I) 14-21; E (L) 15-27;
+#   D min(G 23, H 14) -> 2-14; C (J) 10-23; B min(E 15, F 14) -> 4-14;
+#   A min(LS of B 4 + 2 = 6, C 10, D 2) -> 0-2.
+PDM_HAND = {  # activity: (ES, EF, LS, LF, total float), hand-worked
+    "A": (0, 2, 0, 2, 0), "B": (0, 10, 4, 14, 4), "C": (2, 15, 10, 23, 8), "D": (2, 14, 2, 14, 0),
+    "E": (10, 22, 15, 27, 5), "F": (10, 17, 14, 21, 4), "G": (14, 24, 23, 33, 9),
+    "H": (14, 30, 14, 30, 0), "I": (17, 23, 21, 27, 4), "J": (15, 27, 23, 35, 8),
+    "K": (17, 22, 22, 27, 5), "L": (23, 31, 27, 35, 4), "M": (30, 35, 30, 35, 0),
+    "N": (35, 38, 35, 38, 0),
+}
+PDM_CRITICAL = ["A", "D", "H", "M", "N"]  # 2 + 12 + 16 + 5 + 3 = 38, hand-worked
+
+
+def test_networkx_start_finish_graph_agrees_with_the_pdm_hand_working():
+    # Independent check (networkx): each activity as a start node and a finish
+    # node joined by its duration; FS joins finish to start, SS start to start.
+    g = nx.DiGraph()
+    for a, (d, preds) in PDM.items():
+        g.add_edge(("s", a), ("f", a), weight=d)
+        g.add_edge("BEGIN", ("s", a), weight=0)
+        g.add_edge(("f", a), "END", weight=0)
+        for p, typ in preds:
+            g.add_edge(("f" if typ == "FS" else "s", p), ("s", a), weight=0)
+    neg = {(u, v): -e["weight"] for u, v, e in g.edges(data=True)}
+    w = lambda u, v, e: neg[u, v]  # noqa: E731
+    assert nx.dag_longest_path_length(g) == 38
+    for a, (es, ef, ls, lf, tf) in PDM_HAND.items():
+        assert -nx.bellman_ford_path_length(g, "BEGIN", ("s", a), weight=w) == es, a
+        # Late start = 38 less the longest path from its start node (an
+        # activity is not split, so its late finish is late start + duration).
+        assert 38 + nx.bellman_ford_path_length(g, ("s", a), "END", weight=w) == ls, a
+        assert (ef - es, lf - ls, lf - ef) == (PDM[a][0], PDM[a][0], tf), a
+
+
+@pytest.mark.parametrize("engine", [schedule, reference_engine.schedule])
+def test_engine_matches_the_pdm_network_with_start_to_start_links(engine):
+    acts = [Activity(a, a, d) for a, (d, _) in PDM.items()]
+    acts.append(Activity("FIN", "finish", 0, kind="closing-milestone"))
+    links = [Link(p, a, typ) for a, (_, preds) in PDM.items() for p, typ in preds] + [Link("N", "FIN")]
+    snap = Snapshot("BL", BASE, frozen_mapping({a.id: a for a in acts}), tuple(links))
+    r = engine(snap, {"7d": SEVEN}, Project("t", "7d", completion="FIN"))
+    assert r.completion == BASE + timedelta(days=38 - 1)
+    for a, (es, ef, ls, lf, tf) in PDM_HAND.items():
+        x = r[a]
+        got = (x.early_start, x.early_finish, x.late_start, x.late_finish, x.total_float)
+        want = (BASE + timedelta(es), BASE + timedelta(ef - 1), BASE + timedelta(ls), BASE + timedelta(lf - 1), tf)
+        assert got == want, a
+        assert x.critical == (a in PDM_CRITICAL)
+    assert [a for a in r.longest_path if a != "FIN"] == PDM_CRITICAL
