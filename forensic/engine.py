@@ -111,8 +111,12 @@ class ScheduleResult:
     when the snapshot has it, else the activity that finishes last);
     ``completion`` its finish date and ``completion_float`` its total float.
     ``longest_path`` lists the activities reached back from the completion
-    through driving links, in date order. ``order`` is a topological order of
-    the activity ids.
+    through driving links, in date order (the union of the chains);
+    ``longest_paths`` the same activities as separate chains, each running
+    from an activity with no driving predecessor to the completion through
+    driving links, so tied or parallel paths are never joined (at most
+    ``_MAX_CHAINS`` chains, in driving-link order). ``order`` is a
+    topological order of the activity ids.
     """
 
     snapshot_id: str
@@ -124,6 +128,7 @@ class ScheduleResult:
     longest_path: tuple[str, ...]
     order: tuple[str, ...]
     warnings: tuple[str, ...] = ()
+    longest_paths: tuple[tuple[str, ...], ...] = ()
 
     def __getitem__(self, activity_id: str) -> ScheduledActivity:
         return self.activities[activity_id]
@@ -558,6 +563,7 @@ def _schedule(
         longest_path=tuple(ids[i] for i in path),
         order=tuple(ids[i] for i in net.node_order.tolist()),
         warnings=tuple(_open_end_warnings(snapshot.id, net, comp)),
+        longest_paths=tuple(tuple(ids[i] for i in c) for c in _chains(comp, driving_of)),
     )
 
 
@@ -844,6 +850,31 @@ def _longest_path(net: _Network, comp: int, driving_of, start_day: np.ndarray) -
     rank = {i: r for r, i in enumerate(net.node_order.tolist())}
     sd = start_day.tolist()
     return sorted(on_path, key=lambda i: (sd[i], rank[i]))
+
+
+_MAX_CHAINS = 50  # ties multiply chains; past this many the union alone is the answer
+
+
+def _chains(comp: int, driving_of) -> list[list[int]]:
+    """The longest path as separate chains, each contiguous through driving links.
+
+    Every chain runs from an activity with no driving predecessor to the
+    completion, each step a driving link (AACE RP 49R-06: the path is traced
+    back from the completion through driving relationships); two tied paths
+    are two chains. Depth-first from the completion, predecessors in
+    driving-link order, at most ``_MAX_CHAINS`` chains.
+    """
+    chains: list[list[int]] = []
+    stack: list[tuple[int, list[int]]] = [(comp, [comp])]
+    while stack and len(chains) < _MAX_CHAINS:
+        i, tail = stack.pop()
+        preds = [p for p in driving_of(i) if p not in tail]
+        if not preds:
+            chains.append(tail[::-1])
+            continue
+        for p in reversed(preds):
+            stack.append((p, [*tail, p]))
+    return chains
 
 
 def _open_end_warnings(sid: str, net: _Network, comp: int) -> list[str]:

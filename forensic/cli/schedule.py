@@ -52,4 +52,6 @@ def schedule_command(casefile: Path, snapshot_id: str | None, as_json: bool, as_
         click.echo(f"Contract completion: {p.contract_completion.isoformat()} (forecast {where})")
     click.echo("Dates are inclusive working days; floats in working days of each activity's calendar.\n")
     emit(to_text(table))
-    click.echo(f"\nLongest path ({len(result.longest_path)} activities): " + " -> ".join(result.longest_path))
+    click.echo(f"\nLongest path ({len(result.longest_path)} activities): " + ", ".join(result.longest_path))
+    for n, chain in enumerate(result.longest_paths, 1):
+        click.echo(f"  chain {n} ({len(chain)} activities): " + " -> ".join(chain))
