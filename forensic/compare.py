@@ -124,6 +124,8 @@ class Comparison:
     old_critical: tuple[str, ...]
     new_critical: tuple[str, ...]
     changes: tuple[Change, ...]
+    old_longest_paths: tuple[tuple[str, ...], ...] = ()  # the longest path as chains (engine's longest_paths)
+    new_longest_paths: tuple[tuple[str, ...], ...] = ()
 
     def of_kind(self, kind: str) -> tuple[Change, ...]:
         return tuple(c for c in self.changes if c.kind == kind)
@@ -241,6 +243,8 @@ def compare_snapshots(casefile: Casefile, old_id: str, new_id: str) -> Compariso
         old_critical=old_r.critical_ids,
         new_critical=new_r.critical_ids,
         changes=tuple(changes),
+        old_longest_paths=old_r.longest_paths,
+        new_longest_paths=new_r.longest_paths,
     )
 
 
@@ -372,10 +376,10 @@ def compare_json(comparison: Comparison) -> dict[str, Any]:
     return {
         "old": {"snapshot": c.old_id, "data_date": c.old_data_date, "completion": c.old_completion,
                 "completion_float": c.old_completion_float, "longest_path": list(c.old_longest_path),
-                "critical": list(c.old_critical)},
+                "longest_paths": [list(x) for x in c.old_longest_paths], "critical": list(c.old_critical)},
         "new": {"snapshot": c.new_id, "data_date": c.new_data_date, "completion": c.new_completion,
                 "completion_float": c.new_completion_float, "longest_path": list(c.new_longest_path),
-                "critical": list(c.new_critical)},
+                "longest_paths": [list(x) for x in c.new_longest_paths], "critical": list(c.new_critical)},
         "completion_activity": c.completion_id,
         "completion_change_days": c.completion_change_days,
         "completion_change_workdays": c.completion_change_workdays,

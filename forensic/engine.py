@@ -111,8 +111,12 @@ class ScheduleResult:
     when the snapshot has it, else the activity that finishes last);
     ``completion`` its finish date and ``completion_float`` its total float.
     ``longest_path`` lists the activities reached back from the completion
-    through driving links, in date order. ``order`` is a topological order of
-    the activity ids.
+    through driving links, in date order (the union of the chains);
+    ``longest_paths`` the same activities as separate chains, each running
+    from an activity with no driving predecessor to the completion through
+    driving links, so tied or parallel paths are never joined (at most
+    ``_MAX_CHAINS`` chains, in driving-link order). ``order`` is a
+    topological order of the activity ids.
     """
 
     snapshot_id: str
@@ -124,6 +128,7 @@ class ScheduleResult:
     longest_path: tuple[str, ...]
     order: tuple[str, ...]
     warnings: tuple[str, ...] = ()
+    longest_paths: tuple[tuple[str, ...], ...] = ()
 
     def __getitem__(self, activity_id: str) -> ScheduledActivity:
         return self.activities[activity_id]
@@ -481,6 +486,47 @@ class _Network:
         self.extent = int(durations.sum() + remaining.sum() + np.abs(self.lag).sum()) + 10
 
 
+@dataclass(slots=True)
+class _Grid:
+    """The calendars of one horizon as stacked arrays.
+
+    ``first_at[c, t - lo]`` is the first working-day boundary of calendar
+    ``c`` on or after calendar day ``t``; ``days[c, k]`` the calendar day of
+    its working day ``k``. Past the horizon ``days`` holds ``sentinel``, a day
+    far beyond it: a pass that reads it fails its look-up, which widens the
+    horizon (:func:`schedule`).
+    """
+
+    lo: int
+    indices: list[WorkdayIndex]
+    days: np.ndarray
+    first_at: np.ndarray
+    width: int
+    sentinel: int
+
+
+@dataclass(slots=True)
+class _Early:
+    """The forward pass: early boundaries and dates of every activity.
+
+    ``es``/``ef`` are the early start and finish boundaries of the work still
+    to do (its remaining work for an activity in progress); ``S``/``F`` the
+    boundaries its links are timed from and ``start_day``/``finish_day`` its
+    reported dates (actual where known). ``cand`` holds, per link, the start
+    boundary that link asks of its successor; ``dd_k`` the data date's first
+    boundary on each activity's calendar.
+    """
+
+    es: np.ndarray
+    ef: np.ndarray
+    S: np.ndarray
+    F: np.ndarray
+    start_day: np.ndarray
+    finish_day: np.ndarray
+    cand: np.ndarray
+    dd_k: np.ndarray
+
+
 def _schedule(
     snapshot: Snapshot,
     net: _Network,
@@ -490,14 +536,39 @@ def _schedule(
     lo: int,
     hi: int,
 ) -> ScheduleResult:
-    acts, ids, n, pos = net.acts, net.ids, net.n, net.pos
-    cal, status, dur, s_late, f_late = net.cal, net.status, net.dur, net.s_late, net.f_late
-    act_start, act_finish, constrained = net.act_start, net.act_finish, net.constrained
-    lp, lsu, ltyp, lag, m = net.lp, net.lsu, net.ltyp, net.lag, net.m
-    start_type, on_finish = net.start_type, net.on_finish
-    level, nlev, node_order, node_starts = net.level, net.nlev, net.node_order, net.node_starts
+    """Schedule a compiled network on the horizon ``lo``..``hi``, one named step after another.
 
-    # Calendars as stacked arrays: first_at[c, t - lo] and days[c, k].
+    Raises :class:`_HorizonTooShort` (or ``IndexError``) when a pass runs off
+    the horizon; :func:`schedule` then widens it and calls again.
+    """
+    grid = _grid(net, lo, hi)
+    active, back_active = _compile_links(net, logic)
+    early_bound, late_bound = _constraint_bounds(net, grid)
+    early = _forward_pass(net, grid, active, early_bound, day_number(snapshot.data_date))
+    comp = _completion(net, project, early)
+    lf, early_f, ls_ = _backward_pass(net, grid, back_active, late_bound, early, int(early.F[comp]))
+    cols = _floats(net, grid, early, lf, early_f, ls_, crit)
+    driving_of = _driving_links(net, active, early)
+    path = _longest_path(net, comp, driving_of, early.start_day)
+    ids = net.ids
+    table = _ActivityTable(ids, cols, driving_of)
+    comp_act = table[ids[comp]]
+    return ScheduleResult(
+        snapshot_id=snapshot.id,
+        data_date=snapshot.data_date,
+        completion_id=ids[comp],
+        completion=comp_act.early_finish,
+        completion_float=comp_act.total_float,
+        activities=table,
+        longest_path=tuple(ids[i] for i in path),
+        order=tuple(ids[i] for i in net.node_order.tolist()),
+        warnings=tuple(_open_end_warnings(snapshot.id, net, comp)),
+        longest_paths=tuple(tuple(ids[i] for i in c) for c in _chains(comp, driving_of)),
+    )
+
+
+def _grid(net: _Network, lo: int, hi: int) -> _Grid:
+    """Stack the working-day indices of the network's calendars on one horizon."""
     indices = [workday_index(c, lo, hi) for c in net.calendars]
     width = max(ix.size for ix in indices) + 1
     sentinel = hi + 10**7  # a day far past the horizon: using it fails the look-up, widening it
@@ -506,59 +577,99 @@ def _schedule(
     for c, ix in enumerate(indices):
         days[c, : ix.size] = ix.days_array
         first_at[c] = ix.first_at
+    return _Grid(lo, indices, days, first_at, width, sentinel)
 
-    dd = day_number(snapshot.data_date)
-    dd_k = first_at[cal, dd - lo]  # first boundary of remaining work, per activity
+
+def _compile_links(net: _Network, logic: str) -> tuple[np.ndarray, np.ndarray]:
+    """Which links hold in the forward pass and which in the backward pass.
+
+    Forward pass: a link into work not started always holds. Into an
+    activity in progress, under ``retained`` logic FS, FF and SF links still
+    hold its remaining work (an SS link is satisfied by its actual start);
+    under ``override`` none does (AACE RP 29R-03, sec. 2.2; common practice).
+    A link into finished work holds nothing.
+
+    Backward pass: the forward-pass links, less those from finished work
+    (which constrain nothing) and the start-type links (SS, SF) from work
+    already started, which its actual start satisfies, so they do not pull
+    the late finish of its remaining work (AACE RP 49R-06; common CPM
+    practice for progress).
+    """
+    status, lp, lsu, ltyp = net.status, net.lp, net.lsu, net.ltyp
     succ_status = status[lsu]
     held = succ_status == 1
     if logic == "override":
         active = succ_status == 0
     else:
         active = (succ_status == 0) | (held & (ltyp != 1))
-    # Backward pass links (AACE RP 49R-06; common CPM practice for progress):
-    # a link from finished work constrains nothing, and a start-type link
-    # (SS, SF) from work already started is satisfied by its actual start,
-    # so it does not limit the late finish of the remaining work.
-    back_active = active & (status[lp] != 2) & ~(start_type & (status[lp] == 1))
+    back_active = active & (status[lp] != 2) & ~(net.start_type & (status[lp] == 1))
+    return active, back_active
 
-    early_bound = np.full(n, -_BIG, dtype=np.int64)
-    late_bound = np.full(n, _BIG, dtype=np.int64)
-    for i in constrained:
+
+def _constraint_bounds(net: _Network, grid: _Grid) -> tuple[np.ndarray, np.ndarray]:
+    """The lowest start boundary and highest finish boundary each date constraint allows.
+
+    The "-from" and "-fixed" kinds bound the early dates, the "-by" and
+    "-fixed" kinds the late dates; a start constraint on work already started
+    binds nothing, and finished work is fixed at its actual dates (the six
+    constraint kinds of the casefile format; common CPM practice).
+    """
+    status, dur, cal = net.status, net.dur, net.cal
+    early_bound = np.full(net.n, -_BIG, dtype=np.int64)
+    late_bound = np.full(net.n, _BIG, dtype=np.int64)
+    for i in net.constrained:
         if status[i] == 2:
             continue
-        ix = indices[cal[i]]
-        e = _early_constraint_bound(acts[i], int(status[i]), int(dur[i]), ix, lo, bool(s_late[i]), bool(f_late[i]))
-        early_bound[i] = e
-        lb = _late_constraint_bound(acts[i], int(status[i]), int(dur[i]), ix, lo, bool(s_late[i]), bool(f_late[i]))
+        ix = grid.indices[cal[i]]
+        args = (net.acts[i], int(status[i]), int(dur[i]), ix, grid.lo, bool(net.s_late[i]), bool(net.f_late[i]))
+        early_bound[i] = _early_constraint_bound(*args)
+        lb = _late_constraint_bound(*args)
         if lb is not None:
             late_bound[i] = lb
+    return early_bound, late_bound
+
+
+def _forward_pass(net: _Network, grid: _Grid, active: np.ndarray, early_bound: np.ndarray, dd: int) -> _Early:
+    """Early dates, one topological level at a time (Kelley and Walker 1959).
+
+    Finished work keeps its actual dates. Every other activity starts at the
+    latest of: the data date's first working day on its calendar, its
+    early-date constraint, and what each holding link asks. A link passes
+    the calendar day of its predecessor's start (SS, SF) or the day after its
+    finish (FS, FF); the successor takes its first working day on or after it
+    and adds the lag in its own working days, less its duration when the link
+    holds its finish (FF, SF). Work in progress reports its actual start.
+    """
+    n, m, lo = net.n, net.m, grid.lo
+    cal, status, dur, f_late = net.cal, net.status, net.dur, net.f_late
+    act_start, act_finish = net.act_start, net.act_finish
+    lp, lsu, lag, start_type, on_finish = net.lp, net.lsu, net.lag, net.start_type, net.on_finish
+    node_order, node_starts, nlev = net.node_order, net.node_starts, net.nlev
+    days, first_at = grid.days, grid.first_at
+    dd_k = first_at[cal, dd - lo]  # first boundary of remaining work, per activity
 
     # Finished work: fixed at its actual dates.
     S = np.zeros(n, dtype=np.int64)
     F = np.zeros(n, dtype=np.int64)
     start_day = np.zeros(n, dtype=np.int64)
     finish_day = np.zeros(n, dtype=np.int64)
-    done = net.done
-    zero_task = net.zero
-    start_ms = net.start_ms
+    done, zero_task, start_ms = net.done, net.zero, net.start_ms
     S[done] = np.where(start_ms[done], act_start[done], np.where(zero_task[done], act_finish[done] + 1, act_start[done]))
     F[done] = np.where(start_ms[done], act_start[done], act_finish[done] + 1)
     start_day[done] = act_start[done]
     finish_day[done] = act_finish[done]
 
-    # Forward pass, one level at a time.
     es = np.zeros(n, dtype=np.int64)
     cand = np.full(m, -_BIG, dtype=np.int64)
     fwd = np.flatnonzero(active)
-    fwd_order, fwd_starts = _group(level[lsu[fwd]], nlev)
+    fwd_order, fwd_starts = _group(net.level[lsu[fwd]], nlev)
     fwd = fwd[fwd_order]
     for L in range(nlev):
         nodes = node_order[node_starts[L] : node_starts[L + 1]]
         nodes = nodes[status[nodes] != 2]
         if nodes.size == 0:
             continue
-        best = np.maximum(dd_k[nodes], early_bound[nodes])
-        es[nodes] = best
+        es[nodes] = np.maximum(dd_k[nodes], early_bound[nodes])
         links = fwd[fwd_starts[L] : fwd_starts[L + 1]]
         if links.size:
             p = lp[links]
@@ -585,26 +696,48 @@ def _schedule(
         S[nodes] = np.where(prog, act_start[nodes], np.where(zero, inst, day_e))
         start_day[nodes] = np.where(prog, act_start[nodes], np.where(zero, report, day_e))
     ef = es + dur
-    if (F > sentinel // 2).any() or (finish_day > sentinel // 2).any():
+    if (F > grid.sentinel // 2).any() or (finish_day > grid.sentinel // 2).any():
         raise _HorizonTooShort
+    return _Early(es, ef, S, F, start_day, finish_day, cand, dd_k)
 
-    # Completion: the named milestone, else the activity finishing last.
-    comp = pos.get(project.completion) if project.completion else None
+
+def _completion(net: _Network, project: Project, early: _Early) -> int:
+    """The completion: the project's named milestone, else the activity finishing last (first in file order)."""
+    comp = net.pos.get(project.completion) if project.completion else None
     if comp is None:
-        key = np.lexsort((np.arange(n), -finish_day, -F))  # ties: first in file order
+        key = np.lexsort((np.arange(net.n), -early.finish_day, -early.F))
         comp = int(key[0])
-    # The project finish is the completion's early finish; no late finish
-    # may fall after it (the precedence-diagramming backward pass starts
-    # from the project finish and caps every late finish there).
-    t_end = int(F[comp])
+    return comp
 
-    # Backward pass over the work still to schedule, latest level first.
+
+def _backward_pass(
+    net: _Network, grid: _Grid, back_active: np.ndarray, late_bound: np.ndarray, early: _Early, t_end: int
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Late finish boundaries, latest level first; also each activity's free-float limit.
+
+    The pass starts from the project finish ``t_end`` (the completion's
+    early finish) and caps every late finish there, as the
+    precedence-diagramming backward pass does, so a dangling finish gets no
+    late finish after the project's (AACE RP 49R-06; common CPM practice).
+    Each holding link inverts the forward mapping exactly: from the
+    successor's late start (FS, SS) or late finish (FF, SF) less the lag, to
+    the predecessor's finish, plus its duration for a start-type link. A
+    late-date constraint lowers the late finish further. The same mapping
+    from the successors' early dates gives ``early_f``, the limit of free
+    float. Returns ``(lf, early_f, ls)`` as boundaries.
+    """
+    n, lo, nlev = net.n, grid.lo, net.nlev
+    cal, status, dur, s_late, f_late = net.cal, net.status, net.dur, net.s_late, net.f_late
+    lp, lsu, lag, start_type, on_finish = net.lp, net.lsu, net.lag, net.start_type, net.on_finish
+    node_order, node_starts = net.node_order, net.node_starts
+    days, first_at = grid.days, grid.first_at
+    es, ef = early.es, early.ef
     lf = np.full(n, _BIG, dtype=np.int64)
     early_f = np.full(n, _BIG, dtype=np.int64)
     has_succ = np.bincount(lp[back_active], minlength=n) > 0
     k_end = np.where(f_late, first_at[cal, t_end + 1 - lo] - 1, first_at[cal, t_end - lo])
     bwd = np.flatnonzero(back_active)
-    bwd_order, bwd_starts = _group(level[lp[bwd]], nlev)
+    bwd_order, bwd_starts = _group(net.level[lp[bwd]], nlev)
     bwd = bwd[bwd_order]
     ls_ = np.zeros(n, dtype=np.int64)
     for L in range(nlev - 1, -1, -1):
@@ -638,20 +771,55 @@ def _schedule(
         ls_[nodes] = lf[nodes] - dur[nodes]
         if ls_[nodes].min() < 1:
             raise _HorizonTooShort
+    return lf, early_f, ls_
 
+
+def _floats(
+    net: _Network, grid: _Grid, early: _Early, lf: np.ndarray, early_f: np.ndarray, ls_: np.ndarray, crit: int
+) -> dict[str, np.ndarray]:
+    """Total float, free float, the critical flag and the late dates, as result columns.
+
+    Total float is late finish less early finish and free float the room
+    before the earliest successor needs the activity, never more than its
+    total float, both in working days of the activity's own calendar; an
+    activity is critical when its total float is at most ``crit`` (Kelley
+    and Walker 1959; AACE RP 49R-06). Finished work carries no float. An
+    activity in progress keeps its actual start as its late start.
+    """
+    cal, status, dur, f_late, done = net.cal, net.status, net.dur, net.f_late, net.done
+    days, width = grid.days, grid.width
     live = ~done
-    total_float = np.where(live, lf - ef, 0)
-    free_float = np.where(live, np.minimum(early_f - ef, total_float), 0)
+    total_float = np.where(live, lf - early.ef, 0)
+    free_float = np.where(live, np.minimum(early_f - early.ef, total_float), 0)
     critical = live & (total_float <= crit)
     zero_all = dur == 0
     lf_c = np.where(live, lf, 1)
     ls_c = np.where(live, ls_, 1)
     late_day = np.where(f_late, days[cal, np.minimum(lf_c, width - 1)], days[cal, lf_c - 1])
-    late_start_day = np.where(status == 0, np.where(zero_all, late_day, days[cal, ls_c]), start_day)
+    late_start_day = np.where(status == 0, np.where(zero_all, late_day, days[cal, ls_c]), early.start_day)
     late_finish_day = np.where(zero_all, late_day, days[cal, lf_c - 1])
+    return {
+        "status": status,
+        "start_day": early.start_day,
+        "finish_day": early.finish_day,
+        "late_start_day": late_start_day,
+        "late_finish_day": late_finish_day,
+        "total_float": total_float,
+        "free_float": free_float,
+        "critical": critical,
+    }
 
-    # Driving links: those whose timing sets the successor's early start.
-    drv = active & (cand == es[lsu]) & ((status[lp] != 2) | (cand > dd_k[lsu]))
+
+def _driving_links(net: _Network, active: np.ndarray, early: _Early):
+    """The driving predecessors of each activity, as a function of its position.
+
+    A link drives when its timing sets the successor's early start (AACE RP
+    49R-06). A link from finished work drives only when it holds the
+    successor later than the data date.
+    """
+    lp, lsu, n = net.lp, net.lsu, net.n
+    cand, es, dd_k = early.cand, early.es, early.dd_k
+    drv = active & (cand == es[lsu]) & ((net.status[lp] != 2) | (cand > dd_k[lsu]))
     drv_idx = np.flatnonzero(drv)
     d_order = np.argsort(lsu[drv_idx], kind="stable")
     d_succ = lsu[drv_idx][d_order].tolist()
@@ -661,6 +829,16 @@ def _schedule(
     def driving_of(i: int) -> list[int]:
         return d_pred[d_start[i] : d_start[i + 1]]
 
+    return driving_of
+
+
+def _longest_path(net: _Network, comp: int, driving_of, start_day: np.ndarray) -> list[int]:
+    """Every activity reached back from the completion through driving links, in date order.
+
+    The longest path of AACE RP 49R-06 (traced back from the completion
+    through driving relationships); ties of date are broken by topological
+    order.
+    """
     on_path = {comp}
     stack = [comp]
     while stack:
@@ -669,43 +847,48 @@ def _schedule(
             if p not in on_path:
                 on_path.add(p)
                 stack.append(p)
-    order_list = node_order.tolist()
-    rank = {i: r for r, i in enumerate(order_list)}
+    rank = {i: r for r, i in enumerate(net.node_order.tolist())}
     sd = start_day.tolist()
-    path = sorted(on_path, key=lambda i: (sd[i], rank[i]))
+    return sorted(on_path, key=lambda i: (sd[i], rank[i]))
 
+
+_MAX_CHAINS = 50  # ties multiply chains; past this many the union alone is the answer
+
+
+def _chains(comp: int, driving_of) -> list[list[int]]:
+    """The longest path as separate chains, each contiguous through driving links.
+
+    Every chain runs from an activity with no driving predecessor to the
+    completion, each step a driving link (AACE RP 49R-06: the path is traced
+    back from the completion through driving relationships); two tied paths
+    are two chains. Depth-first from the completion, predecessors in
+    driving-link order, at most ``_MAX_CHAINS`` chains.
+    """
+    chains: list[list[int]] = []
+    stack: list[tuple[int, list[int]]] = [(comp, [comp])]
+    while stack and len(chains) < _MAX_CHAINS:
+        i, tail = stack.pop()
+        preds = [p for p in driving_of(i) if p not in tail]
+        if not preds:
+            chains.append(tail[::-1])
+            continue
+        for p in reversed(preds):
+            stack.append((p, [*tail, p]))
+    return chains
+
+
+def _open_end_warnings(sid: str, net: _Network, comp: int) -> list[str]:
+    """Unfinished activities with no predecessor (other than start milestones) or no successor (other than the completion)."""
+    n, live = net.n, ~net.done
+    indeg = np.bincount(net.lsu, minlength=n)
+    outdeg = np.bincount(net.lp, minlength=n)
     warnings: list[str] = []
-    indeg = np.bincount(lsu, minlength=n)
-    outdeg = np.bincount(lp, minlength=n)
     for i in np.flatnonzero(live & (indeg == 0) & ~net.start_ms).tolist():
-        warnings.append(f"snapshot {snapshot.id}: activity {ids[i]} has no predecessor (open start)")
+        warnings.append(f"snapshot {sid}: activity {net.ids[i]} has no predecessor (open start)")
     for i in np.flatnonzero(live & (outdeg == 0)).tolist():
         if i != comp:
-            warnings.append(f"snapshot {snapshot.id}: activity {ids[i]} has no successor (open finish)")
-
-    cols = {
-        "status": status,
-        "start_day": start_day,
-        "finish_day": finish_day,
-        "late_start_day": late_start_day,
-        "late_finish_day": late_finish_day,
-        "total_float": total_float,
-        "free_float": free_float,
-        "critical": critical,
-    }
-    table = _ActivityTable(ids, cols, driving_of)
-    comp_act = table[ids[comp]]
-    return ScheduleResult(
-        snapshot_id=snapshot.id,
-        data_date=snapshot.data_date,
-        completion_id=ids[comp],
-        completion=comp_act.early_finish,
-        completion_float=comp_act.total_float,
-        activities=table,
-        longest_path=tuple(ids[i] for i in path),
-        order=tuple(ids[i] for i in order_list),
-        warnings=tuple(warnings),
-    )
+            warnings.append(f"snapshot {sid}: activity {net.ids[i]} has no successor (open finish)")
+    return warnings
 
 
 def _date_bound_low(C: WorkdayIndex, lo: int, day: int, late_type: bool) -> int:

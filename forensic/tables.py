@@ -349,4 +349,5 @@ def schedule_json(result: ScheduleResult) -> dict[str, Any]:
             for x in (result.activities[a] for a in result.order)
         ],
         "longest_path": list(result.longest_path),
+        "longest_paths": [list(c) for c in result.longest_paths],
     }

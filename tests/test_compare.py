@@ -254,3 +254,24 @@ def test_demo_out_of_sequence_progress_is_found(demo):
     r = _from_previous(cf, fact["update"])
     hits = [(c.pred, c.activity, c.field) for c in r.of_kind("out-of-sequence")]
     assert (fact["unfinished_predecessor"], fact["activity"], "actual_start") in hits
+
+
+def test_compare_text_joins_only_linked_activities_with_an_arrow():
+    # The issue-14 rule: each longest-path chain is printed on its own line, so
+    # "X -> Y" appears only where X -> Y is a link of that snapshot.
+    from click.testing import CliRunner
+
+    from forensic.cli import main
+
+    root = Path(__file__).resolve().parents[1] / "casefiles" / "riverside"
+    cf = load_casefile(root)
+    old_id, new_id = cf.snapshots[0].id, cf.snapshots[-1].id
+    out = CliRunner().invoke(main, ["compare", str(root), old_id, new_id])
+    assert out.exit_code == 0, out.output
+    lines = [ln for ln in out.output.splitlines() if ln.startswith("Longest path")]
+    assert len(lines) >= 2
+    for ln in lines:
+        sid = ln.split()[2].rstrip(":,")
+        linked = {(k.pred, k.succ) for k in cf.snapshot(sid).links}
+        chain = ln.split(": ", 1)[1].split(" -> ")
+        assert all(pair in linked for pair in zip(chain, chain[1:], strict=False)), ln

@@ -161,3 +161,29 @@ def test_completion_never_has_a_late_finish_after_its_own_finish(engine):
     assert r["A"].total_float == 2
     # E's open ends are still reported.
     assert any("E has no successor" in w for w in r.warnings)
+
+
+@pytest.mark.parametrize("logic", ["retained"])
+def test_tied_parallel_paths_are_separate_chains(logic):
+    # Hand working (7-day calendar, data date 2026-03-02):
+    #   ST -> A1 (3) -> A2 (4) -> FIN and ST -> B1 (4) -> B2 (3) -> FIN, all FS.
+    #   A1 03-02..03-04, A2 03-05..03-08; B1 03-02..03-05, B2 03-06..03-08.
+    #   Both paths finish 03-08, so both links into FIN drive: two chains,
+    #   ST A1 A2 FIN and ST B1 B2 FIN. A2 and B1 are not linked, so no
+    #   chain may put "A2 -> B1" (the union in date order would read
+    #   ST A1 B1 A2 B2 FIN, which is why the union is not a chain).
+    acts = [
+        Activity("ST", "start", 0, kind="opening-milestone"),
+        Activity("A1", "a1", 3), Activity("A2", "a2", 4),
+        Activity("B1", "b1", 4), Activity("B2", "b2", 3),
+        Activity("FIN", "finish", 0, kind="closing-milestone"),
+    ]
+    links = [Link("ST", "A1"), Link("A1", "A2"), Link("A2", "FIN"),
+             Link("ST", "B1"), Link("B1", "B2"), Link("B2", "FIN")]
+    r = run(schedule, acts, links, date(2026, 3, 2), logic=logic)
+    assert r.completion == date(2026, 3, 8)
+    assert r.longest_path == ("ST", "A1", "B1", "A2", "B2", "FIN")
+    assert sorted(r.longest_paths) == [("ST", "A1", "A2", "FIN"), ("ST", "B1", "B2", "FIN")]
+    linked = {(k.pred, k.succ) for k in links}
+    for chain in r.longest_paths:
+        assert all(pair in linked for pair in zip(chain, chain[1:], strict=False))

@@ -87,8 +87,10 @@ def compare_command(casefile: Path, old: str, new: str, as_json: bool, as_csv: b
                f"{r.new_completion.isoformat()} ({r.completion_change_days:+d} calendar days, "
                f"{r.completion_change_workdays:+d} working days)")
     say(f"Completion float: {_f(r.old_completion_float)} -> {_f(r.new_completion_float)} working days")
-    say(f"Longest path {r.old_id}: " + " -> ".join(r.old_longest_path))
-    say(f"Longest path {r.new_id}: " + " -> ".join(r.new_longest_path))
+    for sid, chains in ((r.old_id, r.old_longest_paths), (r.new_id, r.new_longest_paths)):
+        for n, chain in enumerate(chains, 1):
+            label = f"Longest path {sid}" + (f", chain {n}" if len(chains) > 1 else "")
+            say(f"{label}: " + " -> ".join(chain))
     if not r.changes:
         say("\nNo changes.")
         return

@@ -50,7 +50,9 @@ def demo(out: Path) -> None:
         f"Latest update {last.snapshot_id} (data date {last.data_date.isoformat()}) forecasts "
         f"{last.completion.isoformat()}, {(last.completion - base.completion).days} calendar days later."
     )
-    click.echo("Longest path now: " + " -> ".join(last.longest_path))
+    for n, chain in enumerate(last.longest_paths, 1):
+        label = "Longest path now" + (f", chain {n}" if len(last.longest_paths) > 1 else "")
+        click.echo(f"{label}: " + " -> ".join(chain))
     delay = analyse_delay(cf)
     t = delay.ledger.total
     unit = cf.project.delay_unit.replace("-", " ")

@@ -64,4 +64,6 @@ def schedule_command(casefile: Path, snapshot_id: str | None, as_json: bool, as_
     keep = ("id", "name", "total_float", "critical", "early_start", "early_finish", "status", "late_start",
             "late_finish", "free_float", "longest_path")  # the columns kept longest at a narrow terminal
     emit(table_text(table, keep=keep))
-    say(f"\nLongest path ({len(result.longest_path)} activities): " + " -> ".join(result.longest_path))
+    say(f"\nLongest path ({len(result.longest_path)} activities): " + ", ".join(result.longest_path))
+    for n, chain in enumerate(result.longest_paths, 1):
+        say(f"  chain {n} ({len(chain)} activities): " + " -> ".join(chain))
