@@ -6,6 +6,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from forensic.attribution import analyse_delay, contributors_table, delay_json, ledger_table
+from forensic.casefile import load_casefile
+from forensic.demo import demo_source
 from forensic.model import Activity, Fragnet, Link, frozen_mapping
 
 from .delay_cases import D0, casefile, day, event, ms, snap, task
@@ -367,4 +369,86 @@ def test_conservation_holds_with_revision_events_and_whole_window_concurrency(cf
         conc = [x for x in (*att.contributors, *att.revision) if x.category == "concurrent"]
         assert sum(x.days for x in conc) == att.concurrent.days >= 0
         assert all(x.party in att.concurrent.parties and x.days > 0 for x in conc)
+    assert an.ledger.balanced
+
+
+# --- fault 1 of issue 16: added work that holds a start keeps its event in any grouping ---
+
+
+def added_work_case():
+    """A(10) -> B(10) -> M; the contractor finishes A 3 days late, then the owner's change adds X(6) between A and B.
+
+    BL (day 0): A 0-9, B 10-19, M day 19.
+    U01 (day 13): A finished 0-12 (EV2, contractor); X added (A -> X -> B), not started: X 13-18, B 19-28.
+    U02 (day 22): X finished 13-18; B started day 19, 7 days left: B 19-28, M day 28.
+    """
+    links = [("A", "B"), ("B", "M")]
+    bl = snap("BL", D0, [task("A", 10), task("B", 10), ms()], links, role="baseline")
+    links1 = [*links, ("A", "X"), ("X", "B")]
+    a_done = task("A", 10, actual_start=D0, actual_finish=day(12))
+    u1 = snap("U01", day(13), [a_done, task("B", 10), task("X", 6, party="OWN"), ms()], links1)
+    x_done = task("X", 6, party="OWN", actual_start=day(13), actual_finish=day(18))
+    u2 = snap("U02", day(22), [a_done, task("B", 10, actual_start=day(19), remaining=7), x_done, ms()], links1)
+    return casefile(
+        [bl, u1, u2],
+        [
+            event("EV2", "CON", "non-excusable", day(8), day(12), ["A"]),
+            event("EV1", "OWN", "excusable-compensable", day(13), day(18), ["X"]),
+        ],
+    )
+
+
+def test_added_work_holding_a_start_keeps_its_event_when_windows_are_grouped():
+    """Monthly: contractor 3, owner 6; one window BL-U02 must give the same (worked by hand).
+
+    Monthly, BL-U01: half-step (BL plan, U01 progress) A 0-12, B 13-22, M day 22:
+    progress 3, all A's (EV2, contractor); U01 adds X: completion day 28,
+    revision 6, EV1's (the added work is its listed activity). U01-U02: 0.
+    One window BL-U02: the half-step (BL plan, U02 progress) has B started
+    day 19, so M day 28: progress 9, revision 0. B has no engine driver (it
+    started); before the fix the walk gave 3 to A (finished day 12 >= B's
+    planned start day 10, v(A) = 3) and left 6 with B, the contractor's,
+    unexplained: owner 0. Now B's later-update predecessor X (added) held
+    it: X finished day 18 against the latest finish that would not have
+    held B's planned start, day 9: hold 9 > v(A) = 3, so X takes the 9;
+    X was held by A (A finished day 12, X started day 13): A inherits
+    clamp(v(A) = 3, 0, 9) = 3 and X keeps 6. Owner 6, contractor 3, as monthly.
+    (Contributor rule of forensic.contributors; AACE RP 29R-03 protocol 3.4:
+    the half-step split must not move an event's delay to another party.)
+    """
+    cf = added_work_case()
+    monthly = analyse_delay(cf)
+    assert [dict(a.by_party) for a in monthly.attributions] == [{"CON": 3, "OWN": 6}, {}]
+    grouped = analyse_delay(cf, ["U02"])
+    (att,) = grouped.attributions
+    assert (grouped.windows.windows[0].progress_slip, grouped.windows.windows[0].revision_slip) == (9, 0)
+    assert contributors(att) == [
+        ("A", 3, "EV2", "CON", "non-excusable"),
+        ("X", 6, "EV1", "OWN", "excusable-compensable"),
+    ]
+    assert dict(att.by_party) == {"CON": 3, "OWN": 6}
+    assert att.concurrent.days == 0 and grouped.ledger.balanced
+
+
+def test_demo_grouped_u02_u06_keeps_the_owner_change_order():
+    """Demo, --windows U02,U06: CO-01 (EV03) keeps a share of window U02-U06 (issue 16, fault 1).
+
+    Worked by hand from the demo's U02 and U06 records (casefiles/riverside):
+    in U02 LIB-L3-COL was planned to start 2026-07-28; in U06 it started
+    2026-09-05, held by the added CO1-STR (finished 2026-09-04), whose hold
+    is 4 Sep - 27 Jul = 39 calendar days; its old predecessor LIB-L2-CUR
+    finished 2026-08-17, 21 days late (v = 21), which would not have held it
+    past 18 Aug: the added CO-01 work held the start about 18 days more. The
+    half-step's progress slip of the window is 15, so the 15 days reaching
+    LIB-L3-COL go to CO1-STR and on, through the added design work CO1-DES
+    and the instruction CO1-INS (all EV03's fragnet), to EV03: none to the
+    contractor's frame gang (EV09), whose lateness float had absorbed.
+    """
+    an = analyse_delay(load_casefile(demo_source()), ["U02", "U06"])
+    att = an.attributions[1]
+    assert att.window_label == "U02-U06"
+    ev03 = sum(c.days for c in att.contributors if c.event == "EV03")
+    assert ev03 == an.windows.windows[1].progress_slip == 15
+    assert att.by_party.get("OWN", 0) > 0
+    assert not any(c.event == "EV09" for c in att.contributors)
     assert an.ledger.balanced
