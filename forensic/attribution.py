@@ -36,8 +36,10 @@ from .concurrency import (
     CONCURRENT,
     Concurrency,
     _concurrency,
+    _resolve,
     _take_concurrent,
     concurrency_table,
+    rule_words,
 )
 from .contributors import (
     UNATTRIBUTED_REVISION,
@@ -67,6 +69,7 @@ __all__ = [
     "concurrency_table",
     "contributors_table",
     "delay_json",
+    "rule_words",
     "ledger_table",
 ]
 
@@ -98,6 +101,7 @@ class DelayAnalysis:
     windows: WindowsAnalysis
     attributions: tuple[WindowAttribution, ...]
     ledger: Ledger
+    rule: str = "time-only"
 
 
 # --- one window, all windows ---------------------------------------------------------
@@ -133,6 +137,7 @@ def attribute_window(casefile: Casefile, run: WindowRun) -> WindowAttribution:
     conc = _concurrency(ctx, chain, revision)
     if conc.days:
         contributors, shares = _take_concurrent(chain, revision, conc)
+        contributors, shares, conc = _resolve(casefile, contributors, shares, conc)
         revision = tuple(shares)
     else:
         contributors = chain
@@ -179,7 +184,7 @@ def analyse_delay(casefile: Casefile, windows: Sequence[str] | None = None) -> D
     """
     an = analyse_windows(casefile, windows)
     atts = tuple(attribute_window(casefile, run) for run in an.runs)
-    return DelayAnalysis(an.unit, an, atts, build_ledger(atts, an))
+    return DelayAnalysis(an.unit, an, atts, build_ledger(atts, an), casefile.project.concurrency)
 
 
 # --- JSON --------------------------------------------------------------------------
@@ -215,6 +220,9 @@ def delay_json(analysis: DelayAnalysis) -> dict[str, Any]:
                     "events": list(att.concurrent.events),
                     "recovered_alone": dict(att.concurrent.recovered_alone),
                     "recovered_together": att.concurrent.recovered_together,
+                    "rule": att.concurrent.rule,
+                    "found": att.concurrent.found,
+                    "by_rule": dict(att.concurrent.by_rule),
                 },
                 "unexplained": att.unexplained,
                 "revision": [
@@ -231,5 +239,6 @@ def delay_json(analysis: DelayAnalysis) -> dict[str, Any]:
     return {
         "unit": analysis.unit,
         "windows": windows,
+        "concurrency": {"rule": analysis.rule, "statement": rule_words(analysis.rule)},
         "ledger": {**ledger_json(analysis.ledger), "concurrency_rule": CONCURRENCY_RULE},
     }

@@ -208,7 +208,7 @@ def test_ledger_is_cumulative_and_balances():
 def test_json_has_the_documented_keys():
     """The JSON object carries the keys issue 5 spells out (a contract, docs/windows.md)."""
     data = delay_json(analyse_delay(concurrent_case()))
-    assert set(data) == {"unit", "windows", "ledger"}
+    assert set(data) == {"unit", "windows", "ledger", "concurrency"}  # concurrency: issue 16
     w = data["windows"][0]
     for key in (
         "from", "to", "start", "end", "completion_before", "completion_after", "half_step_completion",
@@ -452,3 +452,86 @@ def test_demo_grouped_u02_u06_keeps_the_owner_change_order():
     assert att.by_party.get("OWN", 0) > 0
     assert not any(c.event == "EV09" for c in att.contributors)
     assert an.ledger.balanced
+
+
+# --- the concurrency rule (manifest key ``concurrency``; issue 16) -------------------
+
+
+def with_rule(cf, rule):
+    return replace(cf, project=replace(cf.project, concurrency=rule))
+
+
+def test_time_only_rule_keeps_the_concurrent_days_apart():
+    """time-only (the default): the 3 concurrent days of the revision case give time, no money (SCL core principle 10).
+
+    Worked in test_concurrency_of_an_owner_revision_and_a_contractor_progress_delay:
+    slip 4, R(OWN) = 1, R(CON) = 0, R(all) = 4: 3 concurrent, 1 the owner's.
+    """
+    att = analyse_delay(with_rule(revision_concurrency_case(), "time-only")).attributions[0]
+    assert (att.concurrent.rule, att.concurrent.found, att.concurrent.days) == ("time-only", 3, 3)
+    assert dict(att.by_party) == {"OWN": 1} and dict(att.concurrent.by_rule) == {}
+
+
+def test_apportion_rule_splits_the_concurrent_days_by_critical_delay():
+    """apportion: the 3 concurrent days split 4 : 3 between owner and contractor (worked by hand).
+
+    Critical delay = what a party's delays alone cost = R(all) - R(all but it):
+    owner 4 - R(CON) = 4 - 0 = 4 (its fragnet alone holds M to day 13),
+    contractor 4 - R(OWN) = 4 - 1 = 3 (A alone holds M to day 12).
+    3 x 4/7 = 1.71, 3 x 3/7 = 1.29: floors 1 and 1, the spare day to the
+    larger remainder (5/7, the owner's): owner 2, contractor 1. With the
+    owner's own day: owner 3, contractor 1, total 4 = slip.
+    (Apportionment in the ratio of the parties' delay: AACE RP 29R-03
+    sec. 4.2, from memory; largest remainder: common practice.)
+    """
+    an = analyse_delay(with_rule(revision_concurrency_case(), "apportion"))
+    att = an.attributions[0]
+    assert att.concurrent.found == 3 and att.concurrent.days == 0
+    assert dict(att.concurrent.critical) == {"CON": 3, "OWN": 4}
+    assert dict(att.concurrent.by_rule) == {"CON": 1, "OWN": 2}
+    assert dict(att.by_party) == {"CON": 1, "OWN": 3}
+    assert an.ledger.total.concurrent == 0 and an.ledger.balanced
+    assert an.ledger.total.excusable_compensable == 3 and an.ledger.total.non_excusable == 1
+
+
+def test_dominant_rule_gives_the_concurrent_days_to_the_longer_delay():
+    """dominant: the owner's fragnet (critical delay 4 > the contractor's 3) drives completion: owner 4 (worked by hand)."""
+    an = analyse_delay(with_rule(revision_concurrency_case(), "dominant"))
+    att = an.attributions[0]
+    assert dict(att.concurrent.by_rule) == {"OWN": 3}
+    assert dict(att.by_party) == {"OWN": 4}
+    assert an.ledger.balanced
+
+
+def test_dominant_rule_on_a_tie_leaves_the_days_concurrent():
+    """Both paths exactly 3 days late (critical delay 3 each): no dominant cause, 3 stay concurrent (SCL Part B, from memory)."""
+    att = analyse_delay(with_rule(concurrent_case(), "dominant")).attributions[0]
+    assert (att.concurrent.found, att.concurrent.days) == (3, 3)
+    assert dict(att.by_party) == {}
+
+
+def test_rule_is_in_the_json_and_read_from_the_manifest(tmp_path):
+    """``concurrent.rule`` in every window; the manifest key is read (casefile format v2, [project] concurrency)."""
+    doc = delay_json(analyse_delay(with_rule(concurrent_case(), "apportion")))
+    assert doc["windows"][0]["concurrent"]["rule"] == "apportion"
+    assert doc["concurrency"]["rule"] == "apportion"
+    assert {"days", "parties", "events", "rule"} <= set(doc["windows"][0]["concurrent"])
+
+
+def test_manifest_concurrency_key_is_read_and_checked(tmp_path):
+    """[project] concurrency = "dominant" is read; an unknown rule is refused naming the key (casefile format v2)."""
+    import pytest  # noqa: PLC0415
+
+    from forensic.demo import copy_demo  # noqa: PLC0415
+    from forensic.errors import CasefileError  # noqa: PLC0415
+
+    folder = copy_demo(tmp_path / "case")
+    manifest = folder / "casefile.toml"
+    text = manifest.read_text(encoding="utf-8")
+    manifest.write_text(text.replace("critical_float = 0\n", 'critical_float = 0\nconcurrency = "dominant"\n'), encoding="utf-8")
+    assert load_casefile(folder).project.concurrency == "dominant"
+    manifest.write_text(text.replace("critical_float = 0\n", 'critical_float = 0\nconcurrency = "half"\n'), encoding="utf-8")
+    with pytest.raises(CasefileError) as err:
+        load_casefile(folder)
+    assert "concurrency" in str(err.value) and "half" in str(err.value)
+    assert load_casefile(demo_source()).project.concurrency == "time-only"  # the default

@@ -14,6 +14,7 @@ from ..attribution import (
     contributors_table,
     delay_json,
     ledger_table,
+    rule_words,
 )
 from ..tables import dumps_json, to_csv, to_text
 from ..windows import windows_table
@@ -80,6 +81,7 @@ def windows_command(casefile: Path, bounds: str | None, table: str, as_json: boo
     else:
         click.echo("no concurrent days in any window")
     click.echo(f"Rule: {CONCURRENCY_RULE}.")
+    click.echo(f"Concurrency rule (casefile concurrency): {rule_words(an.rule)}.")
     click.echo("\nLedger per window:")
     emit(to_text(tables["ledger"]()))
     click.echo("\nLedger cumulative:")
