@@ -28,7 +28,8 @@ core principles 10 and paras. 10-11.
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
+from datetime import date
 from typing import Any
 
 from .concurrency import (
@@ -53,7 +54,14 @@ from .contributors import (
 )
 from .ledger import Ledger, LedgerEntry, build_ledger, ledger_json, ledger_table
 from .model import Casefile, frozen_mapping
-from .windows import WindowRun, WindowsAnalysis, analyse_windows
+from .windows import (
+    WindowRun,
+    WindowsAnalysis,
+    analyse_windows,
+    slice_cuts,
+    slice_snapshot,
+    window_run,
+)
 
 __all__ = [
     "CONCURRENCY_RULE",
@@ -75,6 +83,29 @@ __all__ = [
 
 
 @dataclass(frozen=True, slots=True)
+class SliceDelay:
+    """One share of a slice's slip: the activity (or a revision's activities), event, party, days."""
+
+    activity: str
+    event: str | None
+    party: str
+    days: int
+
+
+@dataclass(frozen=True, slots=True)
+class Slice:
+    """A part of a window between two cut dates, attributed on its own (see :func:`attribute_window`).
+
+    ``driving_path`` is the longest path of the slice's half-step schedule.
+    """
+
+    start: date
+    end: date
+    driving_path: tuple[str, ...]
+    delays: tuple[SliceDelay, ...]
+
+
+@dataclass(frozen=True, slots=True)
 class WindowAttribution:
     """Every day of one window's slip, attributed.
 
@@ -91,6 +122,7 @@ class WindowAttribution:
     by_party: Mapping[str, int]
     concurrent: Concurrency
     unexplained: int
+    slices: tuple[Slice, ...] = ()
 
 
 @dataclass(frozen=True, slots=True)
@@ -129,6 +161,57 @@ def attribute_window(casefile: Casefile, run: WindowRun) -> WindowAttribution:
     AACE RP 29R-03, protocol 3.4 and sec. 4; SCL Protocol 2nd ed., core
     principle 10 and para. 11.
     """
+    cuts = slice_cuts(casefile, run.window.start, run.window.end)
+    if not cuts:
+        return _attribute_slice(casefile, run, run.window.label)
+    snaps = [run.earlier, *(slice_snapshot(casefile, run.earlier, run.later, t) for t in cuts), run.later]
+    runs = [window_run(casefile, a, b) for a, b in zip(snaps, snaps[1:], strict=False)]
+    # the revisions are all in the last slice (the later update's plan): an
+    # event of any slice of the window may have brought them in
+    runs[-1] = replace(runs[-1], revision_start=run.window.start)
+    parts = [_attribute_slice(casefile, r, run.window.label) for r in runs]
+    by_party: dict[str, int] = {}
+    for part in parts:
+        for k, d in part.by_party.items():
+            by_party[k] = by_party.get(k, 0) + d
+    concs = [p.concurrent for p in parts]
+    alone: dict[str, int] = {}
+    for c in concs:
+        for k, d in c.recovered_alone.items():
+            alone[k] = alone.get(k, 0) + d
+    conc = Concurrency(
+        days=sum(c.days for c in concs),
+        parties=tuple(sorted({x for c in concs for x in c.parties})),
+        events=tuple(sorted({x for c in concs for x in c.events})),
+        recovered_alone=frozen_mapping(alone),
+        recovered_together=sum(c.recovered_together for c in concs),
+        rule=casefile.project.concurrency,
+        found=sum(c.found for c in concs),
+        critical=frozen_mapping({}),
+        by_rule=frozen_mapping(_sum_maps(c.by_rule for c in concs)),
+    )
+    return WindowAttribution(
+        window_label=run.window.label,
+        contributors=tuple(c for p in parts for c in p.contributors),
+        revision=tuple(s for p in parts for s in p.revision),
+        unattributed_revision=sum(p.unattributed_revision for p in parts),
+        by_party=frozen_mapping({k: d for k, d in by_party.items() if d}),
+        concurrent=conc,
+        unexplained=sum(p.unexplained for p in parts),
+        slices=tuple(x for p in parts for x in p.slices),
+    )
+
+
+def _sum_maps(maps) -> dict[str, int]:
+    out: dict[str, int] = {}
+    for m in maps:
+        for k, d in m.items():
+            out[k] = out.get(k, 0) + d
+    return out
+
+
+def _attribute_slice(casefile: Casefile, run: WindowRun, label: str) -> WindowAttribution:
+    """Attribute one slice (or a whole window with no cut) by the rules of the module notes."""
     ctx = _context(casefile, run)
     w = run.window
     steps = _split(ctx, run.half_result.completion_id, w.progress_slip, local=False)
@@ -152,8 +235,13 @@ def attribute_window(casefile: Casefile, run: WindowRun) -> WindowAttribution:
         by_party[UNATTRIBUTED_REVISION] = unattributed
     by_party = {k: d for k, d in by_party.items() if d}
     unexplained = sum(c.days for c in contributors if c.event is None and c.days > 0)
+    delays = tuple(
+        [SliceDelay(c.activity, c.event, c.party, c.days) for c in contributors if c.days]
+        + [SliceDelay(" ".join(s.activities), s.event, s.party, s.days) for s in revision if s.days]
+    )
     return WindowAttribution(
-        window_label=w.label,
+        window_label=label,
+        slices=(Slice(w.start, w.end, run.half_result.longest_path, delays),),
         contributors=tuple(contributors),
         revision=revision,
         unattributed_revision=unattributed,
@@ -225,6 +313,18 @@ def delay_json(analysis: DelayAnalysis) -> dict[str, Any]:
                     "by_rule": dict(att.concurrent.by_rule),
                 },
                 "unexplained": att.unexplained,
+                "slices": [
+                    {
+                        "start": sl.start,
+                        "end": sl.end,
+                        "driving_path": list(sl.driving_path),
+                        "delays": [
+                            {"activity": d.activity, "event": d.event, "party": d.party, "days": d.days}
+                            for d in sl.delays
+                        ],
+                    }
+                    for sl in att.slices
+                ],
                 "revision": [
                     {"event": s.event, "days": s.days, "party": s.party, "category": s.category, "activities": list(s.activities)}
                     for s in att.revision

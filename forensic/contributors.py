@@ -465,7 +465,7 @@ def _take_out(ctx: _Ctx, snap: Snapshot, events: Sequence[Event]) -> tuple[Snaps
             if aid in ids and aid not in drop:
                 drop.add(aid)
                 touched.append(aid)
-        if _overlap(ev, w.start, w.end) == 0:
+        if _overlap(ev, run.revision_start or w.start, w.end) == 0:
             continue
         listed = set(ev.activities)
         for aid in ev.activities:

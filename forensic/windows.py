@@ -67,7 +67,10 @@ __all__ = [
     "half_step",
     "unit_counter",
     "unit_shift",
+    "slice_cuts",
+    "slice_snapshot",
     "window_boundaries",
+    "window_run",
     "windows_table",
 ]
 
@@ -208,6 +211,7 @@ class WindowRun:
     before: ScheduleResult
     half_result: ScheduleResult
     after: ScheduleResult
+    revision_start: date | None = None  # a window's last slice: revisions of events from the window's start
 
 
 @dataclass(frozen=True, slots=True)
@@ -256,6 +260,128 @@ def _moved(before: Sequence[str], after: Sequence[str]) -> tuple[tuple[str, ...]
     return tuple(x for x in after if x not in b), tuple(x for x in before if x not in a)
 
 
+def _event_days(casefile: Casefile, aid: str, cal, lo: date, hi: date) -> int:
+    """Working days of ``cal`` in ``[lo, hi)`` on which an event listing ``aid`` acts."""
+    days: set[date] = set()
+    for ev in casefile.events:
+        if aid not in ev.activities:
+            continue
+        a, b = max(ev.start, lo), min(ev.finish + timedelta(days=1), hi)
+        d = a
+        while d < b:
+            days.add(d)
+            d += timedelta(days=1)
+    return sum(1 for d in days if workdays_between(cal, d, d + timedelta(days=1)))
+
+
+def slice_snapshot(casefile: Casefile, earlier: Snapshot, later: Snapshot, t: date) -> Snapshot:
+    """The earlier plan with the progress of day ``t`` reconstructed from the later update's record.
+
+    Rules (daily reconstruction of progress between two updates):
+
+    * work the later update shows finished before ``t`` is finished, at its
+      actual dates; work it shows started before ``t`` is in progress at
+      ``t``; anything else keeps the earlier update's record;
+    * the remaining duration at ``t`` of work in progress is the working
+      days from ``t`` to its actual finish (or to the later data date, plus
+      the later remaining duration) on which no event listing it acts: work
+      goes on at the planned rate except on the days an event stops it,
+      which is where the updates do not say;
+    * logic, durations and calendars are the earlier update's (a revision
+      is not progress; AACE RP 29R-03 protocol 3.4), so a chain of these
+      snapshots telescopes to the half-step schedule.
+
+    References
+    ----------
+    AACE RP 29R-03, protocols 3.3 and 3.4 (windows, half-step); SCL Protocol
+    2nd ed., Appendix A (time slice windows).
+    """
+    acts = {}
+    for aid, a in earlier.activities.items():
+        b = later.activities.get(aid)
+        if b is None or b.actual_start is None or b.actual_start >= t:
+            acts[aid] = a
+            continue
+        cal = casefile.calendars[a.calendar or casefile.project.default_calendar]
+        if b.actual_finish is not None and b.actual_finish < t:
+            acts[aid] = replace(a, actual_start=b.actual_start, actual_finish=b.actual_finish,
+                                remaining=0, percent_complete=b.percent_complete)
+            continue
+        if a.is_milestone or a.duration == 0:
+            acts[aid] = replace(a, actual_start=b.actual_start, actual_finish=None, remaining=0)
+            continue
+        if b.actual_finish is not None:
+            end = b.actual_finish + timedelta(days=1)
+            rem = workdays_between(cal, t, end) - _event_days(casefile, aid, cal, t, end)
+        else:
+            rem = b.remaining_duration + workdays_between(cal, t, later.data_date)
+            rem -= _event_days(casefile, aid, cal, t, later.data_date)
+        rem = max(1, min(rem, a.duration if not a.is_started else a.remaining_duration))
+        acts[aid] = replace(a, actual_start=b.actual_start, actual_finish=None, remaining=rem)
+    return Snapshot(
+        id=f"{earlier.id}@{t.isoformat()}",
+        data_date=t,
+        activities=frozen_mapping(acts),
+        links=earlier.links,
+        role="update",
+    )
+
+
+def slice_cuts(casefile: Casefile, start: date, end: date) -> tuple[date, ...]:
+    """The dates inside ``(start, end)`` that split a window into slices of overlapping events.
+
+    The events that act in the window (their dates overlap it and they list
+    activities) are grouped where their dates overlap, chained; each group
+    after the first begins a new slice on its first day. Delays in
+    different slices are sequential, never concurrent (SCL Protocol 2nd
+    ed., core principle 10: concurrency needs delays of roughly the same
+    time).
+    """
+    spans = sorted(
+        (max(ev.start, start), min(ev.finish, end - timedelta(days=1)))
+        for ev in casefile.events
+        if ev.activities and ev.start < end and ev.finish >= start
+    )
+    cuts = []
+    reach = None
+    for lo, hi in spans:
+        if reach is not None and lo > reach and start < lo < end:
+            cuts.append(lo)
+        reach = hi if reach is None else max(reach, hi)
+    return tuple(cuts)
+
+
+def window_run(casefile: Casefile, earlier: Snapshot, later: Snapshot, sched=None) -> WindowRun:
+    """One window's three schedules and figures (earlier, half-step, later)."""
+    count = unit_counter(casefile)
+    sched = sched or (lambda snap: schedule(snap, casefile.calendars, casefile.project))
+    hs = half_step(earlier, later)
+    before, after = sched(earlier), sched(later)
+    mid = schedule(hs.snapshot, casefile.calendars, casefile.project)
+    joined, left = _moved(before.longest_path, after.longest_path)
+    c0, c1, ch = count(before.completion), count(after.completion), count(mid.completion)
+    w = Window(
+        from_id=earlier.id,
+        to_id=later.id,
+        start=earlier.data_date,
+        end=later.data_date,
+        completion_before=before.completion,
+        completion_after=after.completion,
+        half_step_completion=mid.completion,
+        slip=c1 - c0,
+        progress_slip=ch - c0,
+        revision_slip=c1 - ch,
+        critical_path_before=before.longest_path,
+        critical_path_after=after.longest_path,
+        half_step_path=mid.longest_path,
+        path_joined=joined,
+        path_left=left,
+        added=hs.added,
+        deleted=hs.deleted,
+    )
+    return WindowRun(w, earlier, later, hs.snapshot, before, mid, after)
+
+
 def analyse_windows(casefile: Casefile, windows: Sequence[str] | None = None) -> WindowsAnalysis:
     """Run the windows analysis with the half-step split over a casefile.
 
@@ -294,32 +420,7 @@ def analyse_windows(casefile: Casefile, windows: Sequence[str] | None = None) ->
 
     runs = []
     for a_id, b_id in zip(ids, ids[1:], strict=False):
-        earlier, later = casefile.snapshot(a_id), casefile.snapshot(b_id)
-        hs = half_step(earlier, later)
-        before, after = sched(earlier), sched(later)
-        mid = schedule(hs.snapshot, casefile.calendars, casefile.project)
-        joined, left = _moved(before.longest_path, after.longest_path)
-        c0, c1, ch = count(before.completion), count(after.completion), count(mid.completion)
-        w = Window(
-            from_id=a_id,
-            to_id=b_id,
-            start=earlier.data_date,
-            end=later.data_date,
-            completion_before=before.completion,
-            completion_after=after.completion,
-            half_step_completion=mid.completion,
-            slip=c1 - c0,
-            progress_slip=ch - c0,
-            revision_slip=c1 - ch,
-            critical_path_before=before.longest_path,
-            critical_path_after=after.longest_path,
-            half_step_path=mid.longest_path,
-            path_joined=joined,
-            path_left=left,
-            added=hs.added,
-            deleted=hs.deleted,
-        )
-        runs.append(WindowRun(w, earlier, later, hs.snapshot, before, mid, after))
+        runs.append(window_run(casefile, casefile.snapshot(a_id), casefile.snapshot(b_id), sched))
     first, last = runs[0].before, runs[-1].after
     return WindowsAnalysis(
         unit=casefile.project.delay_unit,

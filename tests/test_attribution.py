@@ -1,6 +1,7 @@
 """Attribution of a window's slip to activities, events and parties; concurrency; the ledger."""
 
 from dataclasses import replace
+from datetime import date
 
 from hypothesis import given, settings
 from hypothesis import strategies as st
@@ -535,3 +536,85 @@ def test_manifest_concurrency_key_is_read_and_checked(tmp_path):
         load_casefile(folder)
     assert "concurrency" in str(err.value) and "half" in str(err.value)
     assert load_casefile(demo_source()).project.concurrency == "time-only"  # the default
+
+
+# --- fault 2 of issue 16: concurrency judged on dates, sequential delays never concurrent ---
+
+
+def sequential_case():
+    """Owner stops path A 3-7 Jan (5 days); the contractor stops path B 21-30 Jan (10 days); B had 3 days of float.
+
+    7-day calendar. BL (1 Jan 2026): A(30) 1-30 Jan, B(27) 1-27 Jan (float 3),
+    both -> T(30) 31 Jan - 1 Mar -> M (1 Mar).
+    U01 (14 Jan): A worked 1-2 and 8-13 Jan, 22 days left (14 Jan - 4 Feb);
+    B 14 left (14-27 Jan); T 5 Feb - 6 Mar: +5.
+    U02 (1 Feb): A 4 left (1-4 Feb); B stopped 21-30 Jan, 6 left (1-6 Feb);
+    T 7 Feb - 8 Mar: +7 in all.
+    """
+    jan = lambda n: date(2026, 1, n)  # noqa: E731
+    links = [("A", "T"), ("B", "T"), ("T", "M")]
+    plan = [task("A", 30, party="OWN"), task("B", 27), task("T", 30), ms()]
+    bl = snap("BL", jan(1), plan, links, role="baseline")
+
+    def upd(sid, dd, a_left, b_left):
+        acts = [task("A", 30, party="OWN", actual_start=jan(1), remaining=a_left),
+                task("B", 27, actual_start=jan(1), remaining=b_left), task("T", 30), ms()]
+        return snap(sid, dd, acts, links)
+
+    evs = [
+        event("EVO", "OWN", "excusable-compensable", jan(3), jan(7), ["A"]),
+        event("EVC", "CON", "non-excusable", jan(21), jan(30), ["B"]),
+    ]
+    return casefile([bl, upd("U01", jan(14), 22, 14), upd("U02", date(2026, 2, 1), 4, 6)], evs)
+
+
+def test_sequential_delays_are_not_concurrent_in_one_window():
+    """Monthly: owner 5, contractor 2; one window BL-U02 must give the same, concurrent 0 (worked by hand).
+
+    Monthly: BL-U01, A's 5 days (EVO): T waits for A to 4 Feb, +5, owner.
+    U01-U02: B 10 days stopped against its float, now 3 + 5 = 8: +2, contractor.
+    One window BL-U02, before issue 16: the walk went T <- B (v 10 > v(A) 5)
+    and the whole-window but-for test gave contractor 3, concurrent 4, owner 0,
+    recovered_together 6. Now the window is cut on 21 Jan, where the
+    contractor's event begins (the owner's ended on 7 Jan: no overlap).
+    Day 21 Jan reconstructed from U02: A 4 left + 11 working days from 21 Jan
+    to 1 Feb, no event on A then: 15 left (21 Jan - 4 Feb); B 6 + 11 - 10
+    days of EVC = 7 left (21-27 Jan, as planned). Slice 1 (1-21 Jan): T after
+    4 Feb, +5, A's, EVO: owner 5. Slice 2 (21 Jan - 1 Feb): B to 6 Feb
+    (v = 10), A on time: +2, contractor. Concurrent 0: the delays act on
+    different days (SCL Protocol 2nd ed., core principle 10 and Part B:
+    concurrency needs delays of roughly the same time, each of which would
+    have delayed completion on its own).
+    """
+    cf = sequential_case()
+    monthly = analyse_delay(cf)
+    assert [dict(a.by_party) for a in monthly.attributions] == [{"OWN": 5}, {"CON": 2}]
+    one = analyse_delay(cf, ["U02"])
+    (att,) = one.attributions
+    assert one.windows.windows[0].slip == 7
+    assert dict(att.by_party) == {"OWN": 5, "CON": 2}
+    assert att.concurrent.days == 0 and att.concurrent.found == 0
+    assert [(s.start, s.end) for s in att.slices] == [(date(2026, 1, 1), date(2026, 1, 21)), (date(2026, 1, 21), date(2026, 2, 1))]
+    assert [[(d.activity, d.event, d.party, d.days) for d in s.delays] for s in att.slices] == [
+        [("A", "EVO", "OWN", 5)], [("B", "EVC", "CON", 2)]
+    ]
+    assert one.ledger.balanced
+    doc = delay_json(one)["windows"][0]["slices"]
+    assert set(doc[0]) == {"start", "end", "driving_path", "delays"}
+    assert set(doc[0]["delays"][0]) == {"activity", "event", "party", "days"}
+
+
+def test_parallel_critical_delays_on_the_same_days_are_concurrent():
+    """A (owner) and C (contractor) both stopped on days 2-4, 3 days each, on parallel critical paths: 3 concurrent.
+
+    Same days, one slice (no cut): the but-for test of the slice gives
+    R(OWN) = R(CON) = 0, R(all) = 3 (worked in
+    test_true_concurrency_removing_either_alone_recovers_nothing); SCL
+    Protocol 2nd ed., core principle 10.
+    """
+    base = concurrent_case()
+    evs = [*base.events, event("EV2", "CON", "non-excusable", day(2), day(4), ["C"])]
+    att = analyse_delay(casefile(base.snapshots, evs)).attributions[0]
+    assert len(att.slices) == 1
+    assert att.concurrent.days == 3 and att.concurrent.parties == ("CON", "OWN")
+    assert dict(att.by_party) == {}
