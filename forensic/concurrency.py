@@ -246,6 +246,7 @@ def _resolve(
 
     left = dict(quota)
     out: list[list] = [[], []]
+    spare: list[list] = [[], []]  # concurrent days beyond their party's quota, by kind
     for kind, seq in ((0, chain), (1, revision)):
         for x in seq:
             if x.category != CONCURRENT:
@@ -255,24 +256,36 @@ def _resolve(
             if give:
                 left[x.party] -= give
                 out[kind].append(replace(x, days=give, category=category(x)))
-    for party, extra in left.items():
-        if extra <= 0:
-            continue
-        cands = [(x.days, -kind, -i, kind, i) for kind in (0, 1) for i, x in enumerate(out[kind]) if x.party == party and x.days > 0]
-        if cands:
-            _, _, _, kind, i = max(cands)
-            out[kind][i] = replace(out[kind][i], days=out[kind][i].days + extra)
-            continue
-        # A party with no share of its own on the controlling path: the days
-        # go on its event named in the concurrency (its first activity), else
-        # on the controlling activity in its name, unexplained.
-        ev = next((cf.event(e) for e in conc.events if cf.event(e).party == party), None)
-        base = next(x for x in chain if x.category == CONCURRENT) if any(
-            x.category == CONCURRENT for x in chain) else None
-        act = ev.activities[0] if ev is not None and ev.activities else (base.activity if base else party)
-        role = cf.parties[party].role if party in cf.parties else None
-        out[0].append(Contributor(act, extra, ev.id if ev else None, party,
-                                  ev.category if ev else DEFAULT_CATEGORY.get(role)))
+            if x.days - give:
+                spare[kind].append(replace(x, days=x.days - give))
+    # A party whose quota is larger than its own concurrent pieces takes the
+    # rest from the spare days of the same kind (progress stays progress,
+    # revision stays revision, so both sums still hold): on its largest share
+    # of that kind, else on its event named in the concurrency, else on the
+    # spare piece itself in its name.
+    for party in sorted(left):
+        for kind in (0, 1):
+            while left[party] > 0 and spare[kind]:
+                piece = spare[kind][0]
+                take = min(left[party], piece.days)
+                left[party] -= take
+                if take == piece.days:
+                    spare[kind].pop(0)
+                else:
+                    spare[kind][0] = replace(piece, days=piece.days - take)
+                own = [(x.days, -i, i) for i, x in enumerate(out[kind]) if x.party == party and x.days > 0]
+                if own:
+                    i = max(own)[2]
+                    out[kind][i] = replace(out[kind][i], days=out[kind][i].days + take)
+                    continue
+                ev = next((cf.event(e) for e in conc.events if cf.event(e).party == party), None)
+                role = cf.parties[party].role if party in cf.parties else None
+                cat = ev.category if ev else DEFAULT_CATEGORY.get(role)
+                if kind == 0:
+                    act = ev.activities[0] if ev is not None and ev.activities else piece.activity
+                    out[0].append(Contributor(act, take, ev.id if ev else None, party, cat))
+                else:
+                    out[1].append(replace(piece, days=take, party=party, event=ev.id if ev else piece.event, category=cat))
     merged = []
     for kind in (0, 1):  # a piece given back next to the share it was cut from is one share again
         rows: list = []

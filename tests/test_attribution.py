@@ -618,3 +618,39 @@ def test_parallel_critical_delays_on_the_same_days_are_concurrent():
     assert len(att.slices) == 1
     assert att.concurrent.days == 3 and att.concurrent.parties == ("CON", "OWN")
     assert dict(att.by_party) == {}
+
+
+DEMO = load_casefile(demo_source())
+DEMO_UPDATES = [s.id for s in DEMO.snapshots[1:-1]]
+
+
+@settings(max_examples=12, deadline=None)
+@given(
+    st.lists(st.sampled_from(DEMO_UPDATES), unique=True, max_size=5).map(lambda ids: sorted(ids, key=DEMO_UPDATES.index)),
+    st.sampled_from(["time-only", "apportion", "dominant"]),
+)
+def test_ledger_balances_to_the_slip_under_random_groupings_of_windows(ids, rule):
+    """Any grouping of the demo's windows and any concurrency rule: every window's sums exact, the ledger balances to 43 (issue 16)."""
+    an = analyse_delay(with_rule(DEMO, rule), ids or None)
+    assert an.ledger.total_slip == 43 and an.ledger.balanced
+    for w, att in zip(an.windows.windows, an.attributions, strict=True):
+        assert sum(c.days for c in att.contributors) == w.progress_slip
+        assert sum(s.days for s in att.revision) + att.unattributed_revision == w.revision_slip
+        assert sum(att.by_party.values()) + att.concurrent.days == w.slip
+        assert sum(d.days for sl in att.slices for d in sl.delays) + att.unattributed_revision == w.slip
+        assert att.slices[0].start == w.start and att.slices[-1].end == w.end
+
+
+@settings(max_examples=40, deadline=None)
+@given(revising_parties(), st.integers(0, 12), st.integers(0, 12), st.sampled_from(["time-only", "apportion", "dominant"]))
+def test_conservation_holds_when_events_cut_the_window_into_slices(cf, a, b, rule):
+    """Two more events on random, maybe separate, dates cut the window: every sum still exact under each rule."""
+    acts = [x for x in cf.snapshots[-1].activities if x != "M"]
+    evs = [*cf.events, event("S1", "OWN", "excusable-compensable", day(a), day(a), acts[:1]),
+           event("S2", "CON", "non-excusable", day(b), day(b + 1), acts[-1:])]
+    an = analyse_delay(with_rule(replace(cf, events=tuple(evs)), rule))
+    for w, att in zip(an.windows.windows, an.attributions, strict=True):
+        assert sum(c.days for c in att.contributors) == w.progress_slip
+        assert sum(s.days for s in att.revision) + att.unattributed_revision == w.revision_slip
+        assert sum(att.by_party.values()) + att.concurrent.days == w.slip
+    assert an.ledger.balanced
