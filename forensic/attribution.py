@@ -334,6 +334,8 @@ def delay_json(analysis: DelayAnalysis) -> dict[str, Any]:
                 "deleted": list(w.deleted),
                 "path_joined": list(w.path_joined),
                 "path_left": list(w.path_left),
+                "path_switched": list(w.path_switched),
+                "stable": not w.path_switched,
             }
         )
     return {

@@ -64,6 +64,7 @@ __all__ = [
     "WindowRun",
     "WindowsAnalysis",
     "analyse_windows",
+    "auto_boundaries",
     "half_step",
     "unit_counter",
     "unit_shift",
@@ -194,10 +195,26 @@ class Window:
     path_left: tuple[str, ...]
     added: tuple[str, ...]
     deleted: tuple[str, ...]
+    path_left_open: tuple[str, ...] = ()
+    path_joined_old: tuple[str, ...] = ()
 
     @property
     def label(self) -> str:
         return f"{self.from_id}-{self.to_id}"
+
+    @property
+    def path_switched(self) -> tuple[str, ...]:
+        """Unfinished work that left or joined the critical path inside the window (empty: stable).
+
+        Activities of the earlier update's longest path still on the later
+        update's path are the same path; those that left it without being
+        finished, and those that joined it from work the earlier update
+        already had, mean the driving path switched inside the window, so a
+        grouping of windows there is not stable (common practice:
+        AACE RP 29R-03 protocol 3.3 windows drawn where the critical path
+        changes; from memory).
+        """
+        return tuple(a for a in (*self.path_left_open, *self.path_joined_old))
 
 
 @dataclass(frozen=True, slots=True)
@@ -237,6 +254,8 @@ def window_boundaries(casefile: Casefile, ids: Sequence[str] | None = None) -> t
     last update added at the ends so the windows cover the whole record.
     """
     order = [s.id for s in casefile.snapshots]
+    if ids is not None and list(ids) == ["auto"]:
+        return auto_boundaries(casefile)
     chosen = list(ids) if ids else list(casefile.windows)
     if not chosen:
         return tuple(order)
@@ -250,6 +269,23 @@ def window_boundaries(casefile: Casefile, ids: Sequence[str] | None = None) -> t
         raise WindowSpecError(msg)
     if chosen[0] != casefile.baseline.id:
         chosen.insert(0, casefile.baseline.id)
+    if chosen[-1] != order[-1]:
+        chosen.append(order[-1])
+    return tuple(chosen)
+
+
+def auto_boundaries(casefile: Casefile) -> tuple[str, ...]:
+    """Window boundaries at the updates where the driving path changes (``--windows auto``).
+
+    Every monthly window is run; an update closes a window when the monthly
+    window ending there has its critical path switched (:attr:`Window.path_switched`),
+    so each grouped window keeps one driving path (AACE RP 29R-03 protocol
+    3.3, windows drawn at changes of the critical path; from memory).
+    """
+    order = [s.id for s in casefile.snapshots]
+    an = analyse_windows(casefile, order)
+    cut = [w.to_id for w in an.windows if w.path_switched]
+    chosen = [order[0], *(c for c in cut if c != order[0])]
     if chosen[-1] != order[-1]:
         chosen.append(order[-1])
     return tuple(chosen)
@@ -359,6 +395,8 @@ def window_run(casefile: Casefile, earlier: Snapshot, later: Snapshot, sched=Non
     before, after = sched(earlier), sched(later)
     mid = schedule(hs.snapshot, casefile.calendars, casefile.project)
     joined, left = _moved(before.longest_path, after.longest_path)
+    left_open = tuple(a for a in left if a in after.activities and after[a].status != "finished")
+    joined_old = tuple(a for a in joined if a in before.activities and before[a].status != "finished")
     c0, c1, ch = count(before.completion), count(after.completion), count(mid.completion)
     w = Window(
         from_id=earlier.id,
@@ -378,6 +416,8 @@ def window_run(casefile: Casefile, earlier: Snapshot, later: Snapshot, sched=Non
         path_left=left,
         added=hs.added,
         deleted=hs.deleted,
+        path_left_open=left_open,
+        path_joined_old=joined_old,
     )
     return WindowRun(w, earlier, later, hs.snapshot, before, mid, after)
 

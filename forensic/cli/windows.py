@@ -29,7 +29,8 @@ _TABLES = ("windows", "contributors", "ledger", "cumulative", "as-built")
 @click.option(
     "--windows", "bounds", metavar="IDS",
     help="Comma-separated snapshot ids that bound the windows, e.g. U01,U04,U08 "
-    "(the baseline and the last update are always added).",
+    "(the baseline and the last update are always added), or 'auto': at the updates "
+    "where the driving path changes.",
 )
 @click.option("--table", type=click.Choice(_TABLES), default="windows", show_default=True, help="Table printed by --csv.")
 @format_options
