@@ -29,9 +29,10 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, replace
-from datetime import date
+from datetime import date, timedelta
 from typing import Any
 
+from .calendars import workdays_between
 from .concurrency import (
     CONCURRENCY_RULE,
     CONCURRENT,
@@ -106,6 +107,64 @@ class Slice:
 
 
 @dataclass(frozen=True, slots=True)
+class Pacing:
+    """A contractor's lateness that float from an owner delay of the same slice absorbed: possible pacing, not decided."""
+
+    start: date
+    end: date
+    activity: str
+    event: str | None
+    party: str
+    days: int
+    owner_events: tuple[str, ...]
+
+
+def _pacing(ctx, chain, revision) -> tuple[Pacing, ...]:
+    """Possible pacing in one slice (flag only; the analyst decides).
+
+    Where an owner's delay drives the slice (a positive owner share of its
+    slip), a late activity whose own lateness is the contractor's and that
+    passes no day to the slip ran late inside the float the owner's delay
+    made (its lateness in working days is more than its total float in the
+    earlier update, yet its float in the slice's half-step is not negative):
+    it is listed with its days of lateness, as *possible pacing*
+    (SCL Protocol 2nd ed., Part B guidance on pacing; AACE RP 29R-03
+    sec. 4.2, from memory). Nothing is moved in the figures.
+    """
+    cf = ctx.casefile
+    roles = {p.id: p.role for p in cf.parties.values()}
+    owners = sorted({x.event for x in (*chain, *revision) if x.days > 0 and roles.get(x.party) == "owner" and x.event})
+    if not owners:
+        return ()
+    on_path = {c.activity for c in chain if c.days}
+    w = ctx.run.window
+    out = []
+    for aid in ctx.half.activities:
+        v = ctx.v.get(aid, 0)
+        if v <= 0 or aid in on_path or ctx.half[aid].status == "finished":
+            continue
+        b, h = ctx.before[aid], ctx.half[aid]
+        if b.total_float is None or h.total_float is None or h.total_float < 0:
+            continue
+        act = ctx.run.half.activities[aid]
+        cal = cf.calendars[act.calendar or cf.project.default_calendar]
+        late = workdays_between(cal, b.early_finish + timedelta(days=1), h.early_finish + timedelta(days=1))
+        if late <= b.total_float:  # within its own float: it would not have delayed completion alone
+            continue
+        for owner_aid, d in _split(ctx, aid, v, local=True):
+            if d <= 0 or owner_aid in on_path:
+                continue
+            for c in _attribute(ctx, owner_aid, d):
+                if roles.get(c.party) == "contractor":
+                    out.append(Pacing(w.start, w.end, owner_aid, c.event, c.party, c.days, tuple(owners)))
+    merged: dict[tuple, Pacing] = {}
+    for x in out:
+        key = (x.activity, x.event)
+        merged[key] = x if key not in merged else replace(merged[key], days=max(merged[key].days, x.days))
+    return tuple(merged.values())
+
+
+@dataclass(frozen=True, slots=True)
 class WindowAttribution:
     """Every day of one window's slip, attributed.
 
@@ -123,6 +182,7 @@ class WindowAttribution:
     concurrent: Concurrency
     unexplained: int
     slices: tuple[Slice, ...] = ()
+    pacing: tuple[Pacing, ...] = ()
 
 
 @dataclass(frozen=True, slots=True)
@@ -199,6 +259,7 @@ def attribute_window(casefile: Casefile, run: WindowRun) -> WindowAttribution:
         concurrent=conc,
         unexplained=sum(p.unexplained for p in parts),
         slices=tuple(x for p in parts for x in p.slices),
+        pacing=tuple(x for p in parts for x in p.pacing),
     )
 
 
@@ -217,6 +278,7 @@ def _attribute_slice(casefile: Casefile, run: WindowRun, label: str) -> WindowAt
     steps = _split(ctx, run.half_result.completion_id, w.progress_slip, local=False)
     chain = [c for aid, d in reversed(steps) if d for c in _attribute(ctx, aid, d)]
     revision, unattributed = _revision(ctx)
+    pacing = _pacing(ctx, chain, revision)
     conc = _concurrency(ctx, chain, revision)
     if conc.days:
         contributors, shares = _take_concurrent(chain, revision, conc)
@@ -240,6 +302,7 @@ def _attribute_slice(casefile: Casefile, run: WindowRun, label: str) -> WindowAt
         + [SliceDelay(" ".join(s.activities), s.event, s.party, s.days) for s in revision if s.days]
     )
     return WindowAttribution(
+        pacing=pacing,
         window_label=label,
         slices=(Slice(w.start, w.end, run.half_result.longest_path, delays),),
         contributors=tuple(contributors),
@@ -313,6 +376,11 @@ def delay_json(analysis: DelayAnalysis) -> dict[str, Any]:
                     "by_rule": dict(att.concurrent.by_rule),
                 },
                 "unexplained": att.unexplained,
+                "pacing": [
+                    {"start": x.start, "end": x.end, "activity": x.activity, "event": x.event,
+                     "party": x.party, "days": x.days, "owner_events": list(x.owner_events)}
+                    for x in att.pacing
+                ],
                 "slices": [
                     {
                         "start": sl.start,

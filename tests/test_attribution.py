@@ -654,3 +654,28 @@ def test_conservation_holds_when_events_cut_the_window_into_slices(cf, a, b, rul
         assert sum(s.days for s in att.revision) + att.unattributed_revision == w.revision_slip
         assert sum(att.by_party.values()) + att.concurrent.days == w.slip
     assert an.ledger.balanced
+
+
+def test_possible_pacing_is_flagged_not_decided():
+    """Owner's A 4 days late drives M; the contractor's C runs 5 late against 2 days of float: possible pacing (worked by hand).
+
+    BL (day 0): A(10) 0-9 and C(8) 0-7 -> M day 9; C's float 2.
+    U01 (day 10): A 4 left (EV1, owner, days 2-5): 10-13, M day 13, +4.
+    C 3 left (EV2, contractor, days 3-7): 10-12, 5 late (more than its
+    float of 2, so alone it would have cost 3), float in the half-step
+    13 - 12 = 1: absorbed by the float the owner's delay made. Flagged:
+    C, EV2, 5 days, beside EV1; the figures are not changed by the flag
+    (the but-for test still finds R(OWN) = 1, R(CON) = 0, R(all) = 4: 3
+    concurrent, 1 owner). SCL Protocol 2nd ed., Part B on pacing (from memory).
+    """
+    links = [("A", "M"), ("C", "M")]
+    bl = snap("BL", D0, [task("A", 10, party="OWN"), task("C", 8), ms()], links, role="baseline")
+    u1 = snap("U01", day(10), [task("A", 10, party="OWN", actual_start=D0, remaining=4),
+                               task("C", 8, actual_start=D0, remaining=3), ms()], links)
+    evs = [event("EV1", "OWN", "excusable-compensable", day(2), day(5), ["A"]),
+           event("EV2", "CON", "non-excusable", day(3), day(7), ["C"])]
+    an = analyse_delay(casefile([bl, u1], evs))
+    att = an.attributions[0]
+    assert [(p.activity, p.event, p.party, p.days, p.owner_events) for p in att.pacing] == [("C", "EV2", "CON", 5, ("EV1",))]
+    assert (att.concurrent.days, dict(att.by_party)) == (3, {"OWN": 1})
+    assert delay_json(an)["windows"][0]["pacing"][0]["activity"] == "C"
