@@ -204,6 +204,15 @@ def attribute_window(casefile: Casefile, run: WindowRun) -> WindowAttribution:
 
     The rules are in the module notes of :mod:`forensic.contributors`
     (contributors, events, revision shares) and :mod:`forensic.concurrency`.
+    The window is first cut into slices where the delay events acting in it
+    stop overlapping (:func:`forensic.windows.slice_cuts`), the progress at
+    each cut reconstructed from the two updates
+    (:func:`forensic.windows.slice_snapshot`); each slice is attributed on
+    its own and the figures are summed, so delays in different slices are
+    sequential and never concurrent (SCL Protocol 2nd ed., core principle
+    10 and Part B on concurrency). The concurrent days are then treated by
+    the casefile's ``concurrency`` rule (``time-only``, ``apportion``,
+    ``dominant``).
 
     Parameters
     ----------

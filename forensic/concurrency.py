@@ -32,6 +32,14 @@ party's excess over ``R(P)`` (so each party keeps the days only its own
 delays explain), and reported with category ``concurrent``, so every sum
 still adds up.
 
+The test runs on each slice of a window (see :mod:`forensic.attribution`),
+so only delays that act on overlapping dates can be concurrent. The
+casefile's ``concurrency`` rule then says what the concurrent days mean
+(:data:`RULE_WORDS`): ``time-only`` keeps them apart (time, no money);
+``apportion`` splits them in the ratio of the parties' critical delay,
+``R(all) - R(all but P)``; ``dominant`` gives them to the party with the
+longest critical delay, and keeps them concurrent on a tie.
+
 References
 ----------
 AACE International Recommended Practice 29R-03, Forensic Schedule Analysis,
