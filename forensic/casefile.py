@@ -62,6 +62,7 @@ from .calendars import DAY_NAMES
 from .errors import CasefileError, LimitExceeded, printable
 from .limits import Limits
 from .model import (
+    CONCURRENCY_RULES,
     PARTY_ROLES,
     Calendar,
     Casefile,
@@ -89,7 +90,7 @@ MANIFEST = "casefile.toml"
 
 _TOP_KEYS = ("format", "project", "party", "calendar", "snapshot", "events", "windows")
 _PROJECT_KEYS = ("name", "default_calendar", "completion", "contract_completion",
-                 "delay_unit", "progress_logic", "critical_float")
+                 "delay_unit", "progress_logic", "critical_float", "concurrency")
 _PARTY_KEYS = ("id", "name", "role")
 _CALENDAR_KEYS = ("id", "workdays", "holidays", "extra_workdays")
 _SNAPSHOT_KEYS = ("id", "role", "data_date", "activities", "links")
@@ -497,8 +498,10 @@ class _Manifest:
         if isinstance(crit, bool) or not isinstance(crit, int) or abs(crit) > MAX_DURATION:
             self._bad("project.critical_float", crit, "expected a whole number of working days")
             crit = 0
+        conc = self._str(t, "concurrency", "project", required=False,
+                         choices=CONCURRENCY_RULES) or "time-only"
         if name is not None and cal is not None:
-            self.project = Project(name, cal, completion, contract, unit, logic, crit)
+            self.project = Project(name, cal, completion, contract, unit, logic, crit, conc)
 
     def _snapshot(self, t: dict, where: str) -> None:
         sid = self._str(t, "id", where)

@@ -32,6 +32,14 @@ party's excess over ``R(P)`` (so each party keeps the days only its own
 delays explain), and reported with category ``concurrent``, so every sum
 still adds up.
 
+The test runs on each slice of a window (see :mod:`forensic.attribution`),
+so only delays that act on overlapping dates can be concurrent. The
+casefile's ``concurrency`` rule then says what the concurrent days mean
+(:data:`RULE_WORDS`): ``time-only`` keeps them apart (time, no money);
+``apportion`` splits them in the ratio of the parties' critical delay,
+``R(all) - R(all but P)``; ``dominant`` gives them to the party with the
+longest critical delay, and keeps them concurrent on a tie.
+
 References
 ----------
 AACE International Recommended Practice 29R-03, Forensic Schedule Analysis,
@@ -43,21 +51,30 @@ core principle 10 and paras. 10.3-10.4 (paragraph numbers from memory).
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from datetime import timedelta
 from typing import TYPE_CHECKING
 
 from .calendars import workdays_between
-from .contributors import Contributor, RevisionShare, _attribute, _column, _Ctx, _split, _take_out
+from .contributors import (
+    Contributor,
+    RevisionShare,
+    _apportion,
+    _attribute,
+    _column,
+    _Ctx,
+    _split,
+    _take_out,
+)
 from .engine import schedule
-from .model import Event, Snapshot, frozen_mapping
+from .model import DEFAULT_CATEGORY, Casefile, Event, Snapshot, frozen_mapping
 from .tables import Table
 from .windows import unit_counter, unit_shift
 
 if TYPE_CHECKING:
     from .attribution import DelayAnalysis
 
-__all__ = ["CONCURRENCY_RULE", "CONCURRENT", "Concurrency", "concurrency_table"]
+__all__ = ["CONCURRENCY_RULE", "CONCURRENT", "RULE_WORDS", "Concurrency", "concurrency_table", "rule_words"]
 
 CONCURRENT = "concurrent"
 CONCURRENCY_RULE = (
@@ -69,16 +86,50 @@ CONCURRENCY_RULE = (
 )
 
 
+# What each rule of the manifest's ``concurrency`` key does with the concurrent
+# days (casefile format v2, [project] concurrency), printed with every result.
+RULE_WORDS = {
+    "time-only": (
+        "time-only: concurrent days give time to both sides and money to neither "
+        "(SCL Protocol 2nd ed., core principle 10 and Part B guidance on concurrency)"
+    ),
+    "apportion": (
+        "apportion: concurrent days are split between the parties in the ratio of their critical "
+        "delay, the days each party's delays alone would cost, R(all) - R(all but the party) "
+        "(largest remainder; AACE RP 29R-03 sec. 4.2, apportionment, from memory)"
+    ),
+    "dominant": (
+        "dominant: concurrent days go to the party whose delay drives completion, the one with "
+        "the longest critical delay; on a tie they stay concurrent (time-only) "
+        "(dominant cause approach; SCL Protocol 2nd ed., Part B, from memory)"
+    ),
+}
+
+
+def rule_words(rule: str) -> str:
+    """The statement of a concurrency rule, for output and the report's method statement."""
+    return RULE_WORDS.get(rule, rule)
+
+
 @dataclass(frozen=True, slots=True)
 class Concurrency:
-    """The concurrency test of one window (see the module notes for the rule)."""
+    """The concurrency test of one window (see the module notes for the rule).
+
+    ``found`` is the concurrent days the test finds; ``days`` those that stay
+    concurrent under ``rule`` (all of them under ``time-only``, none under
+    ``apportion``, none under ``dominant`` unless the parties tie);
+    ``by_rule`` the concurrent days the rule gave to each party.
+    """
 
     days: int
     parties: tuple[str, ...]
     events: tuple[str, ...]
     recovered_alone: Mapping[str, int]
     recovered_together: int
-    rule: str = CONCURRENCY_RULE
+    rule: str = "time-only"
+    found: int = 0
+    critical: Mapping[str, int] = field(default_factory=frozen_mapping)
+    by_rule: Mapping[str, int] = field(default_factory=frozen_mapping)
 
 
 # --- concurrency: but-for inside the window ----------------------------------------
@@ -121,7 +172,7 @@ def _concurrency(ctx: _Ctx, chain: list[Contributor], revision: Sequence[Revisio
     parties = sorted({p for m in own.values() for p in m} | set(revising))
     slip = ctx.run.window.slip
     if len(parties) < 2:
-        return Concurrency(0, (), (), frozen_mapping({}), 0)
+        return Concurrency(0, (), (), frozen_mapping({}), 0, rule=cf.project.concurrency)
 
     runs: dict[frozenset[str], int] = {}  # each group is rescheduled once
 
@@ -140,7 +191,8 @@ def _concurrency(ctx: _Ctx, chain: list[Contributor], revision: Sequence[Revisio
     days = max(0, together - sum(max(0, r) for r in alone.values()))
     # Who is involved matters only when there are concurrent days; the
     # "all but P" runs are skipped otherwise (they change nothing reported).
-    involved = tuple(p for p in parties if together - recovered(set(parties) - {p}) > alone[p]) if days else ()
+    critical = {p: together - recovered(set(parties) - {p}) for p in parties} if days else {}
+    involved = tuple(p for p in parties if critical[p] > alone[p]) if days else ()
     held = sum(c.days for c in chain if c.party in involved and c.days > 0)
     held += sum(s.days for s in revision if s.party in involved and s.days > 0)
     days = min(days, held)
@@ -149,7 +201,113 @@ def _concurrency(ctx: _Ctx, chain: list[Contributor], revision: Sequence[Revisio
     # of theirs that made some path late.
     shares = [(c.party, c.event, c.days) for c in chain] + [(s.party, s.event, s.days) for s in revision]
     events = tuple(sorted({e for p, e, d in shares if p in involved and e and d > 0}))
-    return Concurrency(days, involved if days else (), events if days else (), frozen_mapping(alone), together)
+    return Concurrency(
+        days, involved if days else (), events if days else (), frozen_mapping(alone), together,
+        rule=cf.project.concurrency, found=days,
+        critical=frozen_mapping({p: critical[p] for p in involved}) if days else frozen_mapping({}),
+    )
+
+
+def _quotas(conc: Concurrency) -> dict[str, int]:
+    """The concurrent days each involved party answers for under the rule (empty: they stay concurrent).
+
+    ``apportion`` splits them in the ratio of the parties' critical delay
+    (``critical``: what each party's delays alone cost, R(all) - R(all but
+    it)), largest remainder, ties in party order; ``dominant`` gives them
+    all to the party with the longest critical delay, and leaves them
+    concurrent when two parties tie.
+    """
+    if not conc.days or conc.rule == "time-only":
+        return {}
+    parties = list(conc.parties)
+    weights = [max(0, conc.critical.get(p, 0)) for p in parties]
+    if not sum(weights):
+        return {}
+    if conc.rule == "apportion":
+        return dict(zip(parties, _apportion(conc.days, weights), strict=True))
+    top = max(weights)
+    if weights.count(top) > 1:
+        return {}
+    return {parties[weights.index(top)]: conc.days}
+
+
+def _resolve(
+    cf: Casefile, chain: list[Contributor], revision: list[RevisionShare], conc: Concurrency
+) -> tuple[list[Contributor], list[RevisionShare], Concurrency]:
+    """Give the concurrent days to the parties as the rule says (``time-only``: unchanged).
+
+    Each party's quota is taken first from the concurrent pieces cut from its
+    own shares (they get back the category of their event, or of the
+    performing party's role); a party whose quota is larger than its pieces
+    takes the rest on its largest share; pieces beyond the quotas go.
+    Every sum still adds up: the quotas add up to the concurrent days.
+    """
+    quota = _quotas(conc)
+    if not quota:
+        return chain, revision, conc
+
+    def category(x) -> str | None:
+        if x.event is not None:
+            return cf.event(x.event).category
+        party = cf.parties.get(x.party)
+        return DEFAULT_CATEGORY.get(party.role) if party else None
+
+    left = dict(quota)
+    out: list[list] = [[], []]
+    spare: list[list] = [[], []]  # concurrent days beyond their party's quota, by kind
+    for kind, seq in ((0, chain), (1, revision)):
+        for x in seq:
+            if x.category != CONCURRENT:
+                out[kind].append(x)
+                continue
+            give = min(x.days, left.get(x.party, 0))
+            if give:
+                left[x.party] -= give
+                out[kind].append(replace(x, days=give, category=category(x)))
+            if x.days - give:
+                spare[kind].append(replace(x, days=x.days - give))
+    # A party whose quota is larger than its own concurrent pieces takes the
+    # rest from the spare days of the same kind (progress stays progress,
+    # revision stays revision, so both sums still hold): on its largest share
+    # of that kind, else on its event named in the concurrency, else on the
+    # spare piece itself in its name.
+    for party in sorted(left):
+        for kind in (0, 1):
+            while left[party] > 0 and spare[kind]:
+                piece = spare[kind][0]
+                take = min(left[party], piece.days)
+                left[party] -= take
+                if take == piece.days:
+                    spare[kind].pop(0)
+                else:
+                    spare[kind][0] = replace(piece, days=piece.days - take)
+                own = [(x.days, -i, i) for i, x in enumerate(out[kind]) if x.party == party and x.days > 0]
+                if own:
+                    i = max(own)[2]
+                    out[kind][i] = replace(out[kind][i], days=out[kind][i].days + take)
+                    continue
+                ev = next((cf.event(e) for e in conc.events if cf.event(e).party == party), None)
+                role = cf.parties[party].role if party in cf.parties else None
+                cat = ev.category if ev else DEFAULT_CATEGORY.get(role)
+                if kind == 0:
+                    act = ev.activities[0] if ev is not None and ev.activities else piece.activity
+                    out[0].append(Contributor(act, take, ev.id if ev else None, party, cat))
+                else:
+                    out[1].append(replace(piece, days=take, party=party, event=ev.id if ev else piece.event, category=cat))
+    merged = []
+    for kind in (0, 1):  # a piece given back next to the share it was cut from is one share again
+        rows: list = []
+        for x in out[kind]:
+            if rows and (rows[-1].party, rows[-1].event, rows[-1].category, _what(rows[-1])) == (x.party, x.event, x.category, _what(x)):
+                rows[-1] = replace(rows[-1], days=rows[-1].days + x.days)
+            else:
+                rows.append(x)
+        merged.append(rows)
+    return merged[0], merged[1], replace(conc, days=0, by_rule=frozen_mapping(quota))
+
+
+def _what(x) -> object:
+    return x.activity if isinstance(x, Contributor) else x.activities
 
 
 def _take_concurrent(
@@ -205,7 +363,7 @@ def concurrency_table(analysis: DelayAnalysis) -> Table:
     rows = []
     for att in analysis.attributions:
         c = att.concurrent
-        if c.days:
+        if c.found:
             alone = " ".join(f"{p}:{d}" for p, d in sorted(c.recovered_alone.items()))
             rows.append((att.window_label, c.days, c.parties, c.events, alone, c.recovered_together))
     return Table(

@@ -31,6 +31,20 @@ slip and walk back along the driving path:
   reaches it beyond its driver's variance is the same delay stretched by a
   non-working period of the calendars (a holiday or a shutdown crossed).
 
+* except that a started activity held by work or logic that the later
+  update's revisions brought in (an added activity, or a link the earlier
+  update did not have, started or finished in the later update) hands the
+  days on to that revision when it held ``a`` longer than the driver: its
+  *hold* is its date in the later update against the latest date that
+  would not have held ``a`` as the earlier update planned it. The half-step
+  leaves the revision out, so without this rule the walk would give the
+  delay it caused to late predecessors whose lateness float had absorbed,
+  and grouping windows would move an event's days to another party. Added
+  work keeps what reaches it, less what its own holding predecessor
+  inherits (the same clamp); new logic leaves the days with ``a``, for the
+  event that changed ``a``'s logic (one listing ``a``). Added work answers
+  to the event whose fragnet or listed activities it is.
+
 Each step hands on part of ``X`` and keeps the rest, so the shares add up to
 the progress slip exactly, with no rounding. The clamp means no share is
 larger than the days reaching it or of the other sign: a predecessor's
@@ -131,6 +145,7 @@ class _Ctx:
     before: ScheduleResult
     v: Mapping[str, int]
     preds: Mapping[str, tuple[tuple[str, str], ...]]
+    later_preds: Mapping[str, tuple[tuple[str, str, bool], ...]]
 
 
 def _column(result: ScheduleResult, name: str) -> np.ndarray:
@@ -174,7 +189,17 @@ def _context(casefile: Casefile, run: WindowRun) -> _Ctx:
     preds: dict[str, list[tuple[str, str]]] = {}
     for link in run.half.links:
         preds.setdefault(link.succ, []).append((link.pred, link.type))
-    return _Ctx(casefile, run, half, before, v, {k: tuple(x) for k, x in preds.items()})
+    later: dict[str, list[tuple[str, str, bool]]] = {}
+    earlier_keys = {lk.key for lk in run.earlier.links}
+    if run.window.added or len(earlier_keys) != len(run.later.links) or earlier_keys != {lk.key for lk in run.later.links}:
+        for link in run.later.links:
+            new_link = link.key not in earlier_keys
+            if new_link or link.pred not in v:
+                later.setdefault(link.succ, []).append((link.pred, link.type, new_link))
+    return _Ctx(
+        casefile, run, half, before, v, {k: tuple(x) for k, x in preds.items()},
+        frozen_mapping({k: tuple(x) for k, x in later.items()}),
+    )
 
 
 def _calendar(ctx: _Ctx, aid: str):
@@ -196,6 +221,70 @@ def _held(ctx: _Ctx, p: str, typ: str, a: str) -> bool:
     return p_ref >= previous_workday(_calendar(ctx, p), actual - timedelta(days=1))
 
 
+def _hold(ctx: _Ctx, p: str, typ: str, a: str) -> int:
+    """Delay units by which ``p`` (as the later update has it) held ``a``'s planned start (finish).
+
+    The later update's date of ``p`` that the link times from, against the
+    latest such date that would not have held ``a`` at its start (finish)
+    in the earlier update: the day before, on ``p``'s calendar, as in
+    :func:`_held`. Positive when ``p`` held ``a`` beyond its plan.
+    """
+    count = unit_counter(ctx.casefile)
+    rp, ba = ctx.run.after[p], ctx.before[a]
+    p_ref = rp.early_start if typ in ("SS", "SF") else rp.early_finish
+    planned = ba.early_start if typ in ("FS", "SS") else ba.early_finish
+    act = ctx.run.later.activities[p]
+    cal = ctx.casefile.calendars[act.calendar or ctx.casefile.project.default_calendar]
+    limit = planned - timedelta(days=1) if typ in ("SS", "SF") else previous_workday(cal, planned - timedelta(days=1))
+    return count(p_ref) - count(limit)
+
+
+def _brought_in(ctx: _Ctx, a: str) -> dict[str, int]:
+    """Predecessors that the later update's revisions put before started ``a``: {pred: hold}.
+
+    Added work (an activity absent from the earlier update) and changed
+    logic (a link the earlier update did not have) that is started or
+    finished in the later update and held ``a`` (see :func:`_hold`). The
+    half-step leaves both out, so without them the walk would hand the
+    delay they caused to late predecessors whose lateness float absorbed.
+    """
+    if not ctx.later_preds or ctx.half[a].status == "not-started":
+        return {}
+    out = {}
+    for p, typ, new_link in ctx.later_preds.get(a, ()):
+        if p in ctx.v and not new_link:
+            continue
+        rp = ctx.run.after.activities.get(p)
+        if rp is None or rp.status == "not-started" or ctx.before.activities.get(a) is None:
+            continue
+        h = _hold(ctx, p, typ, a)
+        if h > 0:
+            out[p] = max(h, out.get(p, 0))
+    return out
+
+
+def _added_driver(ctx: _Ctx, q: str) -> str | None:
+    """The predecessor that held added work ``q`` in the later update (the latest to release it)."""
+    rq = ctx.run.after[q]
+    if rq.status == "not-started":
+        return None
+    best, best_ref = None, None
+    for p, typ, _ in ctx.later_preds.get(q, ()):
+        rp = ctx.run.after.activities.get(p)
+        if rp is None or rp.status == "not-started":
+            continue
+        if typ in ("SS", "SF"):
+            ref, need = rp.early_start, rq.early_start if typ == "SS" else rq.early_finish
+        else:
+            act = ctx.run.later.activities[p]
+            cal = ctx.casefile.calendars[act.calendar or ctx.casefile.project.default_calendar]
+            ref = rp.early_finish
+            need = previous_workday(cal, (rq.early_start if typ == "FS" else rq.early_finish) - timedelta(days=1))
+        if ref >= need and (best_ref is None or ref > best_ref):
+            best, best_ref = p, ref
+    return best
+
+
 def _driver(ctx: _Ctx, a: str, x: int) -> str | None:
     cands = [p for p in ctx.half[a].driving_predecessors if p in ctx.v]
     if not cands:
@@ -210,6 +299,19 @@ def _driver(ctx: _Ctx, a: str, x: int) -> str | None:
     return pick(cands, key=lambda p: ctx.v[p])
 
 
+def _revised_driver(ctx: _Ctx, a: str, x: int, p: str | None) -> tuple[str, int] | None:
+    """A revision (added work or new logic) that held ``a`` more than the walk's driver ``p``, and its hold."""
+    if x <= 0 or (p is not None and p in ctx.half[a].driving_predecessors):
+        return None
+    held = _brought_in(ctx, a)
+    if not held:
+        return None
+    q = max(held, key=lambda k: held[k])
+    if p is not None and held[q] <= ctx.v[p]:
+        return None
+    return q, held[q]
+
+
 def _split(ctx: _Ctx, a: str, x: int, local: bool) -> list[tuple[str, int]]:
     """Hand ``x`` days reaching ``a`` back along its driving path: [(activity, own share)].
 
@@ -220,13 +322,42 @@ def _split(ctx: _Ctx, a: str, x: int, local: bool) -> list[tuple[str, int]]:
     seen: set[str] = set()
     while x != 0:
         seen.add(a)
-        p = _driver(ctx, a, x)
-        if p is None or p in seen:
-            out.append((a, x))
-            break
+        if a not in ctx.v:  # added work (reached from the activity it held)
+            p = _added_driver(ctx, a)
+            if p is None or p in seen:
+                out.append((a, x))
+                break
+            if p not in ctx.v:  # added work held by added work: the days pass on whole
+                out.append((a, 0))
+                a = p
+                continue
+        else:
+            p = _driver(ctx, a, x)
+            rev = _revised_driver(ctx, a, x, p)
+            if rev is not None:
+                # Held by work or logic that a revision brought in: the days it
+                # held ``a`` are that revision's, whatever the grouping of windows.
+                q, h = rev
+                if q in ctx.v:  # new logic from existing work: the event that changed ``a``'s logic
+                    out.append((a, x))
+                    break
+                inherited = min(h, x)
+                out.append((a, x - inherited))
+                if local and ctx.run.after[q].status != "finished":
+                    break
+                a, x = q, inherited
+                continue
+            if p is None or p in seen:
+                out.append((a, x))
+                break
         vp = ctx.v[p]
         inherited = min(max(vp, 0), x) if x > 0 else max(min(vp, 0), x)
-        if inherited and ctx.half[a].status == "not-started" and p in ctx.half[a].driving_predecessors:
+        if (
+            inherited
+            and a in ctx.v
+            and ctx.half[a].status == "not-started"
+            and p in ctx.half[a].driving_predecessors
+        ):
             # Work not started keeps its plan: logic alone places it, so what
             # reaches it beyond its driver's variance is the calendars' effect
             # on that same delay (a non-working period crossed), not its own.
@@ -275,6 +406,13 @@ def _attribute(ctx: _Ctx, aid: str, days: int) -> list[Contributor]:
             for ev in ctx.casefile.events
             if aid in ev.activities and (n := _overlap(ev, w.start, w.end)) > 0
         ]
+        if not covering and aid in w.added:
+            # added work answers to the event that brought it in (its fragnet or listed work)
+            covering = [
+                (ev, max(1, _overlap(ev, w.start, w.end)))
+                for ev in ctx.casefile.events
+                if aid in _event_ids(ctx.casefile, ev)
+            ]
         if covering:
             parts = _apportion(days, [n for _, n in covering])
             return [
@@ -327,7 +465,7 @@ def _take_out(ctx: _Ctx, snap: Snapshot, events: Sequence[Event]) -> tuple[Snaps
             if aid in ids and aid not in drop:
                 drop.add(aid)
                 touched.append(aid)
-        if _overlap(ev, w.start, w.end) == 0:
+        if _overlap(ev, run.revision_start or w.start, w.end) == 0:
             continue
         listed = set(ev.activities)
         for aid in ev.activities:

@@ -24,6 +24,7 @@ __all__ = [
     "FrozenDict",
     "ACTIVITY_KINDS",
     "CATEGORIES",
+    "CONCURRENCY_RULES",
     "CONSTRAINT_KINDS",
     "HARD_CONSTRAINTS",
     "LINK_TYPES",
@@ -55,6 +56,8 @@ CONSTRAINT_KINDS = (
 HARD_CONSTRAINTS = ("start-by", "finish-by", "start-fixed", "finish-fixed")
 PARTY_ROLES = ("owner", "contractor", "neutral")
 CATEGORIES = ("excusable-compensable", "excusable-noncompensable", "non-excusable")
+# The manifest's ``concurrency`` rule for concurrent days (casefile format v2).
+CONCURRENCY_RULES = ("time-only", "apportion", "dominant")
 # The category an event takes from its party's role when events.csv leaves it
 # blank (casefile format, events.csv): owner risk is excusable and
 # compensable, a neutral cause excusable only, the contractor's own delay
@@ -276,6 +279,7 @@ class Project:
     delay_unit: str = "calendar-days"  # or "working-days"
     progress_logic: str = "retained"  # or "override"
     critical_float: int = 0
+    concurrency: str = "time-only"  # or "apportion" / "dominant": the rule for concurrent days
 
 
 @dataclass(frozen=True, slots=True)

@@ -24,8 +24,8 @@ AACE International Recommended Practice 49R-06, Identifying the Critical Path.
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
-from datetime import date
+from dataclasses import dataclass, field
+from datetime import date, timedelta
 
 from .calendars import workdays_between
 from .engine import ScheduleResult, schedule
@@ -37,6 +37,7 @@ __all__ = [
     "SnapshotTrend",
     "TrendResult",
     "completion_trend",
+    "contract_float",
     "delay_between",
 ]
 
@@ -66,7 +67,14 @@ class SnapshotTrend:
     ``movement`` from the previous snapshot's (``None`` for the baseline),
     both in the delay unit (positive = later). ``variance`` is the forecast
     against the contractual completion (positive = after it; ``None`` when
-    the casefile gives none). ``band_counts`` holds the number of activities
+    the casefile gives none). ``milestone_floats`` is the *network* total
+    float (to the project's own finish, as the engine computes it); it
+    stays 0 on a completion that is late, because the network's finish
+    moves with it. ``contract_floats`` is the float *to the contractual
+    date*: for the completion the contract completion, for a key milestone
+    its sectional or key date (the baseline's start-by, finish-by or fixed
+    constraint), in working days of its calendar, negative when the
+    forecast is after the date (see :func:`contract_float`). ``band_counts`` holds the number of activities
     not finished in each float band; ``finished`` counts the rest.
     """
 
@@ -85,6 +93,7 @@ class SnapshotTrend:
     finished: int
     critical: int
     longest_path: tuple[str, ...]
+    contract_floats: Mapping[str, int | None] = field(default_factory=frozen_mapping)
 
 
 @dataclass(frozen=True, slots=True)
@@ -99,6 +108,7 @@ class TrendResult:
     milestone_names: Mapping[str, str]
     snapshots: tuple[SnapshotTrend, ...]
     schedules: tuple[ScheduleResult, ...]
+    contract_dates: Mapping[str, date] = field(default_factory=frozen_mapping)
 
     @property
     def latest(self) -> SnapshotTrend:
@@ -115,6 +125,33 @@ def delay_between(casefile: Casefile, earlier: date, later: date) -> int:
         cal = casefile.calendars[casefile.project.default_calendar]
         return workdays_between(cal, earlier, later)
     return (later - earlier).days
+
+
+_KEY_DATE_KINDS = {"finish-by": "finish", "finish-fixed": "finish", "start-by": "start", "start-fixed": "start"}
+
+
+def contract_float(cal, forecast: date, contractual: date) -> int:
+    """Working days of ``cal`` from a forecast date to its contractual date: float to the contract.
+
+    ``workdays in [forecast + 1, contractual + 1)``: 0 when the forecast is on
+    the date, negative (``-workdays in [contractual + 1, forecast + 1)``)
+    when it is after it, as total float is negative against a date that is
+    missed (AACE RP 49R-06, negative float against a constraint; GAO-16-89G
+    best practice 6: float erosion measured against the required dates).
+    """
+    return workdays_between(cal, forecast + timedelta(days=1), contractual + timedelta(days=1))
+
+
+def _contract_dates(casefile: Casefile, keys: Sequence[str], completion: str) -> dict[str, tuple[str, date]]:
+    """Milestone -> (date kind, contractual date): the completion and the baseline's key dates."""
+    out: dict[str, tuple[str, date]] = {}
+    if casefile.project.contract_completion is not None:
+        out[completion] = ("finish", casefile.project.contract_completion)
+    for k in keys:
+        a = casefile.baseline.activities.get(k)
+        if a is not None and a.constraint in _KEY_DATE_KINDS and a.constraint_date is not None and k not in out:
+            out[k] = (_KEY_DATE_KINDS[a.constraint], a.constraint_date)
+    return out
 
 
 def make_bands(edges: Sequence[int]) -> tuple[FloatBand, ...]:
@@ -188,6 +225,7 @@ def completion_trend(
             names[k] = k
     base_completion = schedules[0].completion
     contract = casefile.project.contract_completion
+    cdates = _contract_dates(casefile, keys, schedules[0].completion_id)
     rows = []
     previous: date | None = None
     for snap, res in zip(casefile.snapshots, schedules, strict=True):
@@ -201,6 +239,16 @@ def completion_trend(
                 if band.holds(x.total_float):
                     counts[b] += 1
                     break
+        cfloats: dict[str, int | None] = {}
+        for k, (kind, cdate) in cdates.items():
+            x = res.activities.get(k)
+            act = snap.activities.get(k)
+            if x is None or act is None:
+                cfloats[k] = None
+                continue
+            cal = casefile.calendars[act.calendar or casefile.project.default_calendar]
+            forecast = x.early_start if kind == "start" else x.early_finish
+            cfloats[k] = contract_float(cal, forecast, cdate)
         mdates = {}
         mfloats = {}
         for k in keys:
@@ -224,6 +272,7 @@ def completion_trend(
                 finished=finished,
                 critical=len(res.critical_ids),
                 longest_path=res.longest_path,
+                contract_floats=frozen_mapping(cfloats),
             )
         )
         previous = res.completion
@@ -236,4 +285,5 @@ def completion_trend(
         milestone_names=frozen_mapping(names),
         snapshots=tuple(rows),
         schedules=schedules,
+        contract_dates=frozen_mapping({k: d for k, (_, d) in cdates.items()}),
     )

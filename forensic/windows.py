@@ -64,10 +64,14 @@ __all__ = [
     "WindowRun",
     "WindowsAnalysis",
     "analyse_windows",
+    "auto_boundaries",
     "half_step",
     "unit_counter",
     "unit_shift",
+    "slice_cuts",
+    "slice_snapshot",
     "window_boundaries",
+    "window_run",
     "windows_table",
 ]
 
@@ -191,10 +195,26 @@ class Window:
     path_left: tuple[str, ...]
     added: tuple[str, ...]
     deleted: tuple[str, ...]
+    path_left_open: tuple[str, ...] = ()
+    path_joined_old: tuple[str, ...] = ()
 
     @property
     def label(self) -> str:
         return f"{self.from_id}-{self.to_id}"
+
+    @property
+    def path_switched(self) -> tuple[str, ...]:
+        """Unfinished work that left or joined the critical path inside the window (empty: stable).
+
+        Activities of the earlier update's longest path still on the later
+        update's path are the same path; those that left it without being
+        finished, and those that joined it from work the earlier update
+        already had, mean the driving path switched inside the window, so a
+        grouping of windows there is not stable (common practice:
+        AACE RP 29R-03 protocol 3.3 windows drawn where the critical path
+        changes; from memory).
+        """
+        return tuple(a for a in (*self.path_left_open, *self.path_joined_old))
 
 
 @dataclass(frozen=True, slots=True)
@@ -208,6 +228,7 @@ class WindowRun:
     before: ScheduleResult
     half_result: ScheduleResult
     after: ScheduleResult
+    revision_start: date | None = None  # a window's last slice: revisions of events from the window's start
 
 
 @dataclass(frozen=True, slots=True)
@@ -233,6 +254,8 @@ def window_boundaries(casefile: Casefile, ids: Sequence[str] | None = None) -> t
     last update added at the ends so the windows cover the whole record.
     """
     order = [s.id for s in casefile.snapshots]
+    if ids is not None and list(ids) == ["auto"]:
+        return auto_boundaries(casefile)
     chosen = list(ids) if ids else list(casefile.windows)
     if not chosen:
         return tuple(order)
@@ -251,9 +274,152 @@ def window_boundaries(casefile: Casefile, ids: Sequence[str] | None = None) -> t
     return tuple(chosen)
 
 
+def auto_boundaries(casefile: Casefile) -> tuple[str, ...]:
+    """Window boundaries at the updates where the driving path changes (``--windows auto``).
+
+    Every monthly window is run; an update closes a window when the monthly
+    window ending there has its critical path switched (:attr:`Window.path_switched`),
+    so each grouped window keeps one driving path (AACE RP 29R-03 protocol
+    3.3, windows drawn at changes of the critical path; from memory).
+    """
+    order = [s.id for s in casefile.snapshots]
+    an = analyse_windows(casefile, order)
+    cut = [w.to_id for w in an.windows if w.path_switched]
+    chosen = [order[0], *(c for c in cut if c != order[0])]
+    if chosen[-1] != order[-1]:
+        chosen.append(order[-1])
+    return tuple(chosen)
+
+
 def _moved(before: Sequence[str], after: Sequence[str]) -> tuple[tuple[str, ...], tuple[str, ...]]:
     b, a = set(before), set(after)
     return tuple(x for x in after if x not in b), tuple(x for x in before if x not in a)
+
+
+def _event_days(casefile: Casefile, aid: str, cal, lo: date, hi: date) -> int:
+    """Working days of ``cal`` in ``[lo, hi)`` on which an event listing ``aid`` acts."""
+    days: set[date] = set()
+    for ev in casefile.events:
+        if aid not in ev.activities:
+            continue
+        a, b = max(ev.start, lo), min(ev.finish + timedelta(days=1), hi)
+        d = a
+        while d < b:
+            days.add(d)
+            d += timedelta(days=1)
+    return sum(1 for d in days if workdays_between(cal, d, d + timedelta(days=1)))
+
+
+def slice_snapshot(casefile: Casefile, earlier: Snapshot, later: Snapshot, t: date) -> Snapshot:
+    """The earlier plan with the progress of day ``t`` reconstructed from the later update's record.
+
+    Rules (daily reconstruction of progress between two updates):
+
+    * work the later update shows finished before ``t`` is finished, at its
+      actual dates; work it shows started before ``t`` is in progress at
+      ``t``; anything else keeps the earlier update's record;
+    * the remaining duration at ``t`` of work in progress is the working
+      days from ``t`` to its actual finish (or to the later data date, plus
+      the later remaining duration) on which no event listing it acts: work
+      goes on at the planned rate except on the days an event stops it,
+      which is where the updates do not say;
+    * logic, durations and calendars are the earlier update's (a revision
+      is not progress; AACE RP 29R-03 protocol 3.4), so a chain of these
+      snapshots telescopes to the half-step schedule.
+
+    References
+    ----------
+    AACE RP 29R-03, protocols 3.3 and 3.4 (windows, half-step); SCL Protocol
+    2nd ed., Appendix A (time slice windows).
+    """
+    acts = {}
+    for aid, a in earlier.activities.items():
+        b = later.activities.get(aid)
+        if b is None or b.actual_start is None or b.actual_start >= t:
+            acts[aid] = a
+            continue
+        cal = casefile.calendars[a.calendar or casefile.project.default_calendar]
+        if b.actual_finish is not None and b.actual_finish < t:
+            acts[aid] = replace(a, actual_start=b.actual_start, actual_finish=b.actual_finish,
+                                remaining=0, percent_complete=b.percent_complete)
+            continue
+        if a.is_milestone or a.duration == 0:
+            acts[aid] = replace(a, actual_start=b.actual_start, actual_finish=None, remaining=0)
+            continue
+        if b.actual_finish is not None:
+            end = b.actual_finish + timedelta(days=1)
+            rem = workdays_between(cal, t, end) - _event_days(casefile, aid, cal, t, end)
+        else:
+            rem = b.remaining_duration + workdays_between(cal, t, later.data_date)
+            rem -= _event_days(casefile, aid, cal, t, later.data_date)
+        rem = max(1, min(rem, a.duration if not a.is_started else a.remaining_duration))
+        acts[aid] = replace(a, actual_start=b.actual_start, actual_finish=None, remaining=rem)
+    return Snapshot(
+        id=f"{earlier.id}@{t.isoformat()}",
+        data_date=t,
+        activities=frozen_mapping(acts),
+        links=earlier.links,
+        role="update",
+    )
+
+
+def slice_cuts(casefile: Casefile, start: date, end: date) -> tuple[date, ...]:
+    """The dates inside ``(start, end)`` that split a window into slices of overlapping events.
+
+    The events that act in the window (their dates overlap it and they list
+    activities) are grouped where their dates overlap, chained; each group
+    after the first begins a new slice on its first day. Delays in
+    different slices are sequential, never concurrent (SCL Protocol 2nd
+    ed., core principle 10: concurrency needs delays of roughly the same
+    time).
+    """
+    spans = sorted(
+        (max(ev.start, start), min(ev.finish, end - timedelta(days=1)))
+        for ev in casefile.events
+        if ev.activities and ev.start < end and ev.finish >= start
+    )
+    cuts = []
+    reach = None
+    for lo, hi in spans:
+        if reach is not None and lo > reach and start < lo < end:
+            cuts.append(lo)
+        reach = hi if reach is None else max(reach, hi)
+    return tuple(cuts)
+
+
+def window_run(casefile: Casefile, earlier: Snapshot, later: Snapshot, sched=None) -> WindowRun:
+    """One window's three schedules and figures (earlier, half-step, later)."""
+    count = unit_counter(casefile)
+    sched = sched or (lambda snap: schedule(snap, casefile.calendars, casefile.project))
+    hs = half_step(earlier, later)
+    before, after = sched(earlier), sched(later)
+    mid = schedule(hs.snapshot, casefile.calendars, casefile.project)
+    joined, left = _moved(before.longest_path, after.longest_path)
+    left_open = tuple(a for a in left if a in after.activities and after[a].status != "finished")
+    joined_old = tuple(a for a in joined if a in before.activities and before[a].status != "finished")
+    c0, c1, ch = count(before.completion), count(after.completion), count(mid.completion)
+    w = Window(
+        from_id=earlier.id,
+        to_id=later.id,
+        start=earlier.data_date,
+        end=later.data_date,
+        completion_before=before.completion,
+        completion_after=after.completion,
+        half_step_completion=mid.completion,
+        slip=c1 - c0,
+        progress_slip=ch - c0,
+        revision_slip=c1 - ch,
+        critical_path_before=before.longest_path,
+        critical_path_after=after.longest_path,
+        half_step_path=mid.longest_path,
+        path_joined=joined,
+        path_left=left,
+        added=hs.added,
+        deleted=hs.deleted,
+        path_left_open=left_open,
+        path_joined_old=joined_old,
+    )
+    return WindowRun(w, earlier, later, hs.snapshot, before, mid, after)
 
 
 def analyse_windows(casefile: Casefile, windows: Sequence[str] | None = None) -> WindowsAnalysis:
@@ -294,32 +460,7 @@ def analyse_windows(casefile: Casefile, windows: Sequence[str] | None = None) ->
 
     runs = []
     for a_id, b_id in zip(ids, ids[1:], strict=False):
-        earlier, later = casefile.snapshot(a_id), casefile.snapshot(b_id)
-        hs = half_step(earlier, later)
-        before, after = sched(earlier), sched(later)
-        mid = schedule(hs.snapshot, casefile.calendars, casefile.project)
-        joined, left = _moved(before.longest_path, after.longest_path)
-        c0, c1, ch = count(before.completion), count(after.completion), count(mid.completion)
-        w = Window(
-            from_id=a_id,
-            to_id=b_id,
-            start=earlier.data_date,
-            end=later.data_date,
-            completion_before=before.completion,
-            completion_after=after.completion,
-            half_step_completion=mid.completion,
-            slip=c1 - c0,
-            progress_slip=ch - c0,
-            revision_slip=c1 - ch,
-            critical_path_before=before.longest_path,
-            critical_path_after=after.longest_path,
-            half_step_path=mid.longest_path,
-            path_joined=joined,
-            path_left=left,
-            added=hs.added,
-            deleted=hs.deleted,
-        )
-        runs.append(WindowRun(w, earlier, later, hs.snapshot, before, mid, after))
+        runs.append(window_run(casefile, casefile.snapshot(a_id), casefile.snapshot(b_id), sched))
     first, last = runs[0].before, runs[-1].after
     return WindowsAnalysis(
         unit=casefile.project.delay_unit,

@@ -66,3 +66,36 @@ def test_bands_from_edges_cover_every_value():
     bands = make_bands([0, 1, 6, 21])
     for v in range(-50, 60):
         assert sum(b.holds(v) for b in bands) == 1
+
+
+def test_float_to_the_contract_date_goes_negative_when_the_network_float_stays_zero():
+    """M's network float is 0 in both snapshots; against the contract date 20 Feb 2026 it is +5 then -5 (worked by hand).
+
+    BL: M on Fri 13 Feb; working days after it up to and including Fri 20 Feb:
+    Mon 16 - Fri 20 = 5. U01: M on Fri 27 Feb, a week after the date: Mon 23 -
+    Fri 27 = 5 working days late, -5 (negative float against a missed date:
+    AACE RP 49R-06, from memory; GAO-16-89G best practice 6).
+    """
+    t = completion_trend(casefile())
+    bl, u1 = t.snapshots
+    assert (bl.completion_float, u1.completion_float) == (0, 0)
+    assert (bl.contract_floats["M"], u1.contract_floats["M"]) == (5, -5)
+    assert dict(t.contract_dates) == {"M": date(2026, 2, 20)}
+
+
+def test_demo_completion_float_to_contract_matches_its_lateness():
+    """Demo: M900 keeps network float 0 from BL to U10 but is 43 calendar days late: -31 working days to the contract.
+
+    10 Jun 2027 (contract) to 23 Jul 2027 (U10 forecast): Fri 11 Jun, then six
+    full weeks 14 Jun - 23 Jul (no holiday in them on the 5d calendar): 1 + 30
+    = 31 working days late. The river terrace key date (M-RIV, finish-by 25 Mar
+    2027) follows its network float, its own constraint (-6 at U10).
+    """
+    from forensic.casefile import load_casefile  # noqa: PLC0415
+    from forensic.demo import demo_source  # noqa: PLC0415
+
+    t = completion_trend(load_casefile(demo_source()))
+    last = t.latest
+    assert last.completion_float == 0 and last.variance == 43
+    assert last.contract_floats["M900"] == -31
+    assert last.contract_floats["M-RIV"] == last.milestone_floats["M-RIV"] == -6

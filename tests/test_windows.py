@@ -222,3 +222,26 @@ def test_as_built_table_headers_use_the_as_planned_as_built_terms():
     assert ASBUILT_COLUMNS == ("id", "name", "status", "as_planned_start", "as_planned_finish", "as_planned_days",
                                "as_built_start", "as_built_finish", "as_built_days", "forecast",
                                "start_slip", "finish_slip", "duration_growth")
+
+
+def test_windows_auto_groups_at_the_updates_where_the_driving_path_changes():
+    """Demo: the path switches in BL-U01, U04-U05, U05-U06, U06-U07 and U08-U09, so auto bounds at U01, U05, U06, U07, U09.
+
+    From the demo's story (casefiles/riverside/README.md): site works join the
+    path in BL-U01 (SITE-040); in U04-U05 the critical area moves from the hall
+    to the library (the hall deck and cladding leave it unfinished); in U05-U06
+    both are critical; in U06-U07 the library alone; in U08-U09 the south
+    curtain wall leaves the path. U01-U04, U07-U08 and U09-U10 keep their path.
+    """
+    from forensic.attribution import analyse_delay  # noqa: PLC0415
+    from forensic.casefile import load_casefile  # noqa: PLC0415
+    from forensic.demo import demo_source  # noqa: PLC0415
+    from forensic.windows import auto_boundaries  # noqa: PLC0415
+
+    cf = load_casefile(demo_source())
+    stable = [w.label for w in analyse_windows(cf).windows if not w.path_switched]
+    assert stable == ["U01-U02", "U02-U03", "U03-U04", "U07-U08", "U09-U10"]
+    assert auto_boundaries(cf) == ("BL", "U01", "U05", "U06", "U07", "U09", "U10")
+    an = analyse_delay(cf, ["auto"])
+    assert [w.label for w in an.windows.windows] == ["BL-U01", "U01-U05", "U05-U06", "U06-U07", "U07-U09", "U09-U10"]
+    assert an.ledger.balanced and an.ledger.total_slip == 43

@@ -14,6 +14,7 @@ from ..attribution import (
     contributors_table,
     delay_json,
     ledger_table,
+    rule_words,
 )
 from ..tables import to_csv
 from ..windows import windows_table
@@ -45,7 +46,8 @@ _TABLES = ("windows", "contributors", "ledger", "cumulative", "as-built")
 @click.option(
     "--windows", "bounds", metavar="IDS",
     help="Comma-separated snapshot ids that bound the windows, e.g. U01,U04,U08 "
-    "(the baseline and the last update are always added).",
+    "(the baseline and the last update are always added), or 'auto': at the updates "
+    "where the driving path changes.",
 )
 @click.option("--table", type=click.Choice(_TABLES), default=None,
               help="Table printed by --csv (default: windows); refused without --csv.")
@@ -101,6 +103,7 @@ def windows_command(casefile: Path, bounds: str | None, table: str | None, as_js
     else:
         say("no concurrent days in any window")
     say(f"Rule: {CONCURRENCY_RULE}.")
+    say(f"Concurrency rule (casefile concurrency): {rule_words(an.rule)}.")
     say("\nLedger per window:")
     emit(table_text(tables["ledger"](), keep=_LEDGER_KEEP))
     say("\nLedger cumulative:")

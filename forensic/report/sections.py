@@ -13,6 +13,7 @@ from xml.sax.saxutils import escape
 
 from reportlab.platypus import CondPageBreak, Flowable, KeepTogether, PageBreak, Paragraph, Spacer
 
+from ..concurrency import rule_words
 from ..trend import SnapshotTrend, delay_between
 from . import charts
 from .asbuilt_sections import ASBUILT_RENDERERS
@@ -276,6 +277,7 @@ def settings_rows(ctx: ReportContext) -> list[tuple[str, str]]:
     return [
         ("Progress logic", logic),
         ("Critical float", f"an activity is critical when its total float is at most {p.critical_float} working days"),
+        ("Concurrency rule", rule_words(p.concurrency)),
         ("Delay unit", unit),
         ("Window boundaries (data dates)", windows),
         ("Completion", comp),
