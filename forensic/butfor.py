@@ -53,15 +53,15 @@ How a delay event is represented and removed
   joins each predecessor to each successor through them, the link type
   taking the predecessor's end of the first link and the successor's end of
   the second, the lags added (as if the deleted activity took no time).
-- Otherwise the event held up the activities it names: on each named task
-  with actual dates, the working days of its calendar where the event's
-  dates overlap its actual dates (to the data date for work in progress).
-  Removing the event shortens the task by those days (at least to 1 day);
-  several events removed together on one task remove the union of their
-  days, so an overlap is not counted twice.
-- An event with neither (or whose days fall outside the named work, for
-  example one that held up only a start) is not represented; it is listed
-  in ``ButForCase.not_represented``.
+- Otherwise the working days it cost each task it hit: its stated
+  ``days_lost``, else the estimate from the record
+  (:func:`forensic.impact.estimate_days`: the task's overrun on working
+  days inside the event's period). Removing the event shortens the task by
+  them (at least to 1 day); estimated days of several events on one task
+  are capped together at its overrun inside the union of their periods, so
+  no day is counted twice. No event is removed as a total stoppage.
+- An event that can be neither is not represented; it is listed in
+  ``ButForCase.not_represented``, with the reason in ``EventDelay.why``.
 
 References
 ----------

@@ -25,15 +25,20 @@ The steps, as this module does them
    activity that is neither in the fragnet nor in the schedule, an id the
    schedule already has, or a loop, is refused with an error that names
    them. An event without a fragnet is represented instead by added
-   duration on the activities it names, over the working days where the
-   event overlaps their scheduled dates (:func:`apply_hold_up`).
+   duration on the activities it hit: its stated ``days_lost``, else the
+   days estimated from the record (:func:`estimate_days`: each activity's
+   overrun on working days inside the event's period), never the whole
+   period as a stoppage (:func:`apply_hold_up`, :func:`represent`); an
+   event with nothing to estimate is ``not-represented`` and adds nothing.
 4. **Reschedule** with :func:`forensic.engine.schedule` and report the
    completion and every milestone before and after, the time impact in the
    project's delay unit, the float consumed on the paths the fragnet
    touches, and the longest path of the impacted schedule.
 
-Several events are analysed each alone against its own unimpacted schedule
-and cumulatively, in date order, into one schedule (:func:`time_impacts`);
+Several events are analysed each alone against its own unimpacted schedule,
+in a contemporaneous series each into its own update with the result carried
+forward (:func:`time_impact_series`, MIP 3.7), and cumulatively, in date
+order, into one schedule (:func:`time_impacts`);
 the sum of the individual impacts is generally not the cumulative impact,
 because events on parallel paths overlap in time and each alone first has
 to consume the float that the other's path leaves (common practice; SCL

@@ -51,3 +51,9 @@ def test_but_for_reports_the_combined_cases_and_the_float_ownership_sentence(tex
     assert "The single-party cases add up to 11 calendar days, no more than the 36 calendar days" in text
     assert "who owns the float" in text
     assert "EV11: it has no fragnet and no days_lost" in text
+
+
+def test_cumulative_run_into_an_old_update_is_called_an_impacted_as_planned(text):
+    """The demo's cumulative run goes into U01; the nine events of later updates are named (AACE RP 52R-06)."""
+    assert "9 of these events (EV06, EV09, EV03, EV04, EV10, EV11, EV05, EV07 and EV08)" in text
+    assert "model an impacted as-planned, not a time impact analysis" in text

@@ -332,6 +332,13 @@ def time_impact(ctx: ReportContext, section: Section) -> list[Flowable]:
         bases=join_words(sorted({r.into for r in series.individual})),
     )
     out += _paras(text_or_none(ctx, section, "cumulative", fields))
+    if series.warnings:
+        # Events after later updates went into an older one: say it is an impacted as-planned (AACE RP 52R-06).
+        into = cf.snapshot(c.into)
+        later = [s.event for s in series.steps
+                 if any(x.data_date > into.data_date and x.data_date <= s.start for x in cf.snapshots)]
+        fields.update(data_date=long_date(into.data_date), later=join_words(later), count=len(later))
+        out += _paras(text_or_none(ctx, section, "cumulative_warning", fields))
     if section.options["table"] and series.steps:
         cols = (_col(section, "event", "Event"), _col(section, "start", "Event start"),
                 _col(section, "before", "Completion before"), _col(section, "after", "Completion after"),

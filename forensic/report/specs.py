@@ -280,6 +280,8 @@ SPECS: dict[str, SectionSpec] = {
                                "bases"),
                 "not_represented": _IMPACT,
                 "no_cost": _IMPACT,
+                "cumulative_warning": (*COMMON, "into", "impact", "impact_unit", "sum", "sum_unit", "non_additivity",
+                                       "events", "data_date", "later", "count"),
                 "none": COMMON,
             },
             options={"table": OptionSpec(bool, True)},
