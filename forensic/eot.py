@@ -44,6 +44,7 @@ from .errors import NotFoundError
 from .impact import time_impact_series, time_impacts
 from .model import Casefile, frozen_mapping
 from .tables import Table
+from .windows import auto_boundaries
 
 __all__ = [
     "METHODS",
@@ -323,6 +324,9 @@ def _sensitivity(casefile: Casefile, base: DelayAnalysis, tolerance: int,
         variants.append(("window grouping", "every update", casefile, monthly))
     if _quarterly(casefile) != tuple(bounds) and len(monthly) > 3:
         variants.append(("window grouping", "quarterly (every third update)", casefile, _quarterly(casefile)))
+    auto = auto_boundaries(casefile)
+    if tuple(auto) != tuple(bounds):
+        variants.append(("window grouping", "auto (at the updates where the driving path changes)", casefile, auto))
     other = "override" if casefile.project.progress_logic == "retained" else "retained"
     variants.append(("progress logic", other,
                      replace(casefile, project=replace(casefile.project, progress_logic=other)), None))
@@ -330,6 +334,10 @@ def _sensitivity(casefile: Casefile, base: DelayAnalysis, tolerance: int,
         if cf != casefile.project.critical_float:
             variants.append(("critical float", f"{cf} working days",
                              replace(casefile, project=replace(casefile.project, critical_float=cf)), None))
+    for rule in ("time-only", "apportion", "dominant"):
+        if rule != casefile.project.concurrency:
+            variants.append(("concurrency rule", rule,
+                             replace(casefile, project=replace(casefile.project, concurrency=rule)), None))
     for setting, value, cf, bounds in variants:
         progress(f"sensitivity: {setting} {value}")
         delay = analyse_delay(cf, bounds)

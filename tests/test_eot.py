@@ -101,7 +101,8 @@ def test_demo_sensitivity_rows_each_add_up_to_their_slip(demo_summary):
     """Each row's categories (the ledger's, less gains) and each party's days add up to the row's slip."""
     rows = demo_summary.sensitivity
     assert rows[0].setting == "as analysed" and not rows[0].moved
-    assert {r.setting for r in rows} >= {"window grouping", "progress logic", "critical float"}
+    assert {r.setting for r in rows} >= {"window grouping", "progress logic", "critical float", "concurrency rule"}
+    assert {r.value for r in rows if r.setting == "concurrency rule"} == {"apportion", "dominant"}
     for r in rows:
         assert sum(r.by_party.values()) + r.concurrent == r.slip == 43
     quarterly = next(r for r in rows if r.value.startswith("quarterly"))
