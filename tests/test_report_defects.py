@@ -153,3 +153,30 @@ def test_cumulative_impact_sentence_names_the_base_schedules(demo):
     words = ", ".join(bases[:-1]) + " and " + bases[-1]
     assert f"Each event alone went into its own unimpacted update ({words})" in text
     assert "change of base schedule between those updates" in text
+
+
+def test_acceleration_says_when_the_plan_is_not_proven_least_cost(demo, monkeypatch):
+    """With the solver's time limit cut to 0.01 s the plan still meets its target but is flagged in the PDF."""
+    import forensic.report as report_module
+    from forensic.recovery import recover
+
+    monkeypatch.setattr(report_module, "recover", lambda cf, sid, days: recover(cf, sid, days=days, time_limit=0.01))
+    text = " ".join(_pages(build_report(demo, "full", recover_days=10)))
+    assert "proven the cheapest: it meets its target, confirmed by the engine, but a cheaper plan may exist" in text
+    monkeypatch.undo()
+    assert "a cheaper plan may exist" not in " ".join(_pages(build_report(demo, "full", recover_days=10)))
+
+
+def test_tied_longest_paths_are_named_as_chains(demo, full_pages):
+    """BL's longest path is four tied chains (engine longest_paths): the appendix names each and numbers the bars."""
+    res = schedule(demo.baseline, demo.calendars, demo.project)
+    chains = res.longest_paths
+    assert len(chains) == 4
+    text = " ".join(full_pages)
+    assert f"the longest path is {len(chains)} chains through driving links" in text
+    for n, c in enumerate(chains, 1):
+        assert f"chain {n}, {len(c)} activities from {c[0]} to {c[-1]}" in text
+        # each chain is contiguous through links of the snapshot (a chain, not a list)
+        links = {(lk.pred, lk.succ) for lk in demo.baseline.links}
+        assert all((a, b) in links for a, b in zip(c, c[1:], strict=False))
+    assert "[1] M000 Notice to proceed" in text and "[2] " in text

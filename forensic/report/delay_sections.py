@@ -369,6 +369,10 @@ def acceleration(ctx: ReportContext, section: Section) -> list[Flowable] | None:
     )
     out = _paras(text_or_none(ctx, section, "intro"))
     out += _paras(fill(section.texts["text"], fields, _where(ctx, section, "text")))
+    if not plan.proven or any(not p.plan.proven for p in res.curve or ()):
+        # The solver's time limit cut the search: the plan meets its target in the engine
+        # but is not proven the cheapest (docs/recovery.md, "Time limit").
+        out += _paras(text_or_none(ctx, section, "not_proven", fields))
     cols = (_col(section, "activity", "Activity"), _col(section, "name", "Name"), _col(section, "days", "Shortened (wd)"),
             _col(section, "limit", "Limit (wd)"), _col(section, "cost_per_day", "Cost per day"), _col(section, "cost", "Cost"))
     body = [(s.id, s.name, s.days, s.limit, f"{s.cost_per_day:,.0f}", f"{s.cost:,.0f}") for s in plan.shortenings]

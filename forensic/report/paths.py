@@ -9,6 +9,7 @@ start). The bars are read from the engine's :class:`~forensic.engine.ScheduleRes
 from __future__ import annotations
 
 from collections.abc import Sequence
+from dataclasses import replace
 from datetime import date, timedelta
 from itertools import zip_longest
 from xml.sax.saxutils import escape
@@ -63,7 +64,7 @@ def _bar(aid: str, result: ScheduleResult, snap: Snapshot, data_date: date) -> c
 
 def path_chart(
     section: Section, path: Sequence[str], result: ScheduleResult, snap: Snapshot, data_date: date, limit: int,
-    *, continued: bool = False,
+    *, continued: bool = False, chains: Sequence[Sequence[str]] = (),
 ) -> list[Flowable]:
     """The bars of ``path`` on a time scale, with the data date; never silently cut.
 
@@ -76,7 +77,19 @@ def path_chart(
     """
     if not path:
         return []
+    chain_of: dict[str, int] = {}
+    if len(chains) > 1:
+        # Tied paths are drawn chain by chain, each bar labelled with its chain's number, so
+        # activities that are not linked never read as one sequence (AACE RP 49R-06).
+        for n, chain in enumerate(chains, 1):
+            for a in chain:
+                chain_of.setdefault(a, n)
+        ordered = [a for chain in chains for a in chain if chain_of[a] == chains.index(chain) + 1]
+        path = list(dict.fromkeys([*ordered, *path]))
     bars_all = [_bar(a, result, snap, data_date) for a in path]
+    if chain_of:
+        bars_all = [replace(b, label=f"[{chain_of[a]}] {b.label}") if a in chain_of else b
+                    for a, b in zip(path, bars_all, strict=True)]
     span = (min(b.start for b in bars_all), max(b.finish for b in bars_all))
     opts = dict(
         width=FRAME_WIDTH, data_date=data_date, span=span,

@@ -473,7 +473,14 @@ def longest_path(ctx: ReportContext, section: Section) -> list[Flowable]:
         ]
         block += _paras(fill(section.texts["sentence"], fields, _where(ctx, section, "sentence")))
         block += _critical_notes(ctx, section, r)
-        charts_ = path_chart(section, r.longest_path, res, snap, r.data_date, limit, continued=True)
+        chains = getattr(res, "longest_paths", ())
+        if len(chains) > 1:
+            block += _paras(text_or_none(ctx, section, "chains", {
+                "snapshot": r.snapshot_id, "chains": len(chains),
+                "chain_list": "; ".join(f"chain {n}, {count_words(len(c), 'activity', 'activities')} from "
+                                        f"{c[0]} to {c[-1]}" for n, c in enumerate(chains, 1)),
+            }))
+        charts_ = path_chart(section, r.longest_path, res, snap, r.data_date, limit, continued=True, chains=chains)
         block.append(charts_[0])
         caption = text_or_none(ctx, section, "caption", {"snapshot": r.snapshot_id, "data_date": long_date(r.data_date)})
         block += _paras(caption, "caption")

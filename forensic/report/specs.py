@@ -231,7 +231,8 @@ SPECS: dict[str, SectionSpec] = {
                 ),
             },
             optional_texts={"intro": COMMON, "caption": (*COMMON, "snapshot", "data_date"),
-                            "critical_off_path": _CRITICAL_NOTE, "path_not_critical": _CRITICAL_NOTE},
+                            "critical_off_path": _CRITICAL_NOTE, "path_not_critical": _CRITICAL_NOTE,
+                            "chains": (*COMMON, "snapshot", "chains", "chain_list")},
             options={"scope": OptionSpec(str, "all", ("all", "latest", "last-two")),
                      "table": OptionSpec(bool, False), "rows": OptionSpec(int, 30)},
             protocol=(
@@ -293,7 +294,7 @@ SPECS: dict[str, SectionSpec] = {
         SectionSpec(
             "acceleration",
             texts={"text": _RECOVERY},
-            optional_texts={"intro": COMMON, "caption": COMMON, "not_asked": COMMON},
+            optional_texts={"intro": COMMON, "caption": COMMON, "not_asked": COMMON, "not_proven": _RECOVERY},
             options={"curve": OptionSpec(bool, True)},
             protocol="Time-cost trade-off of the remaining work (Kelley 1961; Fulkerson 1961)",
         ),
