@@ -180,3 +180,16 @@ def test_tied_longest_paths_are_named_as_chains(demo, full_pages):
         links = {(lk.pred, lk.succ) for lk in demo.baseline.links}
         assert all((a, b) in links for a, b in zip(c, c[1:], strict=False))
     assert "[1] M000 Notice to proceed" in text and "[2] " in text
+
+
+def test_float_erosion_is_also_measured_against_the_contractual_dates(demo, full_pages):
+    """The completion kept 0 network float while 43 days late: against 10 June 2027 it has -31 working days.
+
+    Hand working (five-day calendar, no holiday between): forecast 23 July
+    2027, contract 10 June 2027; 11 June plus six weeks 14 June - 23 July is
+    31 working days, so the float to the contract is -31 (trend.contract_float).
+    """
+    text = " ".join(full_pages)
+    assert ("Measured against its contractual date of 10 June 2027 instead of the moving completion, Practical "
+            "completion (M900) had 0 working days of float at BL and -31 working days at U10") in text
+    assert "River terrace complete (M-RIV) had 36 working days of float at BL and -6 working days at U10" in text

@@ -400,6 +400,8 @@ def float_erosion(ctx: ReportContext, section: Section) -> list[Flowable]:
         else:
             sentence = milestone_sentence(ctx, section, m, scoped)
         out += _paras(sentence)
+        out += _paras(_contract_float_sentence(ctx, section, t.snapshots[-1].completion_id if m == completion_key else m,
+                                               scoped))
     if section.options["table"]:
         cols = [_col(section, "snapshot", "Snapshot"), _col(section, "data_date", "Data date"), _col(section, "completion_float", "Completion")]
         cols += list(t.milestones)
@@ -428,6 +430,29 @@ def float_erosion(ctx: ReportContext, section: Section) -> list[Flowable]:
     )
     out += _paras(fill(section.texts["bands"], bfields, _where(ctx, section, "bands")))
     return out
+
+
+def _contract_float_sentence(ctx: ReportContext, section: Section, mid: str, rows: Sequence[SnapshotTrend]) -> str | None:
+    """The float of a milestone to its contractual date, first and last in scope (beside the network float).
+
+    Network float is measured against the schedule's own completion, which
+    moves as the project slips; float to the contractual date (the contract
+    completion, or a key date's constraint) is negative when the forecast is
+    late (:func:`forensic.trend.contract_float`; GAO-16-89G best practice 6).
+    """
+    when = ctx.trend.contract_dates.get(mid)
+    have = [r for r in rows if r.contract_floats.get(mid) is not None]
+    if when is None or not have:
+        return None
+    a, b = have[0], have[-1]
+    fields = common_fields(ctx)
+    fields.update(
+        milestone=mid, name=activity_name(ctx.casefile, mid, b.snapshot_id),
+        contract_date=long_date(when), first_snapshot=a.snapshot_id, last_snapshot=b.snapshot_id,
+        first_float=float_words(a.contract_floats[mid]), last_float=float_words(b.contract_floats[mid]),
+        network_float=float_words(b.completion_float if mid == b.completion_id else b.milestone_floats.get(mid)),
+    )
+    return text_or_none(ctx, section, "contract", fields)
 
 
 def _completion_float_sentence(ctx: ReportContext, section: Section, rows: Sequence[SnapshotTrend]) -> str | None:

@@ -215,7 +215,9 @@ SPECS: dict[str, SectionSpec] = {
                 "steady": _MILESTONE,
                 "bands": (*COMMON, "snapshot", "data_date", "open", "negative", "critical", "finished", "critical_float"),
             },
-            optional_texts={"intro": COMMON, "caption": COMMON, "bands_caption": COMMON, "missing": _MILESTONE},
+            optional_texts={"contract": (*COMMON, "milestone", "name", "contract_date", "first_snapshot", "last_snapshot",
+                                         "first_float", "last_float", "network_float"),
+                            "intro": COMMON, "caption": COMMON, "bands_caption": COMMON, "missing": _MILESTONE},
             options={"scope": _SCOPE, "table": OptionSpec(bool, True), "band_chart": OptionSpec(bool, True)},
             protocol=(
                 "Float trend of the completion and key milestones over the updates "
