@@ -25,6 +25,8 @@ COMMANDS = [
     ["impact", DEMO, "--all", "--cumulative"],
     ["but-for", DEMO],
     ["check", DEMO, "--quality", "--snapshot", "U05"],
+    ["eot", DEMO],
+    ["recover", DEMO, "--snapshot", "U10", "--target", "2027-07-09"],
 ]
 
 

@@ -15,6 +15,7 @@ from ._common import (
     format_options,
     load,
     pick_format,
+    say,
     table_text,
 )
 from ._progress import status_printer
@@ -66,15 +67,15 @@ def eot_command(casefile: Path, snapshot_id: str | None, table: str, as_json: bo
         emit(to_csv(tables[table]))
         return
     c = summary.completion
-    click.echo(f"{cf.project.name}: delay summary per event, days in {summary.unit} attributed by each method")
-    click.echo(f"Baseline completion {c['baseline'].isoformat()}, latest {c['latest'].isoformat()}: slip {c['slip']}."
+    say(f"{cf.project.name}: delay summary per event, days in {summary.unit} attributed by each method")
+    say(f"Baseline completion {c['baseline'].isoformat()}, latest {c['latest'].isoformat()}: slip {c['slip']}."
                + (f" Contract completion {c['contract'].isoformat()}." if c["contract"] else "") + "\n")
     emit(table_text(tables["events"]))
-    click.echo("\nTotals by method and category:")
+    say("\nTotals by method and category:")
     emit(table_text(tables["methods"]))
-    click.echo("\nWhy the methods differ:")
+    say("\nWhy the methods differ:")
     emit(table_text(tables["reconciliation"]))
-    click.echo(f"\nSensitivity of the windows split (moved: a party's share changes by more than {summary.tolerance}):")
+    say(f"\nSensitivity of the windows split (moved: a party's share changes by more than {summary.tolerance}):")
     emit(table_text(tables["sensitivity"]))
     for note in summary.notes:
-        click.echo(f"\n{note}")
+        say(f"\n{note}")

@@ -17,7 +17,16 @@ from ..recovery import (
 )
 from ..tables import to_csv
 from ._base import main
-from ._common import casefile_argument, emit, emit_json, emit_xlsx, format_options, load, table_text
+from ._common import (
+    casefile_argument,
+    emit,
+    emit_json,
+    emit_xlsx,
+    format_options,
+    load,
+    say,
+    table_text,
+)
 
 
 @main.command("recover")
@@ -65,31 +74,31 @@ def recover_command(
         emit(to_csv(recovery_plan_table(result)))
         return
     plan = result.plan
-    click.echo(f"{cf.project.name}: snapshot {result.snapshot_id}, data date {result.data_date.isoformat()}")
-    click.echo(f"Current completion ({result.completion_id}): {result.current_completion.isoformat()}")
-    click.echo(f"Target: {plan.target.isoformat()}; objective: {result.objective}")
+    say(f"{cf.project.name}: snapshot {result.snapshot_id}, data date {result.data_date.isoformat()}")
+    say(f"Current completion ({result.completion_id}): {result.current_completion.isoformat()}")
+    say(f"Target: {plan.target.isoformat()}; objective: {result.objective}")
     cal = result.working_days_calendar
-    click.echo(
+    say(
         f"New completion (rescheduled): {plan.completion.isoformat()}, {plan.working_days_recovered} working "
         f"days of calendar {cal} ({plan.calendar_days_recovered} calendar days) recovered, cost {plan.cost:g}, "
         f"{len(plan.shortenings)} activities shortened"
     )
-    click.echo(
+    say(
         f"Earliest achievable completion: {result.earliest_completion.isoformat()} "
         f"({result.max_working_days} working days of the completion's calendar {cal})\n"
     )
     if not result.proven:
-        click.echo(
+        say(
             f"Not proven least-cost: the time limit of {result.time_limit:g} s was reached; the best plans "
             "found are shown (raise --time-limit to prove them).\n"
         )
     if plan.shortenings:
         emit(table_text(recovery_plan_table(result)))
     else:
-        click.echo("The current schedule already meets the target; nothing is shortened.")
+        say("The current schedule already meets the target; nothing is shortened.")
     if result.curve:
-        click.echo(f"\nTime-cost curve (least cost per working day of calendar {cal} recovered):")
+        say(f"\nTime-cost curve (least cost per working day of calendar {cal} recovered):")
         emit(table_text(recovery_curve_table(result)))
     for w in result.warnings:
-        click.echo(f"warning: {w}", err=True)
-    click.echo("\nThese figures support, and do not replace, the judgement of a qualified scheduling professional.")
+        say(f"warning: {w}", err=True)
+    say("\nThese figures support, and do not replace, the judgement of a qualified scheduling professional.")
