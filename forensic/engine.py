@@ -826,10 +826,26 @@ def _driving_links(net: _Network, active: np.ndarray, early: _Early):
     d_pred = lp[drv_idx][d_order].tolist()
     d_start = np.searchsorted(np.array(d_succ, dtype=np.int64), np.arange(n + 1)).tolist()
 
-    def driving_of(i: int) -> list[int]:
-        return d_pred[d_start[i] : d_start[i + 1]]
+    return _DrivingIndex(d_pred, d_start)
 
-    return driving_of
+
+class _DrivingIndex:
+    """``index(i)``: the positions of activity ``i``'s driving predecessors (a plain object, so results pickle)."""
+
+    __slots__ = ("pred", "start")
+
+    def __init__(self, pred: list[int], start: list[int]) -> None:
+        self.pred = pred
+        self.start = start
+
+    def __call__(self, i: int) -> list[int]:
+        return self.pred[self.start[i] : self.start[i + 1]]
+
+    def __getstate__(self):
+        return (self.pred, self.start)
+
+    def __setstate__(self, state) -> None:
+        self.pred, self.start = state
 
 
 def _longest_path(net: _Network, comp: int, driving_of, start_day: np.ndarray) -> list[int]:

@@ -7,12 +7,23 @@ import pytest
 from click.testing import CliRunner
 
 from forensic.casefile import load_casefile
+from forensic.cli import COMMANDS as LAZY_COMMANDS
 from forensic.cli import main
 from forensic.engine import schedule_snapshot
 
 ROOT = Path(__file__).resolve().parent.parent
 DEMO = ROOT / "casefiles" / "riverside"
-COMMANDS = sorted(main.commands)
+COMMANDS = sorted(LAZY_COMMANDS)  # the group loads each command's module lazily (forensic.cli._base)
+
+
+def test_every_lazy_command_loads_and_no_command_is_unlisted():
+    """Each name in COMMANDS loads a command of that name, and no registered command is missing from it."""
+    import click
+
+    ctx = click.Context(main)
+    for name in COMMANDS:
+        assert main.get_command(ctx, name).name == name
+    assert sorted(main.commands) == COMMANDS
 
 
 @pytest.mark.parametrize("name", COMMANDS)

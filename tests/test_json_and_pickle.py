@@ -58,3 +58,16 @@ def test_frozen_mapping_refuses_every_change():
         with pytest.raises(TypeError, match="immutable"):
             change()
     assert m == {"a": 1} and pickle.loads(pickle.dumps(m)) == m
+
+
+def test_schedule_result_pickles_and_deep_copies():
+    """A ScheduleResult goes to a process pool or a cache: no local closures in the way (issue 20)."""
+    from forensic.engine import schedule
+
+    cf = load_casefile(demo_source())
+    res = schedule(cf.snapshots[-1], cf.calendars, cf.project)
+    again = pickle.loads(pickle.dumps(res))
+    assert again == res
+    assert again.activities["M900"] == res.activities["M900"]
+    assert again.longest_paths == res.longest_paths
+    assert copy.deepcopy(res).activities["M900"].driving_predecessors == res.activities["M900"].driving_predecessors
