@@ -830,7 +830,7 @@ def _driving_links(net: _Network, active: np.ndarray, early: _Early):
 
 
 class _DrivingIndex:
-    """``index(i)``: the positions of activity ``i``'s driving predecessors (a plain object, so results pickle)."""
+    """``index(i)``: the positions of activity ``i``'s driving predecessors (a plain object, so results serialise)."""
 
     __slots__ = ("pred", "start")
 
