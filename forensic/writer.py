@@ -140,6 +140,8 @@ def manifest_toml(cf: Casefile, *, events_file: str | None) -> str:
                 "delay_unit": p.delay_unit,
                 "progress_logic": p.progress_logic,
                 "critical_float": p.critical_float,
+                # Written only when not the default, so casefiles that never set it keep their bytes.
+                "concurrency": p.concurrency if p.concurrency != "time-only" else None,
             },
         )
     )

@@ -71,3 +71,18 @@ def test_schedule_result_pickles_and_deep_copies():
     assert again.activities["M900"] == res.activities["M900"]
     assert again.longest_paths == res.longest_paths
     assert copy.deepcopy(res).activities["M900"].driving_predecessors == res.activities["M900"].driving_predecessors
+
+
+@pytest.mark.parametrize("rule", ["apportion", "dominant"])
+def test_written_casefile_keeps_its_concurrency_rule(rule, tmp_path):
+    """write_casefile then load_casefile round-trips a non-default concurrency rule (nothing is lost)."""
+    from dataclasses import replace
+
+    from forensic.writer import write_casefile
+
+    cf = load_casefile(demo_source())
+    cf = replace(cf, project=replace(cf.project, concurrency=rule))
+    write_casefile(cf, tmp_path / "out")
+    assert load_casefile(tmp_path / "out").project.concurrency == rule
+    # The default is not written, so the demo's own manifest keeps its bytes.
+    assert "concurrency" not in (demo_source() / "casefile.toml").read_text(encoding="utf-8")
