@@ -33,7 +33,7 @@ Society of Construction Law, Delay and Disruption Protocol, 2nd ed. (2017).
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 from typing import Any
 
 from .attribution import DelayAnalysis, analyse_delay
@@ -43,8 +43,8 @@ from .contributors import UNASSIGNED
 from .errors import NotFoundError
 from .impact import time_impact_series, time_impacts
 from .model import Casefile, frozen_mapping
+from .sensitivity import SensitivityRow, sensitivity_rows
 from .tables import Table
-from .windows import auto_boundaries
 
 __all__ = [
     "METHODS",
@@ -113,21 +113,6 @@ class Reconciliation:
 
 
 @dataclass(frozen=True, slots=True)
-class SensitivityRow:
-    """The windows totals under one alternative setting; ``moved`` when a party's share moves beyond the tolerance."""
-
-    setting: str
-    value: str
-    excusable_compensable: int
-    excusable_noncompensable: int
-    non_excusable: int
-    concurrent: int
-    by_party: Mapping[str, int]
-    slip: int
-    moved: bool
-
-
-@dataclass(frozen=True, slots=True)
 class DelaySummary:
     """The delay summary of a casefile (see the module notes); ``unit`` is the delay unit."""
 
@@ -183,10 +168,11 @@ def windows_by_event(delay: DelayAnalysis) -> tuple[dict[str, int], dict[str, in
     return own, shared, rest
 
 
-def _impact_alone(casefile: Casefile) -> dict[str, tuple[int | None, str, str]]:
-    """Each event's time impact alone, into its own unimpacted update: (days, represented as, reason)."""
+def _impact_alone(casefile: Casefile) -> tuple[dict[str, tuple[int | None, str, str]], dict[str, str]]:
+    """Each event's time impact alone: (days, represented as, reason), and the update each went into."""
     series = time_impacts(casefile, [e.id for e in casefile.events])
     out: dict[str, tuple[int | None, str, str]] = {}
+    into = {r.event: r.into for r in series.individual if r.represented_as != "not-represented"}
     for r in series.individual:
         how = r.represented_as
         if how == "not-represented":
@@ -194,11 +180,11 @@ def _impact_alone(casefile: Casefile) -> dict[str, tuple[int | None, str, str]]:
             out[r.event] = (None, how, why)
         else:
             out[r.event] = (r.impact, how, f"inserted alone into {r.into}, its unimpacted update, as {how}")
-    return out
+    return out, into
 
 
-def _impact_series(casefile: Casefile) -> tuple[dict[str, tuple[int | None, str, str]], Any]:
-    """Each event's step in the contemporaneous series (AACE RP 29R-03, MIP 3.7), and the series."""
+def _impact_series(casefile: Casefile) -> dict[str, tuple[int | None, str, str]]:
+    """Each event's step in the contemporaneous series (AACE RP 29R-03, MIP 3.7)."""
     series = time_impact_series(casefile)
     out: dict[str, tuple[int | None, str, str]] = {}
     for st in series.steps:
@@ -207,7 +193,7 @@ def _impact_series(casefile: Casefile) -> tuple[dict[str, tuple[int | None, str,
         else:
             carried = " (the impacted result of the step before, carried forward)" if st.carried else ""
             out[st.event] = (st.impact, st.represented_as, f"inserted into {st.into}{carried}")
-    return out, series
+    return out
 
 
 def _but_for_each(casefile: Casefile) -> dict[str, tuple[int | None, str, str]]:
@@ -285,66 +271,6 @@ def _reconcile(events: Sequence[EventSummary], a: str, b: str, impact_into: Mapp
     return Reconciliation((a, b), diff, tuple(causes))
 
 
-# --- sensitivity ---------------------------------------------------------------------------
-
-
-def _quarterly(casefile: Casefile) -> tuple[str, ...]:
-    ids = [s.id for s in casefile.snapshots]
-    picked = ids[::3]
-    if picked[-1] != ids[-1]:
-        picked.append(ids[-1])
-    return tuple(picked)
-
-
-def _row(setting: str, value: str, delay: DelayAnalysis, base: Mapping[str, int] | None, tolerance: int) -> SensitivityRow:
-    t = delay.ledger.total
-    parties: dict[str, int] = {}
-    for att in delay.attributions:
-        for p, d in att.by_party.items():
-            parties[p] = parties.get(p, 0) + d
-    parties = {p: d for p, d in sorted(parties.items()) if d}
-    moved = False
-    if base is not None:
-        keys = set(base) | set(parties)
-        moved = any(abs(parties.get(k, 0) - base.get(k, 0)) > tolerance for k in keys)
-    return SensitivityRow(setting, value, t.excusable_compensable, t.excusable_noncompensable, t.non_excusable,
-                          t.concurrent, frozen_mapping(parties), delay.ledger.total_slip, moved)
-
-
-def _sensitivity(casefile: Casefile, base: DelayAnalysis, tolerance: int,
-                 progress: Callable[[str], None]) -> tuple[SensitivityRow, ...]:
-    runs = base.windows.runs
-    bounds = [r.window.from_id for r in runs] + [runs[-1].window.to_id]
-    first = _row("as analysed", "windows at " + ", ".join(bounds), base, None, tolerance)
-    rows = [first]
-    ref = dict(first.by_party)
-    monthly = tuple(s.id for s in casefile.snapshots)
-    variants: list[tuple[str, str, Casefile, Sequence[str] | None]] = []
-    if tuple(bounds) != monthly:
-        variants.append(("window grouping", "every update", casefile, monthly))
-    if _quarterly(casefile) != tuple(bounds) and len(monthly) > 3:
-        variants.append(("window grouping", "quarterly (every third update)", casefile, _quarterly(casefile)))
-    auto = auto_boundaries(casefile)
-    if tuple(auto) != tuple(bounds):
-        variants.append(("window grouping", "auto (at the updates where the driving path changes)", casefile, auto))
-    other = "override" if casefile.project.progress_logic == "retained" else "retained"
-    variants.append(("progress logic", other,
-                     replace(casefile, project=replace(casefile.project, progress_logic=other)), None))
-    for cf in (0, 5):
-        if cf != casefile.project.critical_float:
-            variants.append(("critical float", f"{cf} working days",
-                             replace(casefile, project=replace(casefile.project, critical_float=cf)), None))
-    for rule in ("time-only", "apportion", "dominant"):
-        if rule != casefile.project.concurrency:
-            variants.append(("concurrency rule", rule,
-                             replace(casefile, project=replace(casefile.project, concurrency=rule)), None))
-    for setting, value, cf, bounds in variants:
-        progress(f"sensitivity: {setting} {value}")
-        delay = analyse_delay(cf, bounds)
-        rows.append(_row(setting, value, delay, ref, tolerance))
-    return tuple(rows)
-
-
 # --- the summary ---------------------------------------------------------------------------
 
 
@@ -384,9 +310,9 @@ def delay_summary(
     delay = delay or analyse_delay(casefile, casefile.windows or None)
     own, shared, rest = windows_by_event(delay)
     step("time impact of each event")
-    impacts = _impact_alone(casefile)
+    impacts, into = _impact_alone(casefile)
     step("time impact series")
-    in_series, series = _impact_series(casefile)
+    in_series = _impact_series(casefile)
     step("but-for case of each event")
     butfor = _but_for_each(casefile)
     events = []
@@ -420,12 +346,11 @@ def delay_summary(
     if from_events + sum(rest.values()) != slip:  # the ledger's own balance, checked again per event
         msg = f"internal check: events {from_events} + not from events {sum(rest.values())} != slip {slip}"
         raise AssertionError(msg)
-    into = {e: why.split("into ", 1)[1].split(",")[0] for e, (_, _, why) in impacts.items() if "alone into " in why}
     pairs = [("windows", "impact"), ("windows", "impact_series"), ("windows", "but_for"), ("impact", "impact_series"),
              ("impact", "but_for")]
     recon = tuple(_reconcile(events, a, b, into, rest["concurrent"]) for a, b in pairs)
     tolerance = max(2, round(abs(slip) * 0.1))
-    sens = _sensitivity(casefile, delay, tolerance, step) if sensitivity else ()
+    sens = sensitivity_rows(casefile, delay, tolerance, step) if sensitivity else ()
     comp = {
         "baseline": delay.ledger.baseline_completion,
         "latest": delay.ledger.last_completion,

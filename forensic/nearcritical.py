@@ -32,11 +32,11 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
-from datetime import date, timedelta
+from datetime import date
 
-from .calendars import workdays_between
 from .engine import ScheduleResult
 from .model import Casefile, Snapshot
+from .trend import contract_float
 
 __all__ = [
     "DEFAULT_MARGINS",
@@ -127,19 +127,14 @@ def near_critical_trend(
 
 
 def float_to_date(casefile: Casefile, calendar_id: str | None, forecast: date, key_date: date) -> int:
-    """Working days from a forecast finish to a key date on one calendar; negative when the forecast is later.
+    """Working days from a forecast to a key date on an activity's calendar; negative when the forecast is later.
 
-    The float of a finish on day F against a key date K is the number of
-    working days after F up to and including K (``[F + 1, K + 1)``, numpy's
-    ``busday_count`` convention); when F is after K it is minus the working
-    days after K up to and including F. This is the float a finish-by
-    constraint on K gives the milestone in the engine's backward pass.
+    The counting is :func:`forensic.trend.contract_float` (working days after
+    the forecast up to and including the key date, the float a finish-by
+    constraint gives in the engine's backward pass); this only picks the
+    calendar (the activity's own, else the project's default).
     """
-    cal = casefile.calendars[calendar_id or casefile.project.default_calendar]
-    one = timedelta(days=1)
-    if forecast <= key_date:
-        return workdays_between(cal, forecast + one, key_date + one)
-    return -workdays_between(cal, key_date + one, forecast + one)
+    return contract_float(casefile.calendars[calendar_id or casefile.project.default_calendar], forecast, key_date)
 
 
 def key_dates(casefile: Casefile, schedules: Sequence[ScheduleResult]) -> tuple[tuple[KeyDate, ...], ...]:

@@ -24,13 +24,21 @@ from reportlab.pdfbase.pdfmetrics import stringWidth
 from .pdf import INK, fit_text, font_family
 
 __all__ = [
+    "AXIS",
+    "DONE",
+    "FONT_SIZE",
+    "GRID",
+    "REFERENCE",
+    "TO_DO",
+    "chart_text",
+    "date_ticks",
+    "legend",
+    "draw_marker",
     "Bar",
     "Series",
-    "WindowRow",
     "bars_on_time_scale",
     "line_chart",
     "stacked_bars",
-    "window_bars",
 ]
 
 # Series styles: colour (dark to mid-light), marker, dash. Ours.
@@ -101,7 +109,7 @@ def _date_label(d: date, with_day: bool) -> str:
     return f"{d.day} {MONTHS[d.month - 1]}" if with_day else f"{MONTHS[d.month - 1]} {d.year}"
 
 
-def _date_ticks(
+def date_ticks(
     lo: float, hi: float, width: float, label_w: float | None = None
 ) -> tuple[float, float, list[tuple[float, str]]]:
     """Month ticks (every 1, 2, 3, 6 or 12 months) so labels do not collide; days for short spans.
@@ -140,7 +148,7 @@ def _date_ticks(
     return ticks[0][0], ticks[-1][0], ticks
 
 
-def _marker(kind: str, x: float, y: float, colour, size: float = 3.2) -> Group | Circle | Rect | Polygon:
+def draw_marker(kind: str, x: float, y: float, colour, size: float = 3.2) -> Group | Circle | Rect | Polygon:
     white = colors.white
     if kind == "circle":
         return Circle(x, y, size * 0.95, fillColor=colour, strokeColor=white, strokeWidth=0.5)
@@ -160,12 +168,12 @@ def _marker(kind: str, x: float, y: float, colour, size: float = 3.2) -> Group |
     return g
 
 
-def _text(x: float, y: float, s: str, anchor: str = "start", size: float = FONT_SIZE, bold: bool = False, colour=INK) -> String:
+def chart_text(x: float, y: float, s: str, anchor: str = "start", size: float = FONT_SIZE, bold: bool = False, colour=INK) -> String:
     f = font_family()
     return String(x, y, s, fontName=f.bold if bold else f.regular, fontSize=size, fillColor=colour, textAnchor=anchor)
 
 
-def _legend(items: Sequence[tuple[str, object]], x: float, y_top: float, width: float) -> tuple[Group, float]:
+def legend(items: Sequence[tuple[str, object]], x: float, y_top: float, width: float) -> tuple[Group, float]:
     """Legend entries ``(label, draw(x, y) -> shapes)`` in rows; returns the group and its height."""
     f = font_family().regular
     g = Group()
@@ -180,7 +188,7 @@ def _legend(items: Sequence[tuple[str, object]], x: float, y_top: float, width: 
             rows += 1
         for shape in sample(cx, cy + 2.5):
             g.add(shape)
-        g.add(_text(cx + 22, cy, fit_text(label, f, FONT_SIZE, width - 24)))
+        g.add(chart_text(cx + 22, cy, fit_text(label, f, FONT_SIZE, width - 24)))
         cx += w
     return g, rows * row_h
 
@@ -191,7 +199,7 @@ def _line_sample(i: int):
     def draw(x: float, y: float):
         return [
             Line(x, y, x + 18, y, strokeColor=colour, strokeWidth=1.3, strokeDashArray=dash),
-            _marker(marker, x + 9, y, colour, 2.6),
+            draw_marker(marker, x + 9, y, colour, 2.6),
         ]
 
     return draw
@@ -230,13 +238,13 @@ def line_chart(
     items = [(s.label, _line_sample(i)) for i, s in enumerate(series)]
     if reference is not None:
         items.append((reference[0], _ref_sample))
-    legend, legend_h = _legend(items, 0, 0, width - 10)
+    key, legend_h = legend(items, 0, 0, width - 10)
     legend_h += 4 + (11 if x_title else 0)
     bottom = 16 + legend_h
     top = height - 18
     # y ticks first: their widest label sets the left margin.
     if y_dates:
-        ylo, yhi, yt = _date_ticks(min(ys) - 3, max(ys) + 3, top - bottom, label_w=16)
+        ylo, yhi, yt = date_ticks(min(ys) - 3, max(ys) + 3, top - bottom, label_w=16)
         yticks = yt
     else:
         ylo, yhi, nums = _number_ticks(min(ys), max(ys), 6)
@@ -244,7 +252,7 @@ def line_chart(
     left = max(stringWidth(s, f, FONT_SIZE) for _, s in yticks) + 8
     right = width - 8
     if x_dates:
-        xlo, xhi, xticks = _date_ticks(min(xs) - 5, max(xs) + 5, right - left)
+        xlo, xhi, xticks = date_ticks(min(xs) - 5, max(xs) + 5, right - left)
     else:
         xlo, xhi, nums = _number_ticks(min(xs), max(xs), 6)
         xticks = [(t, f"{t:g}") for t in nums]
@@ -257,15 +265,15 @@ def line_chart(
 
     for t, s in yticks:
         d.add(Line(left, py(t), right, py(t), strokeColor=GRID, strokeWidth=0.4))
-        d.add(_text(left - 4, py(t) - 2.4, s, "end"))
+        d.add(chart_text(left - 4, py(t) - 2.4, s, "end"))
     for t, s in xticks:
         d.add(Line(px(t), bottom, px(t), bottom - 3, strokeColor=AXIS, strokeWidth=0.5))
-        d.add(_text(px(t), bottom - 11, s, "middle"))
+        d.add(chart_text(px(t), bottom - 11, s, "middle"))
     d.add(Line(left, bottom, right, bottom, strokeColor=AXIS, strokeWidth=0.7))
     d.add(Line(left, bottom, left, top, strokeColor=AXIS, strokeWidth=0.7))
-    d.add(_text(left, top + 5, y_title, "start", bold=True))
+    d.add(chart_text(left, top + 5, y_title, "start", bold=True))
     if x_title:
-        d.add(_text((left + right) / 2, bottom - 22, x_title, "middle", bold=True))
+        d.add(chart_text((left + right) / 2, bottom - 22, x_title, "middle", bold=True))
     if zero_line and ylo < 0 < yhi:
         d.add(Line(left, py(0), right, py(0), strokeColor=AXIS, strokeWidth=0.9))
     if reference is not None:
@@ -288,9 +296,9 @@ def line_chart(
             if len(r) >= 4:
                 d.add(PolyLine(r, strokeColor=colour, strokeWidth=1.4, strokeDashArray=dash))
             for k in range(0, len(r), 2):
-                d.add(_marker(marker, r[k], r[k + 1], colour))
-    legend.translate(left, legend_h - 2 - (11 if x_title else 0))
-    d.add(legend)
+                d.add(draw_marker(marker, r[k], r[k + 1], colour))
+    key.translate(left, legend_h - 2 - (11 if x_title else 0))
+    d.add(key)
     return d
 
 
@@ -317,7 +325,7 @@ def stacked_bars(
     def sample(k: int):
         return lambda x, y: [Rect(x + 3, y - 3.5, 12, 7, fillColor=fills[k % len(fills)], strokeColor=INK, strokeWidth=0.4)]
 
-    legend, legend_h = _legend([(lab, sample(k)) for k, lab in enumerate(labels)], 0, 0, width - 10)
+    key, legend_h = legend([(lab, sample(k)) for k, lab in enumerate(labels)], 0, 0, width - 10)
     legend_h += 4
     bottom = 16 + legend_h
     top = height - 18
@@ -332,7 +340,7 @@ def stacked_bars(
 
     for t in nums:
         d.add(Line(left, py(t), right, py(t), strokeColor=GRID, strokeWidth=0.4))
-        d.add(_text(left - 4, py(t) - 2.4, f"{int(t)}", "end"))
+        d.add(chart_text(left - 4, py(t) - 2.4, f"{int(t)}", "end"))
     n = max(len(categories), 1)
     slot = (right - left) / n
     bw = min(slot * 0.65, 34)
@@ -354,14 +362,14 @@ def stacked_bars(
         if up or down:
             d.add(Rect(x, py(down), bw, py(up) - py(down), fillColor=None, strokeColor=INK, strokeWidth=0.5))
         if c % every == 0:
-            d.add(_text(x + bw / 2, bottom - 10, fit_text(categories[c], f, FONT_SIZE, slot * every - 2), "middle"))
+            d.add(chart_text(x + bw / 2, bottom - 10, fit_text(categories[c], f, FONT_SIZE, slot * every - 2), "middle"))
     d.add(Line(left, bottom, right, bottom, strokeColor=AXIS, strokeWidth=0.7))
     if ylo < 0:
         d.add(Line(left, py(0), right, py(0), strokeColor=AXIS, strokeWidth=0.9))
     d.add(Line(left, bottom, left, top, strokeColor=AXIS, strokeWidth=0.7))
-    d.add(_text(left, top + 5, y_title, "start", bold=True))
-    legend.translate(left, legend_h - 2)
-    d.add(legend)
+    d.add(chart_text(left, top + 5, y_title, "start", bold=True))
+    key.translate(left, legend_h - 2)
+    d.add(key)
     return d
 
 
@@ -391,10 +399,10 @@ def bars_on_time_scale(
     items = [
         (done_label, lambda x, y: [Rect(x + 2, y - 3.5, 14, 7, fillColor=DONE, strokeColor=DONE, strokeWidth=0.4)]),
         (to_do_label, lambda x, y: [Rect(x + 2, y - 3.5, 14, 7, fillColor=TO_DO, strokeColor=INK, strokeWidth=0.5)]),
-        (milestone_label, lambda x, y: [_marker("diamond", x + 9, y, INK, 3)]),
+        (milestone_label, lambda x, y: [draw_marker("diamond", x + 9, y, INK, 3)]),
         (data_date_label, lambda x, y: [Line(x + 9, y - 5, x + 9, y + 5, strokeColor=REFERENCE, strokeWidth=1.1, strokeDashArray=(2, 1.5))]),
     ]
-    legend, legend_h = _legend(items, 0, 0, width - left)
+    key, legend_h = legend(items, 0, 0, width - left)
     legend_h += 4
     axis_h = 16
     height = 14 + row * max(len(bars), 1) + axis_h + legend_h
@@ -404,22 +412,22 @@ def bars_on_time_scale(
     days = [b.start.toordinal() for b in bars] + [b.finish.toordinal() + 1 for b in bars] + [data_date.toordinal()]
     if span is not None:
         days += [span[0].toordinal(), span[1].toordinal() + 1]
-    xlo, xhi, xticks = _date_ticks(min(days) - 3, max(days) + 3, right - left)
+    xlo, xhi, xticks = date_ticks(min(days) - 3, max(days) + 3, right - left)
 
     def px(v: float) -> float:
         return left + (v - xlo) / ((xhi - xlo) or 1) * (right - left)
 
     for t, s in xticks:
         d.add(Line(px(t), bottom, px(t), top, strokeColor=GRID, strokeWidth=0.4))
-        d.add(_text(px(t), bottom - 10, s, "middle"))
+        d.add(chart_text(px(t), bottom - 10, s, "middle"))
     d.add(Line(left, bottom, right, bottom, strokeColor=AXIS, strokeWidth=0.7))
     for r, b in enumerate(bars):
         yc = top - row * (r + 0.5) - 4
-        d.add(_text(2, yc - 2.4, fit_text(b.label, f, FONT_SIZE, label_w - 4)))
+        d.add(chart_text(2, yc - 2.4, fit_text(b.label, f, FONT_SIZE, label_w - 4)))
         s0, s1 = b.start.toordinal(), b.finish.toordinal() + 1
         if b.milestone:
             at = b.start.toordinal() if b.milestone == "start" else b.finish.toordinal() + 1
-            d.add(_marker("diamond", px(at), yc, DONE if b.done_until else INK, 3.4))
+            d.add(draw_marker("diamond", px(at), yc, DONE if b.done_until else INK, 3.4))
             continue
         cut = s0 if b.done_until is None else max(s0, min(s1, b.done_until.toordinal()))
         h = row * 0.62
@@ -429,129 +437,6 @@ def bars_on_time_scale(
             d.add(Rect(px(cut), yc - h / 2, px(s1) - px(cut), h, fillColor=TO_DO, strokeColor=INK, strokeWidth=0.5))
     xd = px(data_date.toordinal())
     d.add(Line(xd, bottom, xd, top, strokeColor=REFERENCE, strokeWidth=1.1, strokeDashArray=(2, 1.5)))
-    legend.translate(left, legend_h - 2)
-    d.add(legend)
-    return d
-
-
-@dataclass(frozen=True, slots=True)
-class WindowRow:
-    """One activity of a window chart: its dates at the window's start and at its end.
-
-    ``before`` is the earlier update's forecast ``(start, finish)``;
-    ``after`` the later update's ``(start, finish)`` with ``done_until``
-    (exclusive) marking what is actual. Either is ``None`` when the activity
-    is not in that update. ``note`` is written after the row (the window's
-    slip on the completion).
-    """
-
-    label: str
-    before: tuple[date, date] | None
-    after: tuple[date, date] | None
-    done_until: date | None
-    milestone: bool = False
-    note: str = ""
-
-
-BEFORE_FILL = colors.HexColor("#c3cbd3")  # light grey-blue: the earlier update's forecast
-SPAN_FILL = colors.HexColor("#efe4c8")  # pale sand: an event's period
-
-
-def window_bars(
-    rows: Sequence[WindowRow],
-    *,
-    width: float,
-    data_dates: tuple[date, date],
-    events: Sequence[tuple[str, date, date]] = (),
-    labels: Sequence[str] = ("forecast at the earlier update", "actual by the later update",
-                             "forecast at the later update", "event period", "data dates"),
-) -> Drawing:
-    """Each activity as two bars, the earlier forecast above the later dates, on one calendar axis.
-
-    The two data dates are dashed vertical lines; each event acting in the
-    window is a shaded span behind the bars, labelled with its id at the
-    top. Fills differ in lightness as well as hue (light earlier forecast,
-    dark actual, mid later forecast, pale event), so the chart reads in
-    greyscale; a milestone is a diamond.
-    """
-    f = font_family().regular
-    row = 16.0
-    label_w = min(width * 0.36, max((stringWidth(r.label, f, FONT_SIZE) for r in rows), default=40) + 6)
-    note_w = max((stringWidth(r.note, f, FONT_SIZE) for r in rows), default=0)
-    left = label_w + 4
-    right = width - 8 - (note_w + 6 if note_w else 0)
-    items = [
-        (labels[0], lambda x, y: [Rect(x + 2, y - 2.5, 14, 5, fillColor=BEFORE_FILL, strokeColor=AXIS, strokeWidth=0.4)]),
-        (labels[1], lambda x, y: [Rect(x + 2, y - 3, 14, 6, fillColor=DONE, strokeColor=DONE, strokeWidth=0.4)]),
-        (labels[2], lambda x, y: [Rect(x + 2, y - 3, 14, 6, fillColor=TO_DO, strokeColor=INK, strokeWidth=0.5)]),
-        (labels[3], lambda x, y: [Rect(x + 2, y - 4, 14, 8, fillColor=SPAN_FILL, strokeColor=SPAN_FILL, strokeWidth=0)]),
-        (labels[4], lambda x, y: [Line(x + 9, y - 5, x + 9, y + 5, strokeColor=REFERENCE, strokeWidth=1.1, strokeDashArray=(2, 1.5))]),
-    ]
-    legend, legend_h = _legend(items, 0, 0, width - left)
-    legend_h += 4
-    axis_h = 16
-    days = [data_dates[0].toordinal(), data_dates[1].toordinal()]
-    for r in rows:
-        for span in (r.before, r.after):
-            if span is not None:
-                days += [span[0].toordinal(), span[1].toordinal() + 1]
-    for _, a, b in events:
-        days += [a.toordinal(), b.toordinal() + 1]
-    xlo, xhi, xticks = _date_ticks(min(days) - 3, max(days) + 3, right - left)
-
-    def px(v: float) -> float:
-        return left + (v - xlo) / ((xhi - xlo) or 1) * (right - left)
-
-    # Event labels above the plot, on a new line wherever one would overlap the one before it.
-    label_levels: list[int] = []
-    ends: list[float] = []  # right end of the last label on each line
-    for label, a, _ in events:
-        x0 = px(a.toordinal()) + 1
-        level = next((i for i, e in enumerate(ends) if x0 > e + 3), len(ends))
-        if level == len(ends):
-            ends.append(0.0)
-        ends[level] = x0 + stringWidth(label, f, FONT_SIZE - 1)
-        label_levels.append(level)
-    top_pad = 6 + 8 * len(ends)
-    height = top_pad + 6 + row * max(len(rows), 1) + axis_h + legend_h
-    d = Drawing(width, height)
-    top = height - top_pad
-    bottom = axis_h + legend_h
-
-    for _label, a, b in events:
-        x0, x1 = px(a.toordinal()), px(b.toordinal() + 1)
-        d.add(Rect(x0, bottom, max(x1 - x0, 0.8), top - bottom, fillColor=SPAN_FILL, strokeColor=SPAN_FILL, strokeWidth=0))
-    for (label, a, _), level in zip(events, label_levels, strict=True):
-        d.add(_text(px(a.toordinal()) + 1, top + 3 + 8 * level, label, "start", FONT_SIZE - 1))
-    for t, s in xticks:
-        d.add(Line(px(t), bottom, px(t), top, strokeColor=GRID, strokeWidth=0.4))
-        d.add(_text(px(t), bottom - 10, s, "middle"))
-    d.add(Line(left, bottom, right, bottom, strokeColor=AXIS, strokeWidth=0.7))
-    for i, r in enumerate(rows):
-        yc = top - row * (i + 0.5)
-        d.add(_text(2, yc - 2.4, fit_text(r.label, f, FONT_SIZE, label_w - 4)))
-        if r.before is not None:
-            s0, s1 = r.before[0].toordinal(), r.before[1].toordinal() + 1
-            if r.milestone:
-                d.add(_marker("diamond", px(s1 if r.note else s0), yc + 3.2, BEFORE_FILL, 2.8))
-            else:
-                d.add(Rect(px(s0), yc + 1.2, max(px(s1) - px(s0), 0.8), 4.6, fillColor=BEFORE_FILL, strokeColor=AXIS, strokeWidth=0.4))
-        if r.after is not None:
-            s0, s1 = r.after[0].toordinal(), r.after[1].toordinal() + 1
-            if r.milestone:
-                d.add(_marker("diamond", px(s1 if r.note else s0), yc - 3.2, DONE if r.done_until else INK, 3.2))
-            else:
-                cut = s0 if r.done_until is None else max(s0, min(s1, r.done_until.toordinal()))
-                if cut > s0:
-                    d.add(Rect(px(s0), yc - 6.2, px(cut) - px(s0), 5.6, fillColor=DONE, strokeColor=DONE, strokeWidth=0.4))
-                if s1 > cut:
-                    d.add(Rect(px(cut), yc - 6.2, px(s1) - px(cut), 5.6, fillColor=TO_DO, strokeColor=INK, strokeWidth=0.5))
-        if r.note:
-            end = max(s[1].toordinal() + 1 for s in (r.before, r.after) if s is not None)
-            d.add(_text(min(px(end) + 5, right + 4), yc - 2.4, r.note, "start", FONT_SIZE, bold=True))
-    for dd in data_dates:
-        x = px(dd.toordinal())
-        d.add(Line(x, bottom, x, top, strokeColor=REFERENCE, strokeWidth=1.1, strokeDashArray=(2, 1.5)))
-    legend.translate(left, legend_h - 2)
-    d.add(legend)
+    key.translate(left, legend_h - 2)
+    d.add(key)
     return d

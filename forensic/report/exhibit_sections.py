@@ -34,6 +34,7 @@ from .narrative import (
 )
 from .pdf import FRAME_WIDTH, Heading, data_table, paragraphs, styles
 from .templates import Section, TemplateError
+from .window_chart import WindowRow, window_bars
 
 __all__ = ["EXHIBIT_RENDERERS", "window_rows"]
 
@@ -49,7 +50,7 @@ def _signed(n: int | None) -> str:
     return "—" if n is None else f"{n:+d}" if n else "0"
 
 
-def window_rows(run: Any, unit: str) -> tuple[list[charts.WindowRow], int]:
+def window_rows(run: Any, unit: str) -> tuple[list[WindowRow], int]:
     """The rows of one window's chart, and how many activities the two critical paths hold in all.
 
     Drawn: the activities of the critical path at the start or at the end of
@@ -91,7 +92,7 @@ def window_rows(run: Any, unit: str) -> tuple[list[charts.WindowRow], int]:
         else:
             done = None
         mark = " +" if aid in w.path_joined else " −" if aid in w.path_left else ""
-        rows.append(charts.WindowRow(
+        rows.append(WindowRow(
             label=f"{aid}{mark} {act.name}",
             before=None if b is None else (b.early_start, b.early_finish),
             after=None if a is None else (a.early_start, a.early_finish),
@@ -145,7 +146,7 @@ def window_charts(ctx: ReportContext, section: Section) -> list[Flowable] | None
             else:
                 block.append(Paragraph(escape(f"Window {w.label}, continued: rows {k * CHART_ROWS + 1} to "
                                               f"{k * CHART_ROWS + len(part)} of {len(rows)}."), st["caption"]))
-            block.append(charts.window_bars(part, width=FRAME_WIDTH, data_dates=(w.start, w.end), events=spans, labels=labels))
+            block.append(window_bars(part, width=FRAME_WIDTH, data_dates=(w.start, w.end), events=spans, labels=labels))
             if k == len(parts) - 1:
                 block += paragraphs(text_or_none(ctx, section, "caption", fields), "caption")
             out.append(KeepTogether(block))

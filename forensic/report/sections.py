@@ -14,7 +14,7 @@ from xml.sax.saxutils import escape
 from reportlab.platypus import CondPageBreak, Flowable, KeepTogether, PageBreak, Paragraph, Spacer
 
 from ..concurrency import rule_words
-from ..trend import SnapshotTrend, delay_between
+from ..trend import SnapshotTrend
 from . import charts
 from .asbuilt_sections import ASBUILT_RENDERERS
 from .delay_sections import DELAY_RENDERERS, parties_words, party_totals
@@ -25,10 +25,7 @@ from .narrative import (
     activity_name,
     common_fields,
     count_words,
-    critical_counts,
-    days_words,
     float_words,
-    join_words,
     long_date,
     milestone_sentence,
     move_sentence,
@@ -36,6 +33,7 @@ from .narrative import (
     text_or_none,
     unit_words,
 )
+from .notes import contract_float_sentence, critical_notes, key_date_words
 from .paths import path_chart
 from .pdf import FRAME_WIDTH, Heading, boxed, data_table, paragraphs, styles
 from .record_sections import RECORD_RENDERERS
@@ -132,72 +130,6 @@ def _trend_chart(ctx: ReportContext, section: Section, rows: Sequence[SnapshotTr
     )
 
 
-def _critical_notes(ctx: ReportContext, section: Section, row: SnapshotTrend) -> list[Flowable]:
-    """Say why the critical count and the longest path differ at one snapshot, when they do."""
-    res = ctx.trend.schedules[[r.snapshot_id for r in ctx.trend.snapshots].index(row.snapshot_id)]
-    c = critical_counts(res, row.longest_path)
-    crit = ctx.casefile.project.critical_float
-    reasons = []
-    if c.off_path_negative:
-        reasons.append(f"{c.off_path_negative} with negative float, held by a key date or a constraint earlier than "
-                       "the work can finish, and so critical to that date rather than to the completion")
-    if c.off_path - c.off_path_negative:
-        reasons.append(f"{c.off_path - c.off_path_negative} with a total float of at most {float_words(crit)} on a path "
-                       "that ties with the longest path or meets it on another calendar")
-    if c.path_float_min is None:
-        path_float = ""
-    elif c.path_float_min == c.path_float_max:
-        path_float = float_words(c.path_float_min)
-    else:
-        path_float = f"{c.path_float_min} to {float_words(c.path_float_max)}"
-    fields = common_fields(ctx)
-    fields.update(
-        snapshot=row.snapshot_id, critical=c.critical, critical_float=crit, path_count=count_words(c.path_count, "activity", "activities"),
-        off_path=c.off_path, off_path_reasons=join_words(reasons), path_not_critical=c.path_not_critical, path_float=path_float,
-    )
-    out: list[Flowable] = []
-    if c.off_path:
-        out += _paras(text_or_none(ctx, section, "critical_off_path", fields))
-    if c.path_not_critical:
-        out += _paras(text_or_none(ctx, section, "path_not_critical", fields))
-    return out
-
-
-def key_date_words(ctx: ReportContext) -> list[str]:
-    """Each key milestone that is late against its key date or lost float in the latest update, for reading.
-
-    A key milestone is late when its forecast is after the date of its
-    finish-by (or finish-fixed, start-by, start-fixed) constraint in the
-    latest update, the contractual or sectional date it carries (casefile
-    format, Constraints); it lost float when its total float fell from the
-    update before. Finished milestones are left out. The days late are in
-    the project's delay unit (:func:`forensic.trend.delay_between`).
-    """
-    t = ctx.trend
-    if len(t.snapshots) < 2:
-        return []
-    last, prev = t.snapshots[-1], t.snapshots[-2]
-    snap = ctx.casefile.snapshot(last.snapshot_id)
-    words = []
-    for m in t.milestones:
-        tf, when = last.milestone_floats.get(m), last.milestone_dates.get(m)
-        act = snap.activities.get(m)
-        if tf is None or when is None or act is None:
-            continue
-        parts = []
-        if act.constraint in ("finish-by", "finish-fixed", "start-by", "start-fixed") and act.constraint_date is not None \
-                and when > act.constraint_date:
-            late = delay_between(ctx.casefile, act.constraint_date, when)
-            parts.append(f"{days_words(t.delay_unit, late)} after its key date of {long_date(act.constraint_date)}")
-        before = prev.milestone_floats.get(m)
-        if before is not None and tf < before:
-            parts.append(f"{float_words(before - tf)} of float lost since {prev.snapshot_id}")
-        if parts:
-            words.append(f"{activity_name(ctx.casefile, m, last.snapshot_id)} ({m}), forecast {long_date(when)}, "
-                         f"total float {float_words(tf)}: " + " and ".join(parts))
-    return words
-
-
 def summary(ctx: ReportContext, section: Section) -> list[Flowable]:
     t = ctx.trend
     last = t.latest
@@ -225,7 +157,7 @@ def summary(ctx: ReportContext, section: Section) -> list[Flowable]:
         "completion_name": activity_name(ctx.casefile, last.completion_id, last.snapshot_id),
         "critical": last.critical,
     }))
-    out += _critical_notes(ctx, section, last)
+    out += critical_notes(ctx, section, last)
     keys = key_date_words(ctx)
     if keys:
         out += _paras(text_or_none(ctx, section, "key_dates", {"key_dates": "; ".join(keys), "count": len(keys)}))
@@ -400,7 +332,7 @@ def float_erosion(ctx: ReportContext, section: Section) -> list[Flowable]:
         else:
             sentence = milestone_sentence(ctx, section, m, scoped)
         out += _paras(sentence)
-        out += _paras(_contract_float_sentence(ctx, section, t.snapshots[-1].completion_id if m == completion_key else m,
+        out += _paras(contract_float_sentence(ctx, section, t.snapshots[-1].completion_id if m == completion_key else m,
                                                scoped))
     if section.options["table"]:
         cols = [_col(section, "snapshot", "Snapshot"), _col(section, "data_date", "Data date"), _col(section, "completion_float", "Completion")]
@@ -430,29 +362,6 @@ def float_erosion(ctx: ReportContext, section: Section) -> list[Flowable]:
     )
     out += _paras(fill(section.texts["bands"], bfields, _where(ctx, section, "bands")))
     return out
-
-
-def _contract_float_sentence(ctx: ReportContext, section: Section, mid: str, rows: Sequence[SnapshotTrend]) -> str | None:
-    """The float of a milestone to its contractual date, first and last in scope (beside the network float).
-
-    Network float is measured against the schedule's own completion, which
-    moves as the project slips; float to the contractual date (the contract
-    completion, or a key date's constraint) is negative when the forecast is
-    late (:func:`forensic.trend.contract_float`; GAO-16-89G best practice 6).
-    """
-    when = ctx.trend.contract_dates.get(mid)
-    have = [r for r in rows if r.contract_floats.get(mid) is not None]
-    if when is None or not have:
-        return None
-    a, b = have[0], have[-1]
-    fields = common_fields(ctx)
-    fields.update(
-        milestone=mid, name=activity_name(ctx.casefile, mid, b.snapshot_id),
-        contract_date=long_date(when), first_snapshot=a.snapshot_id, last_snapshot=b.snapshot_id,
-        first_float=float_words(a.contract_floats[mid]), last_float=float_words(b.contract_floats[mid]),
-        network_float=float_words(b.completion_float if mid == b.completion_id else b.milestone_floats.get(mid)),
-    )
-    return text_or_none(ctx, section, "contract", fields)
 
 
 def _completion_float_sentence(ctx: ReportContext, section: Section, rows: Sequence[SnapshotTrend]) -> str | None:
@@ -497,7 +406,7 @@ def longest_path(ctx: ReportContext, section: Section) -> list[Flowable]:
             Heading(escape(f"{r.snapshot_id}: data date {long_date(r.data_date)}"), st["h2"], f"path-{section.number}-{r.snapshot_id}", 1),
         ]
         block += _paras(fill(section.texts["sentence"], fields, _where(ctx, section, "sentence")))
-        block += _critical_notes(ctx, section, r)
+        block += critical_notes(ctx, section, r)
         chains = getattr(res, "longest_paths", ())
         if len(chains) > 1:
             block += _paras(text_or_none(ctx, section, "chains", {
