@@ -11,8 +11,8 @@ from pathlib import Path
 
 import pytest
 
-from forensic.casefile import load_casefile
-from forensic.errors import CasefileError, InputProblem
+from forensic.casefile.reading import load_casefile
+from forensic.core.errors import CasefileError, InputProblem
 
 MANIFEST = """\
 format = "forensic-casefile/2"

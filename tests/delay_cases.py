@@ -7,8 +7,8 @@ days that starts on day ``s`` finishes on ``s + d - 1`` (casefile format,
 
 from datetime import date
 
-from forensic.calendars import DAY_NAMES
-from forensic.model import (
+from forensic.core.calendars import DAY_NAMES
+from forensic.core.model import (
     Activity,
     Calendar,
     Casefile,

@@ -1,6 +1,6 @@
 """A plain scalar implementation of the engine's rules, kept as the tests' reference implementation.
 
-This was the first version of :mod:`forensic.engine`: one Python loop per
+This was the first version of :mod:`forensic.core.engine`: one Python loop per
 pass, link by link. The production engine now works level by level on numpy
 arrays; the two are independent codings of the same rules, so the property
 tests in ``tests/test_engine_reference.py`` compare them on random networks
@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 
-from forensic.calendars import (
+from forensic.core.calendars import (
     _MAX_DAY,
     _MIN_DAY,
     WorkdayIndex,
@@ -19,9 +19,9 @@ from forensic.calendars import (
     from_day_number,
     workday_index,
 )
-from forensic.engine import ScheduledActivity, ScheduleResult, topological_order
-from forensic.errors import ScheduleError
-from forensic.model import Calendar, Casefile, Project, Snapshot
+from forensic.core.engine import ScheduledActivity, ScheduleResult, topological_order
+from forensic.core.errors import ScheduleError
+from forensic.core.model import Calendar, Casefile, Project, Snapshot
 
 __all__ = [
     "ScheduleResult",

@@ -5,10 +5,10 @@ from __future__ import annotations
 from pathlib import Path
 
 import forensic
-from forensic.butfor import but_for
-from forensic.casefile import load_casefile
-from forensic.engine import schedule_snapshot
-from forensic.recovery import recover
+from forensic.analysis.butfor import but_for
+from forensic.analysis.recovery import recover
+from forensic.casefile.reading import load_casefile
+from forensic.core.engine import schedule_snapshot
 
 DEMO = Path(__file__).resolve().parent.parent / "casefiles" / "riverside"
 

@@ -6,10 +6,15 @@ from datetime import date
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from forensic.attribution import analyse_delay, contributors_table, delay_json, ledger_table
-from forensic.casefile import load_casefile
-from forensic.demo import demo_source
-from forensic.model import Activity, Fragnet, Link, frozen_mapping
+from forensic.analysis.attribution.delay import (
+    analyse_delay,
+    contributors_table,
+    delay_json,
+    ledger_table,
+)
+from forensic.casefile.demo import demo_source
+from forensic.casefile.reading import load_casefile
+from forensic.core.model import Activity, Fragnet, Link, frozen_mapping
 
 from .delay_cases import D0, casefile, day, event, ms, snap, task
 from .test_windows import chain_case, logic_change_case, random_updates
@@ -414,7 +419,7 @@ def test_added_work_holding_a_start_keeps_its_event_when_windows_are_grouped():
     held B's planned start, day 9: hold 9 > v(A) = 3, so X takes the 9;
     X was held by A (A finished day 12, X started day 13): A inherits
     clamp(v(A) = 3, 0, 9) = 3 and X keeps 6. Owner 6, contractor 3, as monthly.
-    (Contributor rule of forensic.contributors; AACE RP 29R-03 protocol 3.4:
+    (Contributor rule of forensic.analysis.attribution.contributors; AACE RP 29R-03 protocol 3.4:
     the half-step split must not move an event's delay to another party.)
     """
     cf = added_work_case()
@@ -523,8 +528,8 @@ def test_manifest_concurrency_key_is_read_and_checked(tmp_path):
     """[project] concurrency = "dominant" is read; an unknown rule is refused naming the key (casefile format v2)."""
     import pytest  # noqa: PLC0415
 
-    from forensic.demo import copy_demo  # noqa: PLC0415
-    from forensic.errors import CasefileError  # noqa: PLC0415
+    from forensic.casefile.demo import copy_demo  # noqa: PLC0415
+    from forensic.core.errors import CasefileError  # noqa: PLC0415
 
     folder = copy_demo(tmp_path / "case")
     manifest = folder / "casefile.toml"

@@ -4,12 +4,12 @@ import json
 
 from click.testing import CliRunner
 
-from forensic.attribution import analyse_delay
-from forensic.batch import find_casefiles, run_batch
-from forensic.casefile import load_casefile
+from forensic.analysis.attribution.delay import analyse_delay
+from forensic.casefile.reading import load_casefile
+from forensic.casefile.synthetic import generate_casefile
+from forensic.casefile.writing import write_casefile
 from forensic.cli import main
-from forensic.synthetic import generate_casefile
-from forensic.writer import write_casefile
+from forensic.cli.portfolio import find_casefiles, run_batch
 
 
 def portfolio(tmp_path, broken=True):

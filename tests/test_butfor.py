@@ -6,11 +6,11 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from forensic.butfor import as_built, as_built_table, but_for, but_for_json, but_for_table
-from forensic.calendars import DAY_NAMES
-from forensic.engine import schedule
-from forensic.errors import NotFoundError
-from forensic.model import (
+from forensic.analysis.butfor import as_built, as_built_table, but_for, but_for_json, but_for_table
+from forensic.core.calendars import DAY_NAMES
+from forensic.core.engine import schedule
+from forensic.core.errors import NotFoundError
+from forensic.core.model import (
     Activity,
     Calendar,
     Casefile,
@@ -334,9 +334,9 @@ def test_demo_ev05_ev01_ev11_are_removed_as_what_they_cost():
     which the 51 days of float on the facade path absorb: 0. EV11 is not
     represented (none of its work in its period) and removes nothing.
     """
-    from forensic.butfor import remove_events
-    from forensic.casefile import load_casefile
-    from forensic.demo import demo_source
+    from forensic.analysis.butfor import remove_events
+    from forensic.casefile.demo import demo_source
+    from forensic.casefile.reading import load_casefile
 
     cf = load_casefile(demo_source())
     report = but_for(cf, event="EV05")

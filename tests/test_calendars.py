@@ -12,7 +12,7 @@ from dateutil.rrule import DAILY, FR, MO, SA, SU, TH, TU, WE, rrule, rruleset
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from forensic.calendars import (
+from forensic.core.calendars import (
     DAY_NAMES,
     add_workdays,
     is_workday,
@@ -20,7 +20,7 @@ from forensic.calendars import (
     previous_workday,
     workdays_between,
 )
-from forensic.model import Calendar
+from forensic.core.model import Calendar
 
 _RRULE_DAYS = dict(zip(DAY_NAMES, (MO, TU, WE, TH, FR, SA, SU), strict=True))
 _ORIGIN = date(2025, 1, 1)

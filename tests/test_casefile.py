@@ -14,9 +14,9 @@ from datetime import date
 
 import pytest
 
-from forensic.casefile import Limits, load_casefile
-from forensic.errors import CasefileError, FragnetError, LimitExceeded
-from forensic.impact import insert_fragnet
+from forensic.analysis.impact import insert_fragnet
+from forensic.casefile.reading import Limits, load_casefile
+from forensic.core.errors import CasefileError, FragnetError, LimitExceeded
 from tests.casefile_helpers import FILES, edit, find_problem, refused, write_casefile
 
 BL_ACT = "snapshots/BL/activities.csv"
@@ -519,8 +519,8 @@ def test_record_moved_to_another_line_keeps_every_other_field():
     from dataclasses import replace
     from datetime import date
 
-    from forensic._records import _moved
-    from forensic.model import Activity
+    from forensic.casefile.records import _moved
+    from forensic.core.model import Activity
 
     a = Activity("A1", "Pour slab", 5, "task", 3, date(2026, 1, 5), None, "5d", "start-from",
                  date(2026, 1, 2), "CON", "Z1", 40.0, 2, 900.0, 17)

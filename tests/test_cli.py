@@ -6,10 +6,10 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
-from forensic.casefile import load_casefile
+from forensic.casefile.reading import load_casefile
 from forensic.cli import COMMANDS as LAZY_COMMANDS
 from forensic.cli import main
-from forensic.engine import schedule_snapshot
+from forensic.core.engine import schedule_snapshot
 
 ROOT = Path(__file__).resolve().parent.parent
 DEMO = ROOT / "casefiles" / "riverside"

@@ -8,8 +8,8 @@ from pathlib import Path
 
 from click.testing import CliRunner
 
-from forensic.batch import batch_table, run_one
 from forensic.cli import main
+from forensic.cli.portfolio import batch_table, run_one
 
 ROOT = Path(__file__).resolve().parent.parent
 DEMO = ROOT / "casefiles" / "riverside"

@@ -8,7 +8,7 @@ from click.testing import CliRunner
 
 import forensic.cli.impact as cli_impact
 from forensic.cli import main
-from forensic.model import Activity, Event, Fragnet, Link, frozen_mapping
+from forensic.core.model import Activity, Event, Fragnet, Link, frozen_mapping
 
 from .test_impact import casefile, day, on_path, snap, two_paths
 

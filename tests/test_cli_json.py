@@ -15,10 +15,10 @@ import pytest
 from click.testing import CliRunner
 
 import forensic
-from forensic.casefile import load_casefile
+from forensic.casefile.reading import load_casefile
 from forensic.cli import main
-from forensic.engine import schedule_snapshot
-from forensic.tables import schedule_json
+from forensic.core.engine import schedule_snapshot
+from forensic.core.tables import schedule_json
 
 ROOT = Path(__file__).resolve().parent.parent
 DEMO = ROOT / "casefiles" / "riverside"

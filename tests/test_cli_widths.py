@@ -7,11 +7,12 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
-from forensic.attribution import analyse_delay
-from forensic.casefile import load_casefile
+from forensic.analysis.attribution.delay import analyse_delay
+from forensic.analysis.windows import windows_table
+from forensic.casefile.reading import load_casefile
 from forensic.cli import main
-from forensic.tables import Table, to_text
-from forensic.windows import windows_table
+from forensic.core.tables import Table
+from forensic.exchange.writers import to_text
 
 ROOT = Path(__file__).resolve().parent.parent
 DEMO = str(ROOT / "casefiles" / "riverside")

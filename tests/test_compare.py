@@ -6,9 +6,15 @@ from pathlib import Path
 
 import pytest
 
-from forensic.casefile import load_casefile
-from forensic.compare import CHANGE_KINDS, Change, compare_json, compare_snapshots, compare_table
-from forensic.model import (
+from forensic.analysis.compare import (
+    CHANGE_KINDS,
+    Change,
+    compare_json,
+    compare_snapshots,
+    compare_table,
+)
+from forensic.casefile.reading import load_casefile
+from forensic.core.model import (
     Activity,
     Calendar,
     Casefile,

@@ -23,7 +23,7 @@ import pytest
 from click.testing import CliRunner
 
 from forensic.cli import main
-from forensic.errors import printable
+from forensic.core.errors import printable
 from tests.corpus.build import CATEGORIES, Case, build_case, load_cases
 
 CASES = load_cases()
@@ -91,7 +91,7 @@ def test_malformed_casefile_is_refused_by_check(case, tmp_path, workdir):
     # With --json, stdout is {"valid": false, "problems": [...]} and one problem is the case's (issue 21).
     data = json.loads(result.stdout)
     assert data["valid"] is False
-    # JSON carries the raw text; the case names it as the message prints it (escaped, forensic.errors.printable).
+    # JSON carries the raw text; the case names it as the message prints it (escaped, forensic.core.errors.printable).
     assert any(printable(p["file"]) == case.file and case.says in p["message"]
                and (case.line is None or p["line"] == case.line)
                and (case.key is None or p["key"] == case.key)

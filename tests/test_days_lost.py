@@ -4,8 +4,8 @@ from pathlib import Path
 
 import pytest
 
-from forensic.casefile import load_casefile
-from forensic.writer import events_csv, write_casefile
+from forensic.casefile.reading import load_casefile
+from forensic.casefile.writing import events_csv, write_casefile
 
 from .casefile_helpers import edit, find_problem, refused
 from .casefile_helpers import write_casefile as write_case

@@ -15,7 +15,7 @@ from pathlib import Path
 
 import pytest
 
-from forensic.engine import schedule
+from forensic.core.engine import schedule
 
 ROOT = Path(__file__).resolve().parent.parent
 CASEFILES = ROOT / "casefiles"

@@ -12,11 +12,11 @@ from pathlib import Path
 
 import pytest
 
-from forensic.attribution import analyse_delay
-from forensic.butfor import but_for
-from forensic.casefile import load_casefile
-from forensic.compare import compare_snapshots
-from forensic.impact import time_impact, unimpacted_snapshot
+from forensic.analysis.attribution.delay import analyse_delay
+from forensic.analysis.butfor import but_for
+from forensic.analysis.compare import compare_snapshots
+from forensic.analysis.impact import time_impact, unimpacted_snapshot
+from forensic.casefile.reading import load_casefile
 
 DEMO = Path(__file__).resolve().parents[1] / "casefiles" / "riverside"
 STORY = tomllib.loads((DEMO / "story.toml").read_text(encoding="utf-8"))

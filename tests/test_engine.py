@@ -7,10 +7,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from forensic.calendars import DAY_NAMES
-from forensic.engine import schedule
-from forensic.errors import LogicLoopError
-from forensic.model import Activity, Calendar, Link, Project, Snapshot, frozen_mapping
+from forensic.core.calendars import DAY_NAMES
+from forensic.core.engine import schedule
+from forensic.core.errors import LogicLoopError
+from forensic.core.model import Activity, Calendar, Link, Project, Snapshot, frozen_mapping
 
 SEVEN = Calendar("7d", DAY_NAMES)
 FIVE = Calendar("5d", ("mon", "tue", "wed", "thu", "fri"))
@@ -226,8 +226,8 @@ def test_cached_compile_gives_the_same_schedule_as_a_fresh_one():
     """A variant sharing links and most records with a scheduled snapshot schedules as if compiled afresh."""
     from dataclasses import replace
 
-    from forensic import engine
-    from forensic.synthetic import generate_casefile
+    from forensic.casefile.synthetic import generate_casefile
+    from forensic.core import engine
 
     cf = generate_casefile(1200, updates=2, seed=9)
     snap = cf.snapshots[-1]

@@ -20,9 +20,9 @@ from datetime import date, timedelta
 import networkx as nx
 import pytest
 
-from forensic.calendars import DAY_NAMES
-from forensic.engine import schedule
-from forensic.model import Activity, Calendar, Link, Project, Snapshot, frozen_mapping
+from forensic.core.calendars import DAY_NAMES
+from forensic.core.engine import schedule
+from forensic.core.model import Activity, Calendar, Link, Project, Snapshot, frozen_mapping
 from tests import reference_engine
 
 SEVEN = Calendar("7d", DAY_NAMES)

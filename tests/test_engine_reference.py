@@ -13,8 +13,8 @@ from datetime import date, timedelta
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from forensic.engine import schedule
-from forensic.model import (
+from forensic.core.engine import schedule
+from forensic.core.model import (
     CONSTRAINT_KINDS,
     Activity,
     Calendar,

@@ -4,16 +4,16 @@ Every case is on a seven-day calendar, so a working day is a calendar day
 and the hand working below can be checked with a wall calendar. Dates are
 inclusive (a 10-day task from 2026-03-11 finishes 2026-03-20). The rules are
 those of the precedence-diagramming backward pass (AACE RP 49R-06; common
-CPM practice), stated in the notes of :mod:`forensic.engine`.
+CPM practice), stated in the notes of :mod:`forensic.core.engine`.
 """
 
 from datetime import date
 
 import pytest
 
-from forensic.calendars import DAY_NAMES
-from forensic.engine import schedule
-from forensic.model import Activity, Calendar, Link, Project, Snapshot, frozen_mapping
+from forensic.core.calendars import DAY_NAMES
+from forensic.core.engine import schedule
+from forensic.core.model import Activity, Calendar, Link, Project, Snapshot, frozen_mapping
 from tests import reference_engine
 
 SEVEN = Calendar("7d", DAY_NAMES)

@@ -7,10 +7,10 @@ import json
 import pytest
 from click.testing import CliRunner
 
-from forensic.casefile import load_casefile
+from forensic.analysis.eot import delay_summary, eot_json
+from forensic.casefile.demo import demo_source
+from forensic.casefile.reading import load_casefile
 from forensic.cli import main
-from forensic.demo import demo_source
-from forensic.eot import delay_summary, eot_json
 from tests.delay_cases import casefile, day, event, ms, snap, task
 
 
@@ -88,7 +88,7 @@ def test_demo_events_plus_not_from_events_make_the_slip(demo_summary):
 
 def test_demo_windows_totals_are_the_ledger(demo_summary):
     """The windows method's totals are exactly the ledger's cumulative totals (forensic windows)."""
-    from forensic.attribution import analyse_delay
+    from forensic.analysis.attribution.delay import analyse_delay
 
     led = analyse_delay(load_casefile(demo_source())).ledger.total
     w = demo_summary.methods["windows"]

@@ -10,15 +10,15 @@ import numpy as np
 import pytest
 from pypdf import PdfReader
 
-from forensic.asbuilt_path import as_built_critical_path
-from forensic.casefile import load_casefile
-from forensic.demo import demo_source
-from forensic.engine import schedule
-from forensic.model import Event, Party
-from forensic.nearcritical import float_to_date, key_dates, near_critical_trend
+from forensic.analysis.asbuilt_path import as_built_critical_path
+from forensic.analysis.nearcritical import float_to_date, key_dates, near_critical_trend
+from forensic.analysis.trend import completion_trend
+from forensic.casefile.demo import demo_source
+from forensic.casefile.reading import load_casefile
+from forensic.core.engine import schedule
+from forensic.core.model import Event, Party
 from forensic.report import build_report
 from forensic.report.narrative import long_date
-from forensic.trend import completion_trend
 from tests.test_report import ESCAPE_NAME, small_casefile
 
 
@@ -191,7 +191,7 @@ def test_exhibit_pages_are_deterministic_and_escape_casefile_text():
 
 
 def test_bad_margins_are_a_template_error(tmp_path):
-    from forensic.errors import TemplateError
+    from forensic.core.errors import TemplateError
     from forensic.report import load_template
 
     src = load_template("full").path.read_text(encoding="utf-8").replace("margins = [0, 5, 10]", 'margins = [0, "five"]', 1)

@@ -1,4 +1,4 @@
-"""Tests of forensic.export: every table of a casefile to CSV, JSON and a formatted workbook."""
+"""Tests of forensic.exchange.export: every table of a casefile to CSV, JSON and a formatted workbook."""
 
 from __future__ import annotations
 
@@ -12,9 +12,10 @@ import pytest
 from click.testing import CliRunner
 from openpyxl import load_workbook
 
-from forensic.casefile import load_casefile
+from forensic.casefile.reading import load_casefile
 from forensic.cli import main
-from forensic.export import (
+from forensic.core.tables import Table
+from forensic.exchange.export import (
     FIXED_TIMESTAMP,
     casefile_tables,
     sheet_names,
@@ -22,7 +23,7 @@ from forensic.export import (
     to_xlsx,
     write_csv_dir,
 )
-from forensic.tables import Table, to_csv
+from forensic.exchange.writers import to_csv
 from tests.casefile_helpers import write_casefile
 
 RISKY = Table(
@@ -200,8 +201,8 @@ def test_bare_operator_is_a_text_cell_in_xlsx() -> None:
 
     from openpyxl import load_workbook
 
-    from forensic.export import to_xlsx
-    from forensic.tables import Table
+    from forensic.core.tables import Table
+    from forensic.exchange.export import to_xlsx
 
     data = to_xlsx([Table("t", ("comparison",), (("==",), ("<=",)))])
     ws = load_workbook(io.BytesIO(data)).active

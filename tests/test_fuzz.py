@@ -2,7 +2,7 @@
 
 Random byte, cell and line mutations of the valid casefile of
 tests/casefile_helpers.py must either load (and then schedule and validate)
-or fail with the project's own errors (:class:`forensic.errors.ForensicError`),
+or fail with the project's own errors (:class:`forensic.core.errors.ForensicError`),
 never with another exception; through the command line they give exit
 status 0 or 1 and never a traceback or an "internal error". The property
 is the one the issue states (issue 10); the hostile cell values are common
@@ -20,10 +20,10 @@ from click.testing import CliRunner
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from forensic.casefile import load_casefile
+from forensic.casefile.reading import load_casefile
+from forensic.casefile.validation import validate_casefile
 from forensic.cli import main
-from forensic.errors import ForensicError
-from forensic.validation import validate_casefile
+from forensic.core.errors import ForensicError
 from tests.casefile_helpers import FILES
 
 NAMES = sorted(FILES)

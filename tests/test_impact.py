@@ -6,10 +6,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from forensic.calendars import DAY_NAMES
-from forensic.engine import schedule
-from forensic.errors import FragnetError, LogicLoopError, NotFoundError
-from forensic.impact import (
+from forensic.analysis.impact import (
     delay_between,
     float_table,
     impact_json,
@@ -22,7 +19,10 @@ from forensic.impact import (
     time_impacts,
     unimpacted_snapshot,
 )
-from forensic.model import (
+from forensic.core.calendars import DAY_NAMES
+from forensic.core.engine import schedule
+from forensic.core.errors import FragnetError, LogicLoopError, NotFoundError
+from forensic.core.model import (
     Activity,
     Calendar,
     Casefile,
@@ -299,7 +299,7 @@ def test_event_with_nothing_to_estimate_is_not_represented_and_says_why():
 
 def test_a_time_impact_that_shortens_the_schedule_is_warned():
     """Never below the as-planned: an after-schedule earlier than the unimpacted one is warned, naming the event."""
-    from forensic.impact import HoldUp, _compare
+    from forensic.analysis.impact import HoldUp, _compare
 
     acts, links = two_paths(5, 3)
     before = snap(acts, links)
@@ -319,8 +319,8 @@ def test_estimate_never_exceeds_the_event_s_working_days_or_the_overrun(planned,
     Checked against a plain count of the working dates (Python's weekday()
     for the five-day week, every day for the seven-day one).
     """
-    from forensic.calendars import add_workdays, next_workday
-    from forensic.impact import estimate_days
+    from forensic.analysis.impact import estimate_days
+    from forensic.core.calendars import add_workdays, next_workday
 
     cal = SEVEN if cal_id == "7d" else FIVE
     start = next_workday(cal, MONDAY + timedelta(days=s0))
@@ -432,8 +432,8 @@ def test_demo_ev05_ev01_ev11_cost_what_the_record_shows():
     that period (the curtain walls start 22 Oct, SYS-COM-ME is forecast from
     27 May 2027), so nothing can be estimated: not represented, 0 inserted.
     """
-    from forensic.casefile import load_casefile
-    from forensic.demo import demo_source
+    from forensic.casefile.demo import demo_source
+    from forensic.casefile.reading import load_casefile
 
     cf = load_casefile(demo_source())
     r = time_impact(cf, "EV05")
@@ -478,8 +478,8 @@ def test_series_inserts_each_event_into_its_own_update_and_carries_the_result_fo
     19 to U1's day 23: 4, so the series models 2 days more than the record
     shows.
     """
-    from forensic.impact import contemporaneous_json, time_impact_series
-    from forensic.windows import analyse_windows
+    from forensic.analysis.impact import contemporaneous_json, time_impact_series
+    from forensic.analysis.windows import analyse_windows
 
     cf = series_case()
     s = time_impact_series(cf)
@@ -509,9 +509,9 @@ def test_cumulative_names_its_update_and_warns_of_events_after_later_updates():
 
 def test_float_table_shows_gains_as_gains_not_negative_consumption():
     """Every row's consumed and gained are >= 0 and their difference is the float change (demo, every event)."""
-    from forensic.casefile import load_casefile
-    from forensic.demo import demo_source
-    from forensic.impact import time_impacts
+    from forensic.analysis.impact import time_impacts
+    from forensic.casefile.demo import demo_source
+    from forensic.casefile.reading import load_casefile
 
     cf = load_casefile(demo_source())
     rows = [(row, c) for r in time_impacts(cf, [e.id for e in cf.events]).individual

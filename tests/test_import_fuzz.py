@@ -4,7 +4,7 @@ Random mutations of the worked example's mapping (lines dropped or
 repeated, values replaced by other TOML values) and of its CSV sources
 (cells replaced by hostile text, bytes changed) must either import (and
 then load again) or fail with the project's own errors
-(:class:`forensic.errors.ForensicError`), never another exception; a
+(:class:`forensic.core.errors.ForensicError`), never another exception; a
 failed import leaves nothing behind (no ``--out``, no temporary folder).
 The property is the one issue 10 states for the loader; the hostile values
 are common practice in fuzzing text parsers, as in tests/test_fuzz.py.
@@ -19,9 +19,9 @@ from pathlib import Path
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from forensic.casefile import load_casefile
-from forensic.errors import ForensicError
-from forensic.importer import import_casefile
+from forensic.casefile.reading import load_casefile
+from forensic.core.errors import ForensicError
+from forensic.exchange.importer.importing import import_casefile
 from tests.test_fuzz import NASTY
 
 EXAMPLE = Path(__file__).resolve().parent.parent / "examples" / "import"

@@ -1,4 +1,4 @@
-"""Tests of forensic.importer: mappings over CSV and XLSX sources, errors, atomic output."""
+"""Tests of forensic.exchange.importer.importing: mappings over CSV and XLSX sources, errors, atomic output."""
 
 from __future__ import annotations
 
@@ -10,12 +10,12 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
-from forensic.casefile import load_casefile
+from forensic.casefile.reading import load_casefile
 from forensic.cli import main
-from forensic.engine import schedule_snapshot
-from forensic.errors import ImportMappingError, OutputError
-from forensic.export import input_tables, to_xlsx, write_csv_dir
-from forensic.importer import import_casefile
+from forensic.core.engine import schedule_snapshot
+from forensic.core.errors import ImportMappingError, OutputError
+from forensic.exchange.export import input_tables, to_xlsx, write_csv_dir
+from forensic.exchange.importer.importing import import_casefile
 
 ROOT = Path(__file__).resolve().parent.parent
 EXAMPLE = ROOT / "examples" / "import"

@@ -11,10 +11,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from forensic.casefile import load_casefile
-from forensic.demo import demo_source
-from forensic.model import FrozenDict, frozen_mapping
-from forensic.tables import _json_default, dumps_json
+from forensic.casefile.demo import demo_source
+from forensic.casefile.reading import load_casefile
+from forensic.core.model import FrozenDict, frozen_mapping
+from forensic.exchange.writers import _json_default, dumps_json
 
 
 def _reference(obj) -> str:
@@ -62,7 +62,7 @@ def test_frozen_mapping_refuses_every_change():
 
 def test_schedule_result_pickles_and_deep_copies():
     """A ScheduleResult goes to a process pool or a cache: no local closures in the way (issue 20)."""
-    from forensic.engine import schedule
+    from forensic.core.engine import schedule
 
     cf = load_casefile(demo_source())
     res = schedule(cf.snapshots[-1], cf.calendars, cf.project)
@@ -78,7 +78,7 @@ def test_written_casefile_keeps_its_concurrency_rule(rule, tmp_path):
     """write_casefile then load_casefile round-trips a non-default concurrency rule (nothing is lost)."""
     from dataclasses import replace
 
-    from forensic.writer import write_casefile
+    from forensic.casefile.writing import write_casefile
 
     cf = load_casefile(demo_source())
     cf = replace(cf, project=replace(cf.project, concurrency=rule))

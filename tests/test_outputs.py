@@ -18,9 +18,9 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
+from forensic.casefile.outputs import atomic_write
 from forensic.cli import main
-from forensic.errors import OutputError
-from forensic.outputs import atomic_write
+from forensic.core.errors import OutputError
 from tests.casefile_helpers import FILES, write_casefile
 
 REPO = Path(__file__).resolve().parents[1]
@@ -60,7 +60,7 @@ def test_killed_writer_leaves_the_old_output_intact(tmp_path):
     """SIGKILL in the middle of atomic_write: the old file is untouched; only a hidden .part is left."""
     target = tmp_path / "result.json"
     target.write_text("old result\n", encoding="utf-8")
-    proc = _start("from forensic.outputs import atomic_write\n"
+    proc = _start("from forensic.casefile.outputs import atomic_write\n"
                   "atomic_write('result.json', b'x' * 4_000_000)\n", tmp_path)
     parts = list(tmp_path.glob(".forensic-*.part"))
     assert len(parts) == 1 and 0 < parts[0].stat().st_size < 4_000_000  # caught mid-write
@@ -304,7 +304,7 @@ def test_a_full_disk_keeps_the_old_file_and_says_cannot_write(tmp_path, monkeypa
 def test_a_failing_csv_folder_writes_nothing_at_all(tmp_path, monkeypatch, err):
     """export --csv-dir failing at the 15th file (read-only, permission denied, full disk): no folder, no temp."""
     root = write_casefile(tmp_path)
-    import forensic.outputs as outputs
+    import forensic.casefile.outputs as outputs
 
     real_fsync, calls = os.fsync, []
 
@@ -323,8 +323,8 @@ def test_a_failing_csv_folder_writes_nothing_at_all(tmp_path, monkeypatch, err):
 
 def test_csv_file_names_are_unique_and_the_count_is_the_count_written(tmp_path):
     """Snapshots Ä1 and Ü1 both sanitise to 'activities-_1'; the second gets '~2' and every table has a file."""
-    from forensic.export import csv_file_names
-    from forensic.tables import Table
+    from forensic.core.tables import Table
+    from forensic.exchange.export import csv_file_names
 
     tables = [Table(n, ("a",), ()) for n in ("activities-Ä1", "activities-Ü1", "Links", "links", "")]
     # By hand: Ä and Ü are outside [A-Za-z0-9._-] and become "_"; "links" equals "Links" regardless of case.

@@ -4,9 +4,17 @@ from datetime import date
 
 import pytest
 
-from forensic import quality
-from forensic.model import Activity, Calendar, Casefile, Link, Project, Snapshot, frozen_mapping
-from forensic.quality import assess_casefile, assess_quality, quality_json, quality_table
+from forensic.analysis import quality
+from forensic.analysis.quality import assess_casefile, assess_quality, quality_json, quality_table
+from forensic.core.model import (
+    Activity,
+    Calendar,
+    Casefile,
+    Link,
+    Project,
+    Snapshot,
+    frozen_mapping,
+)
 
 FIVE = Calendar("5d", ("mon", "tue", "wed", "thu", "fri"))
 MON = date(2026, 1, 5)  # a Monday; every network below is on the Monday-Friday calendar

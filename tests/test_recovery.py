@@ -10,17 +10,25 @@ from click.testing import CliRunner
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from forensic.calendars import DAY_NAMES, add_workdays, workdays_between
-from forensic.cli import main
-from forensic.engine import schedule
-from forensic.errors import RecoveryError
-from forensic.model import Activity, Calendar, Casefile, Link, Project, Snapshot, frozen_mapping
-from forensic.recovery import (
+from forensic.analysis.recovery import (
     apply_plan,
     recover,
     recovery_curve_table,
     recovery_json,
     recovery_plan_table,
+)
+from forensic.cli import main
+from forensic.core.calendars import DAY_NAMES, add_workdays, workdays_between
+from forensic.core.engine import schedule
+from forensic.core.errors import RecoveryError
+from forensic.core.model import (
+    Activity,
+    Calendar,
+    Casefile,
+    Link,
+    Project,
+    Snapshot,
+    frozen_mapping,
 )
 
 SEVEN = Calendar("7d", DAY_NAMES)
@@ -670,7 +678,7 @@ def test_library_refuses_hostile_days_and_limits_for_report_and_export():
     """`report`/`export --recover-days` call recover() with the default limit: huge days or bad limits are RecoveryError."""
     import inspect
 
-    from forensic.recovery import DEFAULT_TIME_LIMIT
+    from forensic.analysis.recovery import DEFAULT_TIME_LIMIT
 
     assert inspect.signature(recover).parameters["time_limit"].default == DEFAULT_TIME_LIMIT == 60.0
     with pytest.raises(RecoveryError, match="before the data date"):

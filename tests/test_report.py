@@ -9,9 +9,10 @@ import pytest
 from click.testing import CliRunner
 from pypdf import PdfReader
 
+from forensic.analysis.trend import completion_trend
 from forensic.cli import main
-from forensic.errors import TemplateError
-from forensic.model import (
+from forensic.core.errors import TemplateError
+from forensic.core.model import (
     Activity,
     Calendar,
     Casefile,
@@ -24,7 +25,6 @@ from forensic.model import (
 from forensic.report import build_report, load_template
 from forensic.report.narrative import long_date, short_date
 from forensic.report.templates import fill, placeholders
-from forensic.trend import completion_trend
 
 FIVE = Calendar("5d", ("mon", "tue", "wed", "thu", "fri"), (date(2026, 4, 3),))
 ESCAPE_NAME = 'Pour <slab> & "cure"'
@@ -262,8 +262,8 @@ def test_cli_writes_the_report_atomically_and_refuses_unknown_templates(tmp_path
 
 @pytest.fixture(scope="module")
 def demo():
-    from forensic.casefile import load_casefile
-    from forensic.demo import demo_source
+    from forensic.casefile.demo import demo_source
+    from forensic.casefile.reading import load_casefile
 
     return load_casefile(demo_source())
 
@@ -293,7 +293,7 @@ def test_demo_report_has_every_heading_and_the_cautions(demo_text):
 
 def test_demo_report_prints_the_windows_analysis_figures(demo, demo_text):
     """Each window's slip, the ledger's categories and the total come from analyse_delay's result objects."""
-    from forensic.attribution import analyse_delay
+    from forensic.analysis.attribution.delay import analyse_delay
 
     text = demo_text
     delay = analyse_delay(demo)
@@ -310,8 +310,8 @@ def test_demo_report_prints_the_windows_analysis_figures(demo, demo_text):
 
 def test_demo_report_prints_time_impacts_and_the_recovery_plan(demo, demo_text):
     """Each event's modelled impact (time_impacts) and the least-cost plan (recover) are quoted as computed."""
-    from forensic.impact import time_impacts
-    from forensic.recovery import recover
+    from forensic.analysis.impact import time_impacts
+    from forensic.analysis.recovery import recover
 
     text = demo_text
     series = time_impacts(demo)
@@ -331,7 +331,7 @@ def test_demo_monthly_review_is_byte_identical_twice(demo):
 
 def test_demo_report_prints_the_quality_scorecard(demo, demo_text):
     """Each snapshot's passed / failed count is the tally of assess_casefile's checks (DCMA-EA PAM 200.1)."""
-    from forensic.quality import assess_casefile
+    from forensic.analysis.quality import assess_casefile
 
     for q in assess_casefile(demo):
         assessed = sum(1 for c in q.checks if c.passed is not None)
@@ -347,7 +347,7 @@ def test_demo_report_prints_the_quality_scorecard(demo, demo_text):
 
 def test_demo_report_quotes_each_but_for_case_as_computed(demo, demo_text):
     """Each but-for case's completion and difference are those of butfor.but_for (AACE RP 29R-03, MIP 3.8)."""
-    from forensic.butfor import but_for
+    from forensic.analysis.butfor import but_for
 
     rep = but_for(demo)
     assert "But-for analysis (collapsed as-built)" in demo_text
@@ -368,7 +368,7 @@ def test_demo_report_quotes_each_but_for_case_as_computed(demo, demo_text):
 
 def test_demo_report_as_built_summary_counts_the_comparison_rows(demo, demo_text):
     """The as-planned versus as-built sentence tallies asbuilt.as_planned_vs_as_built's rows (AACE RP 29R-03, 3.1/3.2)."""
-    from forensic.asbuilt import as_planned_vs_as_built
+    from forensic.analysis.asbuilt import as_planned_vs_as_built
 
     rows = as_planned_vs_as_built(demo)
     compared = [r for r in rows if r.finish_slip is not None]
@@ -387,7 +387,7 @@ def test_demo_report_as_built_summary_counts_the_comparison_rows(demo, demo_text
 
 def test_as_built_subset_takes_the_longest_path_then_the_largest_finish_slips():
     """The report's subset: the final path in path order, then the latest finishes, late only (our rule, docs/report.md)."""
-    from forensic.asbuilt import AsBuiltRow
+    from forensic.analysis.asbuilt import AsBuiltRow
     from forensic.report.asbuilt_sections import asbuilt_subset
 
     def row(aid, fv):
@@ -401,7 +401,7 @@ def test_as_built_subset_takes_the_longest_path_then_the_largest_finish_slips():
 
 def test_demo_windows_set_the_critical_path_before_and_after_side_by_side(demo, demo_text):
     """Each window's path table is headed by its two updates and starts with windows' own critical_path_before/after."""
-    from forensic.attribution import analyse_delay
+    from forensic.analysis.attribution.delay import analyse_delay
 
     for w in analyse_delay(demo).windows.windows:
         assert f"Critical path at {w.from_id} Name Critical path at {w.to_id} Name" in demo_text
@@ -416,7 +416,7 @@ def test_demo_summary_parts_add_up_to_the_slip(demo, demo_text):
     """The summary's categories, less the gains, add up to the ledger's total slip (attribution.Ledger)."""
     import re
 
-    from forensic.attribution import analyse_delay
+    from forensic.analysis.attribution.delay import analyse_delay
 
     led = analyse_delay(demo).ledger
     m = re.search(r"Of the (\d+) calendar days of slip, the windows analysis attributes (\d+) to .*? compensable, (\d+) "
@@ -431,7 +431,7 @@ def test_demo_summary_parts_add_up_to_the_slip(demo, demo_text):
 
 def test_demo_quality_sentences_say_what_changed_since_the_snapshot_before(demo, demo_text):
     """After the baseline, each snapshot's sentence names only the checks that changed (from assess_casefile's results)."""
-    from forensic.quality import assess_casefile
+    from forensic.analysis.quality import assess_casefile
     from forensic.report.record_sections import short_title
 
     reports = assess_casefile(demo)

@@ -12,12 +12,12 @@ from datetime import date, timedelta
 import pytest
 from pypdf import PdfReader
 
-from forensic.casefile import load_casefile
-from forensic.demo import demo_source
-from forensic.engine import schedule
+from forensic.analysis.trend import completion_trend
+from forensic.casefile.demo import demo_source
+from forensic.casefile.reading import load_casefile
+from forensic.core.engine import schedule
 from forensic.report import build_report
 from forensic.report.narrative import long_date
-from forensic.trend import completion_trend
 
 
 def _pages(data: bytes) -> list[str]:
@@ -144,7 +144,7 @@ def test_plurals_and_lists_read_as_written(demo):
 
 def test_cumulative_impact_sentence_names_the_base_schedules(demo):
     """The cumulative difference is not only float and overlap: the events alone went into different updates."""
-    from forensic.impact import time_impacts
+    from forensic.analysis.impact import time_impacts
 
     series = time_impacts(demo)
     bases = sorted({r.into for r in series.individual})
@@ -158,7 +158,7 @@ def test_cumulative_impact_sentence_names_the_base_schedules(demo):
 def test_acceleration_says_when_the_plan_is_not_proven_least_cost(demo, monkeypatch):
     """With the solver's time limit cut to 0.01 s the plan still meets its target but is flagged in the PDF."""
     import forensic.report as report_module
-    from forensic.recovery import recover
+    from forensic.analysis.recovery import recover
 
     monkeypatch.setattr(report_module, "recover", lambda cf, sid, days: recover(cf, sid, days=days, time_limit=0.01))
     text = " ".join(_pages(build_report(demo, "full", recover_days=10)))

@@ -14,8 +14,8 @@ FULL = Path(__file__).resolve().parents[1] / "report_templates" / "full.toml"
 @pytest.fixture(scope="module")
 def text(tmp_path_factory) -> str:
     """The demo's report with only the cautions, time impact and but-for sections of the full template."""
-    from forensic.casefile import load_casefile
-    from forensic.demo import demo_source
+    from forensic.casefile.demo import demo_source
+    from forensic.casefile.reading import load_casefile
 
     head, *blocks = FULL.read_text(encoding="utf-8").split("[[section]]")
     keep = [b for b in blocks if any(f'kind = "{k}"' in b for k in ("cautions", "time-impact", "but-for"))]

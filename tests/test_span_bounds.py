@@ -1,4 +1,4 @@
-"""The loader's lower bound on the span of a schedule (forensic._records.span_bounds, check_span).
+"""The loader's lower bound on the span of a schedule (forensic.casefile.records.span_bounds, check_span).
 
 The bound must never exceed the engine's dates, or a genuine casefile could
 be refused: on random networks (the engine reference test's strategy: all
@@ -20,9 +20,9 @@ import networkx as nx
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from forensic._records import MAX_SPAN_DAYS, min_calendar_days, span_bounds
-from forensic.engine import schedule
-from forensic.model import Activity, Calendar, Link, Project, Snapshot, frozen_mapping
+from forensic.casefile.records import MAX_SPAN_DAYS, min_calendar_days, span_bounds
+from forensic.core.engine import schedule
+from forensic.core.model import Activity, Calendar, Link, Project, Snapshot, frozen_mapping
 
 from .test_engine_reference import CALS, networks
 

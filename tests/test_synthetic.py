@@ -10,12 +10,12 @@ import networkx as nx
 import pytest
 from click.testing import CliRunner
 
-from forensic.casefile import load_casefile
+from forensic.casefile.reading import load_casefile
+from forensic.casefile.synthetic import generate_casefile
+from forensic.casefile.validation import validate_casefile
+from forensic.casefile.writing import write_casefile
 from forensic.cli import main
-from forensic.engine import schedule
-from forensic.synthetic import generate_casefile
-from forensic.validation import validate_casefile
-from forensic.writer import write_casefile
+from forensic.core.engine import schedule
 
 
 @pytest.fixture(scope="module")

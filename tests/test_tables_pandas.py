@@ -7,9 +7,9 @@ from pathlib import Path
 
 import pandas as pd
 
-from forensic.casefile import load_casefile
-from forensic.engine import schedule_snapshot
-from forensic.tables import Table, schedule_table
+from forensic.casefile.reading import load_casefile
+from forensic.core.engine import schedule_snapshot
+from forensic.core.tables import Table, schedule_table
 
 DEMO = Path(__file__).resolve().parent.parent / "casefiles" / "riverside"
 

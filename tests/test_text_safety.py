@@ -18,7 +18,8 @@ import pytest
 from click.testing import CliRunner
 
 from forensic.cli import main
-from forensic.tables import Table, dumps_json, neutralise, to_csv
+from forensic.core.tables import Table
+from forensic.exchange.writers import dumps_json, neutralise, to_csv
 from tests.casefile_helpers import write_casefile
 
 HOSTILE = {

@@ -2,8 +2,16 @@
 
 from datetime import date
 
-from forensic.model import Activity, Calendar, Casefile, Link, Project, Snapshot, frozen_mapping
-from forensic.trend import completion_trend, make_bands
+from forensic.analysis.trend import completion_trend, make_bands
+from forensic.core.model import (
+    Activity,
+    Calendar,
+    Casefile,
+    Link,
+    Project,
+    Snapshot,
+    frozen_mapping,
+)
 
 FIVE = Calendar("5d", ("mon", "tue", "wed", "thu", "fri"))
 
@@ -91,8 +99,8 @@ def test_demo_completion_float_to_contract_matches_its_lateness():
     = 31 working days late. The river terrace key date (M-RIV, finish-by 25 Mar
     2027) follows its network float, its own constraint (-6 at U10).
     """
-    from forensic.casefile import load_casefile  # noqa: PLC0415
-    from forensic.demo import demo_source  # noqa: PLC0415
+    from forensic.casefile.demo import demo_source  # noqa: PLC0415
+    from forensic.casefile.reading import load_casefile  # noqa: PLC0415
 
     t = completion_trend(load_casefile(demo_source()))
     last = t.latest

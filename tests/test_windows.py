@@ -6,8 +6,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from forensic.errors import NotFoundError, WindowSpecError
-from forensic.windows import analyse_windows, half_step, window_boundaries, windows_table
+from forensic.analysis.windows import analyse_windows, half_step, window_boundaries, windows_table
+from forensic.core.errors import NotFoundError, WindowSpecError
 
 from .delay_cases import D0, casefile, day, ms, snap, task
 
@@ -180,7 +180,7 @@ def test_progress_plus_revision_equals_slip(cf):
 
 def test_as_planned_vs_as_built_variances():
     """A planned days 0-9 is in progress with 4 left at day 10: forecast finish day 13, variance +4 (worked by hand)."""
-    from forensic.asbuilt import as_planned_vs_as_built, asbuilt_table
+    from forensic.analysis.asbuilt import as_planned_vs_as_built, asbuilt_table
 
     rows = {r.id: r for r in as_planned_vs_as_built(chain_case())}
     a = rows["A"]
@@ -217,7 +217,7 @@ def test_windows_command_prints_json_and_tables(monkeypatch):
 
 def test_as_built_table_headers_use_the_as_planned_as_built_terms():
     """The table's columns carry AACE RP 29R-03's as-planned / as-built terms and our word "slip"."""
-    from forensic.asbuilt import ASBUILT_COLUMNS
+    from forensic.analysis.asbuilt import ASBUILT_COLUMNS
 
     assert ASBUILT_COLUMNS == ("id", "name", "status", "as_planned_start", "as_planned_finish", "as_planned_days",
                                "as_built_start", "as_built_finish", "as_built_days", "forecast",
@@ -233,10 +233,10 @@ def test_windows_auto_groups_at_the_updates_where_the_driving_path_changes():
     both are critical; in U06-U07 the library alone; in U08-U09 the south
     curtain wall leaves the path. U01-U04, U07-U08 and U09-U10 keep their path.
     """
-    from forensic.attribution import analyse_delay  # noqa: PLC0415
-    from forensic.casefile import load_casefile  # noqa: PLC0415
-    from forensic.demo import demo_source  # noqa: PLC0415
-    from forensic.windows import auto_boundaries  # noqa: PLC0415
+    from forensic.analysis.attribution.delay import analyse_delay  # noqa: PLC0415
+    from forensic.analysis.windows import auto_boundaries  # noqa: PLC0415
+    from forensic.casefile.demo import demo_source  # noqa: PLC0415
+    from forensic.casefile.reading import load_casefile  # noqa: PLC0415
 
     cf = load_casefile(demo_source())
     stable = [w.label for w in analyse_windows(cf).windows if not w.path_switched]

@@ -9,9 +9,9 @@ import threading
 
 import click
 
-from .. import __version__
-from ..errors import ForensicError, printable
-from ..limits import Limits
+from forensic import __version__
+from forensic.casefile.limits import Limits
+from forensic.core.errors import ForensicError, printable
 
 __all__ = ["main"]
 

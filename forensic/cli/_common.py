@@ -12,10 +12,10 @@ from pathlib import Path
 
 import click
 
-from .. import __version__
-from ..model import Casefile
-from ..outputs import atomic_write, check_output
-from ..tables import dumps_json
+from forensic import __version__
+from forensic.casefile.outputs import atomic_write, check_output
+from forensic.core.model import Casefile
+from forensic.exchange.writers import dumps_json
 
 __all__ = ["casefile_argument", "emit", "emit_json", "emit_xlsx", "format_options", "limit_hint", "load",
            "fit", "pick_format", "provenance", "say", "status", "table_text", "terminal_width", "xlsx_option"]
@@ -27,7 +27,7 @@ def casefile_argument(func: Callable) -> Callable:
 
 
 _OUT = "forensic.out"
-_CASEFILE = "forensic.casefile"
+_CASEFILE = "forensic.casefile.reading"
 _XLSX_KEY = "forensic.xlsx"
 _WIDE = "forensic.wide"
 
@@ -69,7 +69,7 @@ def emit_xlsx(tables, casefile: Casefile | None = None, protected: Iterable[Path
     if out is None:
         return
     casefile = casefile if casefile is not None else ctx.meta.get(_CASEFILE)
-    from ..export import to_xlsx
+    from forensic.exchange.export import to_xlsx
 
     atomic_write(out, to_xlsx(list(tables)), _protected(casefile, protected))
     click.echo(f"wrote {out}", err=True)
@@ -100,8 +100,8 @@ def terminal_width() -> int | None:
 
 
 def table_text(table, keep: tuple[str, ...] = (), max_width: int = 40) -> str:
-    """:func:`forensic.tables.to_text` fitted to :func:`terminal_width` (``keep``: the columns kept longest)."""
-    from ..tables import to_text
+    """:func:`forensic.exchange.writers.to_text` fitted to :func:`terminal_width` (``keep``: the columns kept longest)."""
+    from forensic.exchange.writers import to_text
 
     return to_text(table, max_width=max_width, width=terminal_width(), keep=keep)
 
@@ -187,8 +187,8 @@ def load(path: Path) -> Casefile:
     which option raises the ceiling. The casefile is remembered so that
     :func:`emit` never writes over one of its files.
     """
-    from ..casefile import Limits, load_casefile
-    from ..errors import LimitExceeded
+    from forensic.casefile.reading import Limits, load_casefile
+    from forensic.core.errors import LimitExceeded
 
     ctx = click.get_current_context(silent=True)
     limits = ctx.find_object(Limits) if ctx is not None else None

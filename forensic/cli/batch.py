@@ -7,9 +7,16 @@ from pathlib import Path
 
 import click
 
-from ..batch import batch_table, check_report_dir, find_casefiles, report_names, run_batch
-from ..outputs import MANIFEST
-from ..tables import to_csv
+from forensic.casefile.outputs import MANIFEST
+from forensic.cli.portfolio import (
+    batch_table,
+    check_report_dir,
+    find_casefiles,
+    report_names,
+    run_batch,
+)
+from forensic.exchange.writers import to_csv
+
 from ._base import main
 from ._common import emit, emit_json, emit_xlsx, format_options, pick_format, say, table_text
 
@@ -48,7 +55,7 @@ def batch(folder: Path, jobs: int | None, report_dir: Path | None, as_json: bool
         for p in paths:
             failed = "" if valid[str(p)] else " (not written: the casefile failed)"
             click.echo(f"  {p} -> {names[p]}{failed}", err=True)
-    # Nothing is written inside any casefile folder (forensic.outputs); the
+    # Nothing is written inside any casefile folder (forensic.casefile.outputs); the
     # manifests are named so that a refusal says "over a casefile input".
     protected = [Path(p) / MANIFEST for p in paths]
     emit_xlsx([table], protected=protected)

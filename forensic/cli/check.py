@@ -6,11 +6,13 @@ from pathlib import Path
 
 import click
 
-from ..errors import MAX_LISTED, ForensicError, printable
-from ..model import Casefile
-from ..quality import QualityCheck, assess_casefile, quality_json, quality_table
-from ..tables import Table, to_csv
-from ..validation import validate_casefile
+from forensic.analysis.quality import QualityCheck, assess_casefile, quality_json, quality_table
+from forensic.casefile.validation import validate_casefile
+from forensic.core.errors import MAX_LISTED, ForensicError, printable
+from forensic.core.model import Casefile
+from forensic.core.tables import Table
+from forensic.exchange.writers import to_csv
+
 from ._base import main
 from ._common import (
     casefile_argument,

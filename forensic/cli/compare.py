@@ -6,8 +6,10 @@ from pathlib import Path
 
 import click
 
-from ..compare import CHANGE_KINDS, compare_json, compare_snapshots, compare_table
-from ..tables import Table, to_csv
+from forensic.analysis.compare import CHANGE_KINDS, compare_json, compare_snapshots, compare_table
+from forensic.core.tables import Table
+from forensic.exchange.writers import to_csv
+
 from ._base import main
 from ._common import (
     casefile_argument,

@@ -6,11 +6,12 @@ from pathlib import Path
 
 import click
 
-from ..attribution import analyse_delay
-from ..demo import DEMO_NAME, copy_demo
-from ..outputs import atomic_write, check_folder, refuse_casefile_paths
+from forensic.analysis.attribution.delay import analyse_delay
+from forensic.casefile.demo import DEMO_NAME, copy_demo
+from forensic.casefile.outputs import atomic_write, check_folder, refuse_casefile_paths
+from forensic.casefile.validation import validate_casefile
+
 from ..report import DEFAULT_TEMPLATE, build_report
-from ..validation import validate_casefile
 from ._base import main
 from ._common import load
 

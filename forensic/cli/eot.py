@@ -45,9 +45,9 @@ def eot_command(casefile: Path, snapshot_id: str | None, table: str, as_json: bo
     """
     from dataclasses import replace
 
-    from ..eot import delay_summary, eot_json, eot_tables
-    from ..errors import NotFoundError
-    from ..tables import to_csv
+    from forensic.analysis.eot import delay_summary, eot_json, eot_tables
+    from forensic.core.errors import NotFoundError
+    from forensic.exchange.writers import to_csv
 
     cf = load(casefile)
     if snapshot_id is not None:

@@ -7,9 +7,16 @@ from pathlib import Path
 
 import click
 
-from ..export import casefile_tables, check_csv_dir, tables_json, to_xlsx, write_csv_dir
-from ..outputs import atomic_write, check_output
-from ..tables import dumps_json
+from forensic.casefile.outputs import atomic_write, check_output
+from forensic.exchange.export import (
+    casefile_tables,
+    check_csv_dir,
+    tables_json,
+    to_xlsx,
+    write_csv_dir,
+)
+from forensic.exchange.writers import dumps_json
+
 from ._base import main
 from ._common import casefile_argument, load, provenance
 

@@ -6,8 +6,8 @@ from pathlib import Path
 
 import click
 
-from ..butfor import as_built_table, but_for, but_for_json, but_for_table
-from ..impact import (
+from forensic.analysis.butfor import as_built_table, but_for, but_for_json, but_for_table
+from forensic.analysis.impact import (
     ImpactResult,
     contemporaneous_json,
     contemporaneous_table,
@@ -20,7 +20,9 @@ from ..impact import (
     time_impact_series,
     time_impacts,
 )
-from ..tables import Table, to_csv
+from forensic.core.tables import Table
+from forensic.exchange.writers import to_csv
+
 from ._base import main
 from ._common import (
     casefile_argument,

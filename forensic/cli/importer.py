@@ -6,9 +6,10 @@ from pathlib import Path
 
 import click
 
-from ..casefile import Limits
-from ..errors import LimitExceeded
-from ..importer import import_casefile
+from forensic.casefile.reading import Limits
+from forensic.core.errors import LimitExceeded
+from forensic.exchange.importer.importing import import_casefile
+
 from ._base import main
 from ._common import limit_hint
 

@@ -7,7 +7,7 @@ from pathlib import Path
 
 import click
 
-from ..recovery import (
+from forensic.analysis.recovery import (
     DEFAULT_TIME_LIMIT,
     OBJECTIVES,
     recover,
@@ -15,7 +15,8 @@ from ..recovery import (
     recovery_json,
     recovery_plan_table,
 )
-from ..tables import to_csv
+from forensic.exchange.writers import to_csv
+
 from ._base import main
 from ._common import (
     casefile_argument,

@@ -6,7 +6,8 @@ from pathlib import Path
 
 import click
 
-from ..outputs import atomic_write, check_output
+from forensic.casefile.outputs import atomic_write, check_output
+
 from ..report import DEFAULT_TEMPLATE, build_report, builtin_templates, load_template
 from ._base import main
 from ._common import casefile_argument, load

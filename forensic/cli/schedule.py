@@ -6,8 +6,10 @@ from pathlib import Path
 
 import click
 
-from ..engine import schedule_snapshot
-from ..tables import schedule_json, schedule_table, to_csv
+from forensic.core.engine import schedule_snapshot
+from forensic.core.tables import schedule_json, schedule_table
+from forensic.exchange.writers import to_csv
+
 from ._base import main
 from ._common import (
     casefile_argument,

@@ -7,8 +7,9 @@ from pathlib import Path
 
 import click
 
-from ..synthetic import generate_casefile
-from ..writer import check_new_folder, write_new_casefile
+from forensic.casefile.synthetic import generate_casefile
+from forensic.casefile.writing import check_new_folder, write_new_casefile
+
 from ._base import main
 
 

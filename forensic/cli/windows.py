@@ -6,8 +6,8 @@ from pathlib import Path
 
 import click
 
-from ..asbuilt import as_planned_vs_as_built, asbuilt_table
-from ..attribution import (
+from forensic.analysis.asbuilt import as_planned_vs_as_built, asbuilt_table
+from forensic.analysis.attribution.delay import (
     CONCURRENCY_RULE,
     analyse_delay,
     concurrency_table,
@@ -16,8 +16,9 @@ from ..attribution import (
     ledger_table,
     rule_words,
 )
-from ..tables import to_csv
-from ..windows import windows_table
+from forensic.analysis.windows import windows_table
+from forensic.exchange.writers import to_csv
+
 from ._base import main
 from ._common import (
     casefile_argument,

@@ -16,16 +16,17 @@ from __future__ import annotations
 from collections.abc import Callable
 from pathlib import Path
 
-from .. import __version__
-from ..asbuilt import as_planned_vs_as_built
-from ..attribution import analyse_delay
-from ..butfor import but_for
-from ..compare import compare_snapshots
-from ..impact import time_impacts
-from ..model import Casefile
-from ..quality import assess_casefile
-from ..recovery import recover
-from ..trend import completion_trend
+from forensic import __version__
+from forensic.analysis.asbuilt import as_planned_vs_as_built
+from forensic.analysis.attribution.delay import analyse_delay
+from forensic.analysis.butfor import but_for
+from forensic.analysis.compare import compare_snapshots
+from forensic.analysis.impact import time_impacts
+from forensic.analysis.quality import assess_casefile
+from forensic.analysis.recovery import recover
+from forensic.analysis.trend import completion_trend
+from forensic.core.model import Casefile
+
 from .narrative import ReportContext, long_date
 from .pdf import Heading, build_pdf, collect_long_texts, font_family, styles
 from .sections import render_section
@@ -109,7 +110,7 @@ def build_report(
     asbuilt = as_planned_vs_as_built(casefile) if "as-built" in kinds and len(casefile.snapshots) > 1 else None
     eot = None
     if kinds & {"delay-summary", "reconciliation"} and len(casefile.snapshots) > 1 and casefile.events:
-        from ..eot import delay_summary
+        from forensic.analysis.eot import delay_summary
 
         if delay is None:
             step("windows analysis")

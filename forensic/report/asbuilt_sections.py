@@ -1,7 +1,7 @@
 """Section renderers for the as-built analyses: but-for (collapsed as-built) and as-planned versus as-built.
 
-They read :func:`forensic.butfor.but_for` (a :class:`~forensic.butfor.ButForReport`)
-and :func:`forensic.asbuilt.as_planned_vs_as_built` (its rows). The only
+They read :func:`forensic.analysis.butfor.but_for` (a :class:`~forensic.analysis.butfor.ButForReport`)
+and :func:`forensic.analysis.asbuilt.as_planned_vs_as_built` (its rows). The only
 arithmetic is counting rows (activities by status, late or early) and
 choosing which rows to show; every date and every number of days is read
 from the result objects.

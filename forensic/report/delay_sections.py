@@ -1,8 +1,8 @@
 """Section renderers for the delay analyses: windows, slip by party, ledger, time impact, acceleration.
 
-They read the result objects of :mod:`forensic.attribution` (with its
-:mod:`forensic.windows` analysis), :mod:`forensic.impact` and
-:mod:`forensic.recovery`. The only arithmetic is summing per-window figures
+They read the result objects of :mod:`forensic.analysis.attribution.delay` (with its
+:mod:`forensic.analysis.windows` analysis), :mod:`forensic.analysis.impact` and
+:mod:`forensic.analysis.recovery`. The only arithmetic is summing per-window figures
 that the attribution guarantees add up exactly (``sum(by_party) +
 concurrent == slip`` in every window), to give a total per party.
 """

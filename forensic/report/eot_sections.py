@@ -1,6 +1,6 @@
-"""Section renderers for the delay summary per event (:mod:`forensic.eot`): the table and the reconciliation.
+"""Section renderers for the delay summary per event (:mod:`forensic.analysis.eot`): the table and the reconciliation.
 
-They read one :class:`~forensic.eot.DelaySummary` (``ctx.eot``); every
+They read one :class:`~forensic.analysis.eot.DelaySummary` (``ctx.eot``); every
 figure is the summary's own. Days attributed by each method are shown, never
 entitlement (the cautions section says so).
 """

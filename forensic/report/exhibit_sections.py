@@ -1,8 +1,8 @@
 """Section renderers for the exhibits: window bar charts, the as-built critical path, near-critical trend.
 
-They read the windows analysis (:mod:`forensic.windows` through
-``ctx.delay``), :func:`forensic.asbuilt_path.as_built_critical_path` and
-:mod:`forensic.nearcritical`; every date and number of days is read from
+They read the windows analysis (:mod:`forensic.analysis.windows` through
+``ctx.delay``), :func:`forensic.analysis.asbuilt_path.as_built_critical_path` and
+:mod:`forensic.analysis.nearcritical`; every date and number of days is read from
 those result objects. Chart labels are drawn as plain strings (never parsed
 as markup); captions and tables go through the escaping of
 :func:`~forensic.report.templates.fill` and
@@ -17,8 +17,9 @@ from xml.sax.saxutils import escape
 
 from reportlab.platypus import Flowable, KeepTogether, Paragraph, Spacer
 
-from ..asbuilt_path import as_built_critical_path
-from ..nearcritical import key_dates, near_critical_trend
+from forensic.analysis.asbuilt_path import as_built_critical_path
+from forensic.analysis.nearcritical import key_dates, near_critical_trend
+
 from . import charts
 from .narrative import (
     ReportContext,

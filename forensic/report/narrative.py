@@ -16,9 +16,10 @@ from dataclasses import dataclass
 from datetime import date, timedelta
 from typing import Any
 
-from .. import __version__
-from ..model import Casefile
-from ..trend import SnapshotTrend, TrendResult
+from forensic import __version__
+from forensic.analysis.trend import SnapshotTrend, TrendResult
+from forensic.core.model import Casefile
+
 from .templates import Section, Template, fill
 
 __all__ = [
@@ -56,15 +57,15 @@ class ReportContext:
     command: str
     font: str
     version: str = __version__
-    delay: Any = None  # forensic.attribution.DelayAnalysis, when a section needs it
-    impacts: Any = None  # forensic.impact.ImpactSeries
-    recovery: Any = None  # forensic.recovery.RecoveryResult, when --recover-days was given
+    delay: Any = None  # forensic.analysis.attribution.delay.DelayAnalysis, when a section needs it
+    impacts: Any = None  # forensic.analysis.impact.ImpactSeries
+    recovery: Any = None  # forensic.analysis.recovery.RecoveryResult, when --recover-days was given
     recover_days: int | None = None
-    quality: Any = None  # tuple of forensic.quality.QualityReport, one per snapshot
-    comparisons: Any = None  # tuple of forensic.compare.Comparison, one per consecutive pair
-    butfor: Any = None  # forensic.butfor.ButForReport
-    asbuilt: Any = None  # tuple of forensic.asbuilt.AsBuiltRow
-    eot: Any = None  # forensic.eot.DelaySummary, when a section needs it
+    quality: Any = None  # tuple of forensic.analysis.quality.QualityReport, one per snapshot
+    comparisons: Any = None  # tuple of forensic.analysis.compare.Comparison, one per consecutive pair
+    butfor: Any = None  # forensic.analysis.butfor.ButForReport
+    asbuilt: Any = None  # tuple of forensic.analysis.asbuilt.AsBuiltRow
+    eot: Any = None  # forensic.analysis.eot.DelaySummary, when a section needs it
     left_out: frozenset[str] = frozenset()  # section kinds with nothing to show for this casefile
 
 
@@ -97,7 +98,7 @@ class CriticalCounts:
 
 
 def critical_counts(result: Any, longest_path: Sequence[str]) -> CriticalCounts:
-    """Count the critical activities against the longest path of one :class:`~forensic.engine.ScheduleResult`."""
+    """Count the critical activities against the longest path of one :class:`~forensic.core.engine.ScheduleResult`."""
     on_path = set(longest_path)
     critical = result.critical_ids
     off = [a for a in critical if a not in on_path]

@@ -11,8 +11,9 @@ from collections.abc import Sequence
 
 from reportlab.platypus import Flowable
 
-from ..nearcritical import KEY_DATE_CONSTRAINTS
-from ..trend import SnapshotTrend, delay_between
+from forensic.analysis.nearcritical import KEY_DATE_CONSTRAINTS
+from forensic.analysis.trend import SnapshotTrend, delay_between
+
 from .narrative import (
     ReportContext,
     activity_name,
@@ -70,7 +71,7 @@ def key_date_words(ctx: ReportContext) -> list[str]:
     latest update, the contractual or sectional date it carries (casefile
     format, Constraints); it lost float when its total float fell from the
     update before. Finished milestones are left out. The days late are in
-    the project's delay unit (:func:`forensic.trend.delay_between`).
+    the project's delay unit (:func:`forensic.analysis.trend.delay_between`).
     """
     t = ctx.trend
     if len(t.snapshots) < 2:
@@ -103,7 +104,7 @@ def contract_float_sentence(ctx: ReportContext, section: Section, mid: str, rows
     Network float is measured against the schedule's own completion, which
     moves as the project slips; float to the contractual date (the contract
     completion, or a key date's constraint) is negative when the forecast is
-    late (:func:`forensic.trend.contract_float`; GAO-16-89G best practice 6).
+    late (:func:`forensic.analysis.trend.contract_float`; GAO-16-89G best practice 6).
     """
     when = ctx.trend.contract_dates.get(mid)
     have = [r for r in rows if r.contract_floats.get(mid) is not None]

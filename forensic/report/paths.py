@@ -2,7 +2,7 @@
 
 Shared by the ``longest-path`` section (each snapshot) and the ``windows``
 section (the path at the end of each window, beside the path at its
-start). The bars are read from the engine's :class:`~forensic.engine.ScheduleResult`
+start). The bars are read from the engine's :class:`~forensic.core.engine.ScheduleResult`
 (early dates, status) and the snapshot's activities; nothing is computed.
 """
 
@@ -16,8 +16,9 @@ from xml.sax.saxutils import escape
 
 from reportlab.platypus import Flowable, KeepTogether, Paragraph
 
-from ..engine import ScheduleResult
-from ..model import Snapshot
+from forensic.core.engine import ScheduleResult
+from forensic.core.model import Snapshot
+
 from . import charts
 from .pdf import FRAME_WIDTH, data_table, styles
 from .templates import Section

@@ -47,7 +47,7 @@ from reportlab.platypus import (
     TableStyle,
 )
 
-from ..errors import ForensicError
+from forensic.core.errors import ForensicError
 
 __all__ = [
     "CELL_CHARS",

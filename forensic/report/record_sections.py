@@ -1,7 +1,7 @@
 """Section renderers for source validation (quality scorecard) and the changes between updates.
 
-They read :func:`forensic.quality.assess_casefile` and
-:func:`forensic.compare.compare_snapshots` results; counts of checks passed
+They read :func:`forensic.analysis.quality.assess_casefile` and
+:func:`forensic.analysis.compare.compare_snapshots` results; counts of checks passed
 and failed, and of changes, are tallies of those results.
 """
 

@@ -3,7 +3,7 @@
 Each renderer reads the :class:`~forensic.report.narrative.ReportContext`
 and its template section, and returns reportlab flowables: generated
 sentences, charts and tables. Numbers are read from the result objects
-(:mod:`forensic.trend` and the analyses); nothing is recomputed here.
+(:mod:`forensic.analysis.trend` and the analyses); nothing is recomputed here.
 """
 
 from __future__ import annotations
@@ -13,8 +13,9 @@ from xml.sax.saxutils import escape
 
 from reportlab.platypus import CondPageBreak, Flowable, KeepTogether, PageBreak, Paragraph, Spacer
 
-from ..concurrency import rule_words
-from ..trend import SnapshotTrend
+from forensic.analysis.attribution.concurrency import rule_words
+from forensic.analysis.trend import SnapshotTrend
+
 from . import charts
 from .asbuilt_sections import ASBUILT_RENDERERS
 from .delay_sections import DELAY_RENDERERS, parties_words, party_totals

@@ -21,8 +21,9 @@ from pathlib import Path
 from typing import Any
 from xml.sax.saxutils import escape
 
-from ..errors import TemplateError
-from ..model import frozen_mapping
+from forensic.core.errors import TemplateError
+from forensic.core.model import frozen_mapping
+
 from .specs import SPECS
 
 __all__ = [
@@ -83,10 +84,10 @@ class Template:
 def templates_folder() -> Path:
     """The shipped templates: the package's copy, or ``report_templates/`` of a source tree.
 
-    See :mod:`forensic._shipped`; when neither exists the source tree's
+    See :mod:`forensic.casefile.shipped`; when neither exists the source tree's
     (missing) folder is returned, so that no template is found by name.
     """
-    from .._shipped import shipped
+    from forensic.casefile.shipped import shipped
 
     folder = shipped("report_templates")
     return folder if folder is not None else Path(__file__).resolve().parent.parent.parent / "report_templates"

@@ -18,9 +18,17 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 
-from forensic.calendars import DAY_NAMES  # noqa: E402
-from forensic.model import Activity, Calendar, Casefile, Link, Project, Snapshot, frozen_mapping  # noqa: E402
-from forensic.recovery import recover  # noqa: E402
+from forensic.analysis.recovery import recover  # noqa: E402
+from forensic.core.calendars import DAY_NAMES  # noqa: E402
+from forensic.core.model import (
+    Activity,
+    Calendar,
+    Casefile,
+    Link,
+    Project,
+    Snapshot,
+    frozen_mapping,
+)  # noqa: E402
 
 __all__ = ["LADDER", "SYNTH", "bench_ladder", "bench_network", "bench_recovery", "synth_all_crashable"]
 
@@ -104,7 +112,7 @@ def synth_all_crashable(n: int, seed: int = 1) -> Casefile:
     """
     from dataclasses import replace
 
-    from forensic.synthetic import generate_casefile
+    from forensic.casefile.synthetic import generate_casefile
 
     cf = generate_casefile(n, updates=3, seed=seed)
     rng = random.Random(seed)

@@ -39,7 +39,7 @@ def _peak_mb() -> float:
 
 
 def _clear_caches() -> None:
-    from forensic import engine
+    from forensic.core import engine
 
     engine._LINK_CACHE.clear()
     engine._ACT_CACHE.clear()
@@ -49,10 +49,10 @@ def case_cpm(n: int, runs: int) -> dict:
     """Generate n activities with 2 updates, write, load, schedule the last update; networkx reference."""
     import networkx as nx
 
-    from forensic.casefile import load_casefile
-    from forensic.engine import schedule
-    from forensic.synthetic import generate_casefile
-    from forensic.writer import write_casefile
+    from forensic.casefile.reading import load_casefile
+    from forensic.casefile.synthetic import generate_casefile
+    from forensic.casefile.writing import write_casefile
+    from forensic.core.engine import schedule
 
     t = time.perf_counter()
     cf = generate_casefile(n, updates=2, seed=1)
@@ -92,9 +92,9 @@ def case_cpm(n: int, runs: int) -> dict:
 
 def case_windows(folder: str) -> dict:
     """Load a written casefile and run the windows analysis (half-step), then the full attribution."""
-    from forensic.attribution import analyse_delay
-    from forensic.casefile import load_casefile
-    from forensic.windows import analyse_windows
+    from forensic.analysis.attribution.delay import analyse_delay
+    from forensic.analysis.windows import analyse_windows
+    from forensic.casefile.reading import load_casefile
 
     t0 = time.perf_counter()
     cf = load_casefile(folder)
@@ -117,7 +117,7 @@ def case_windows(folder: str) -> dict:
 
 def case_report(runs: int) -> dict:
     """The demo casefile's full report (load + every analysis + PDF), median of runs."""
-    from forensic.casefile import load_casefile
+    from forensic.casefile.reading import load_casefile
     from forensic.report import build_report
 
     times = []
@@ -153,8 +153,8 @@ def case_end_to_end(n: int, runs: int) -> dict:
     ``dag_longest_path``, in one Python process: the whole job a user would
     otherwise script by hand, without calendars, progress or floats.
     """
-    from forensic.synthetic import generate_casefile
-    from forensic.writer import write_casefile
+    from forensic.casefile.synthetic import generate_casefile
+    from forensic.casefile.writing import write_casefile
 
     py = sys.executable
     with tempfile.TemporaryDirectory() as tmp:
@@ -237,8 +237,8 @@ def main() -> None:
         print(f"end to end: forensic schedule --json on {r['activities']} activities {r['forensic_schedule_json_s']:.2f} s, "
               f"csv + networkx dag_longest_path {r['csv_networkx_s']:.2f} s: {r['ratio']:.2f}x")
     if not a.skip_windows:
-        from forensic.synthetic import generate_casefile
-        from forensic.writer import write_casefile
+        from forensic.casefile.synthetic import generate_casefile
+        from forensic.casefile.writing import write_casefile
 
         with tempfile.TemporaryDirectory() as tmp:
             t = time.perf_counter()

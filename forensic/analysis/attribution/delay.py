@@ -1,0 +1,429 @@
+"""Attribution of every day of a window's slip: contributors, events, parties, concurrency, ledger.
+
+The windows analysis (:mod:`forensic.analysis.windows`) says how far completion moved
+in each window and splits it into a progress slip and a revision slip. This
+module says *who and what* moved it, joining three steps, each in its own
+module with its rule:
+
+* :mod:`forensic.analysis.attribution.contributors`: the contributor rule (the progress slip
+  handed back along the driving path), events and parties, and the revision
+  shares of the events that brought revisions in;
+* :mod:`forensic.analysis.attribution.concurrency`: the but-for test for concurrent delay inside
+  the window, and taking the concurrent days out of the parties' shares;
+* :mod:`forensic.analysis.attribution.ledger`: the days by category, per window and cumulative.
+
+:func:`analyse_delay` runs them over every window; :func:`delay_json` is the
+``forensic windows --json`` object. The records and tables of the three
+modules are importable from here as well.
+
+References
+----------
+AACE International Recommended Practice 29R-03, Forensic Schedule Analysis,
+protocols 3.3 and 3.4 and section 4 (excusability, compensability,
+concurrency).
+Society of Construction Law, Delay and Disruption Protocol, 2nd ed. (2017),
+core principles 10 and paras. 10-11.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, replace
+from datetime import date, timedelta
+from typing import Any
+
+from forensic.analysis.attribution.concurrency import (
+    CONCURRENCY_RULE,
+    CONCURRENT,
+    Concurrency,
+    _concurrency,
+    _resolve,
+    _take_concurrent,
+    concurrency_table,
+    rule_words,
+)
+from forensic.analysis.attribution.contributors import (
+    UNATTRIBUTED_REVISION,
+    Contributor,
+    RevisionShare,
+    _attribute,
+    _context,
+    _revision,
+    _split,
+    contributors_table,
+)
+from forensic.analysis.attribution.ledger import (
+    Ledger,
+    LedgerEntry,
+    build_ledger,
+    ledger_json,
+    ledger_table,
+)
+from forensic.analysis.windows import (
+    WindowRun,
+    WindowsAnalysis,
+    analyse_windows,
+    slice_cuts,
+    slice_snapshot,
+    window_run,
+)
+from forensic.core.calendars import workdays_between
+from forensic.core.model import Casefile, frozen_mapping
+
+__all__ = [
+    "CONCURRENCY_RULE",
+    "Concurrency",
+    "Contributor",
+    "DelayAnalysis",
+    "Ledger",
+    "LedgerEntry",
+    "RevisionShare",
+    "WindowAttribution",
+    "analyse_delay",
+    "attribute_window",
+    "concurrency_table",
+    "contributors_table",
+    "delay_json",
+    "rule_words",
+    "ledger_table",
+]
+
+
+@dataclass(frozen=True, slots=True)
+class SliceDelay:
+    """One share of a slice's slip: the activity (or a revision's activities), event, party, days."""
+
+    activity: str
+    event: str | None
+    party: str
+    days: int
+
+
+@dataclass(frozen=True, slots=True)
+class Slice:
+    """A part of a window between two cut dates, attributed on its own (see :func:`attribute_window`).
+
+    ``driving_path`` is the longest path of the slice's half-step schedule.
+    """
+
+    start: date
+    end: date
+    driving_path: tuple[str, ...]
+    delays: tuple[SliceDelay, ...]
+
+
+@dataclass(frozen=True, slots=True)
+class Pacing:
+    """A contractor's lateness that float from an owner delay of the same slice absorbed: possible pacing, not decided."""
+
+    start: date
+    end: date
+    activity: str
+    event: str | None
+    party: str
+    days: int
+    owner_events: tuple[str, ...]
+
+
+def _pacing(ctx, chain, revision) -> tuple[Pacing, ...]:
+    """Possible pacing in one slice (flag only; the analyst decides).
+
+    Where an owner's delay drives the slice (a positive owner share of its
+    slip), a late activity whose own lateness is the contractor's and that
+    passes no day to the slip ran late inside the float the owner's delay
+    made (its lateness in working days is more than its total float in the
+    earlier update, yet its float in the slice's half-step is not negative):
+    it is listed with its days of lateness, as *possible pacing*
+    (SCL Protocol 2nd ed., Part B guidance on pacing; AACE RP 29R-03
+    sec. 4.2, from memory). Nothing is moved in the figures.
+    """
+    cf = ctx.casefile
+    roles = {p.id: p.role for p in cf.parties.values()}
+    owners = sorted({x.event for x in (*chain, *revision) if x.days > 0 and roles.get(x.party) == "owner" and x.event})
+    if not owners:
+        return ()
+    on_path = {c.activity for c in chain if c.days}
+    w = ctx.run.window
+    out = []
+    for aid in ctx.half.activities:
+        v = ctx.v.get(aid, 0)
+        if v <= 0 or aid in on_path or ctx.half[aid].status == "finished":
+            continue
+        b, h = ctx.before[aid], ctx.half[aid]
+        if b.total_float is None or h.total_float is None or h.total_float < 0:
+            continue
+        act = ctx.run.half.activities[aid]
+        cal = cf.calendars[act.calendar or cf.project.default_calendar]
+        late = workdays_between(cal, b.early_finish + timedelta(days=1), h.early_finish + timedelta(days=1))
+        if late <= b.total_float:  # within its own float: it would not have delayed completion alone
+            continue
+        for owner_aid, d in _split(ctx, aid, v, local=True):
+            if d <= 0 or owner_aid in on_path:
+                continue
+            for c in _attribute(ctx, owner_aid, d):
+                if roles.get(c.party) == "contractor":
+                    out.append(Pacing(w.start, w.end, owner_aid, c.event, c.party, c.days, tuple(owners)))
+    merged: dict[tuple, Pacing] = {}
+    for x in out:
+        key = (x.activity, x.event)
+        merged[key] = x if key not in merged else replace(merged[key], days=max(merged[key].days, x.days))
+    return tuple(merged.values())
+
+
+@dataclass(frozen=True, slots=True)
+class WindowAttribution:
+    """Every day of one window's slip, attributed.
+
+    ``sum(contributors.days) == window.progress_slip``;
+    ``sum(revision.days) + unattributed_revision == window.revision_slip``;
+    ``sum(by_party.values()) + concurrent.days == window.slip``.
+    ``unexplained`` counts the positive days that no event covers.
+    """
+
+    window_label: str
+    contributors: tuple[Contributor, ...]
+    revision: tuple[RevisionShare, ...]
+    unattributed_revision: int
+    by_party: Mapping[str, int]
+    concurrent: Concurrency
+    unexplained: int
+    slices: tuple[Slice, ...] = ()
+    pacing: tuple[Pacing, ...] = ()
+
+
+@dataclass(frozen=True, slots=True)
+class DelayAnalysis:
+    """The windows analysis with every day attributed and the ledger."""
+
+    unit: str
+    windows: WindowsAnalysis
+    attributions: tuple[WindowAttribution, ...]
+    ledger: Ledger
+    rule: str = "time-only"
+
+
+# --- one window, all windows ---------------------------------------------------------
+
+
+def attribute_window(casefile: Casefile, run: WindowRun) -> WindowAttribution:
+    """Attribute every day of one window's slip.
+
+    The rules are in the module notes of :mod:`forensic.analysis.attribution.contributors`
+    (contributors, events, revision shares) and :mod:`forensic.analysis.attribution.concurrency`.
+    The window is first cut into slices where the delay events acting in it
+    stop overlapping (:func:`forensic.analysis.windows.slice_cuts`), the progress at
+    each cut reconstructed from the two updates
+    (:func:`forensic.analysis.windows.slice_snapshot`); each slice is attributed on
+    its own and the figures are summed, so delays in different slices are
+    sequential and never concurrent (SCL Protocol 2nd ed., core principle
+    10 and Part B on concurrency). The concurrent days are then treated by
+    the casefile's ``concurrency`` rule (``time-only``, ``apportion``,
+    ``dominant``).
+
+    Parameters
+    ----------
+    casefile : Casefile
+        Supplies events, parties, fragnets, calendars and the delay unit.
+    run : WindowRun
+        One window of :func:`forensic.analysis.windows.analyse_windows`.
+
+    Returns
+    -------
+    WindowAttribution
+
+    References
+    ----------
+    AACE RP 29R-03, protocol 3.4 and sec. 4; SCL Protocol 2nd ed., core
+    principle 10 and para. 11.
+    """
+    cuts = slice_cuts(casefile, run.window.start, run.window.end)
+    if not cuts:
+        return _attribute_slice(casefile, run, run.window.label)
+    snaps = [run.earlier, *(slice_snapshot(casefile, run.earlier, run.later, t) for t in cuts), run.later]
+    runs = [window_run(casefile, a, b) for a, b in zip(snaps, snaps[1:], strict=False)]
+    # the revisions are all in the last slice (the later update's plan): an
+    # event of any slice of the window may have brought them in
+    runs[-1] = replace(runs[-1], revision_start=run.window.start)
+    parts = [_attribute_slice(casefile, r, run.window.label) for r in runs]
+    by_party: dict[str, int] = {}
+    for part in parts:
+        for k, d in part.by_party.items():
+            by_party[k] = by_party.get(k, 0) + d
+    concs = [p.concurrent for p in parts]
+    alone: dict[str, int] = {}
+    for c in concs:
+        for k, d in c.recovered_alone.items():
+            alone[k] = alone.get(k, 0) + d
+    conc = Concurrency(
+        days=sum(c.days for c in concs),
+        parties=tuple(sorted({x for c in concs for x in c.parties})),
+        events=tuple(sorted({x for c in concs for x in c.events})),
+        recovered_alone=frozen_mapping(alone),
+        recovered_together=sum(c.recovered_together for c in concs),
+        rule=casefile.project.concurrency,
+        found=sum(c.found for c in concs),
+        critical=frozen_mapping({}),
+        by_rule=frozen_mapping(_sum_maps(c.by_rule for c in concs)),
+    )
+    return WindowAttribution(
+        window_label=run.window.label,
+        contributors=tuple(c for p in parts for c in p.contributors),
+        revision=tuple(s for p in parts for s in p.revision),
+        unattributed_revision=sum(p.unattributed_revision for p in parts),
+        by_party=frozen_mapping({k: d for k, d in by_party.items() if d}),
+        concurrent=conc,
+        unexplained=sum(p.unexplained for p in parts),
+        slices=tuple(x for p in parts for x in p.slices),
+        pacing=tuple(x for p in parts for x in p.pacing),
+    )
+
+
+def _sum_maps(maps) -> dict[str, int]:
+    out: dict[str, int] = {}
+    for m in maps:
+        for k, d in m.items():
+            out[k] = out.get(k, 0) + d
+    return out
+
+
+def _attribute_slice(casefile: Casefile, run: WindowRun, label: str) -> WindowAttribution:
+    """Attribute one slice (or a whole window with no cut) by the rules of the module notes."""
+    ctx = _context(casefile, run)
+    w = run.window
+    steps = _split(ctx, run.half_result.completion_id, w.progress_slip, local=False)
+    chain = [c for aid, d in reversed(steps) if d for c in _attribute(ctx, aid, d)]
+    revision, unattributed = _revision(ctx)
+    pacing = _pacing(ctx, chain, revision)
+    conc = _concurrency(ctx, chain, revision)
+    if conc.days:
+        contributors, shares = _take_concurrent(chain, revision, conc)
+        contributors, shares, conc = _resolve(casefile, contributors, shares, conc)
+        revision = tuple(shares)
+    else:
+        contributors = chain
+    by_party: dict[str, int] = {}
+    for c in contributors:
+        if c.category != CONCURRENT:
+            by_party[c.party] = by_party.get(c.party, 0) + c.days
+    for s in revision:
+        if s.category != CONCURRENT:
+            by_party[s.party] = by_party.get(s.party, 0) + s.days
+    if unattributed:
+        by_party[UNATTRIBUTED_REVISION] = unattributed
+    by_party = {k: d for k, d in by_party.items() if d}
+    unexplained = sum(c.days for c in contributors if c.event is None and c.days > 0)
+    delays = tuple(
+        [SliceDelay(c.activity, c.event, c.party, c.days) for c in contributors if c.days]
+        + [SliceDelay(" ".join(s.activities), s.event, s.party, s.days) for s in revision if s.days]
+    )
+    return WindowAttribution(
+        pacing=pacing,
+        window_label=label,
+        slices=(Slice(w.start, w.end, run.half_result.longest_path, delays),),
+        contributors=tuple(contributors),
+        revision=revision,
+        unattributed_revision=unattributed,
+        by_party=frozen_mapping(by_party),
+        concurrent=conc,
+        unexplained=unexplained,
+    )
+
+
+def analyse_delay(casefile: Casefile, windows: Sequence[str] | None = None) -> DelayAnalysis:
+    """The windows analysis with the half-step split, attribution, concurrency and the ledger.
+
+    Parameters
+    ----------
+    casefile : Casefile
+    windows : sequence of snapshot ids, optional
+        Window boundaries (see :func:`forensic.analysis.windows.window_boundaries`).
+
+    Returns
+    -------
+    DelayAnalysis
+        Its ledger's total equals the slip from the baseline's completion
+        to the last update's completion (``ledger.balanced``).
+
+    References
+    ----------
+    AACE RP 29R-03, protocols 3.3 and 3.4; SCL Protocol 2nd ed.
+    """
+    an = analyse_windows(casefile, windows)
+    atts = tuple(attribute_window(casefile, run) for run in an.runs)
+    return DelayAnalysis(an.unit, an, atts, build_ledger(atts, an), casefile.project.concurrency)
+
+
+# --- JSON --------------------------------------------------------------------------
+
+
+def delay_json(analysis: DelayAnalysis) -> dict[str, Any]:
+    """The ``forensic windows --json`` object (keys documented in docs/windows.md; a contract)."""
+    windows = []
+    for run, att in zip(analysis.windows.runs, analysis.attributions, strict=True):
+        w = run.window
+        windows.append(
+            {
+                "from": w.from_id,
+                "to": w.to_id,
+                "start": w.start,
+                "end": w.end,
+                "completion_before": w.completion_before,
+                "completion_after": w.completion_after,
+                "half_step_completion": w.half_step_completion,
+                "slip": w.slip,
+                "progress_slip": w.progress_slip,
+                "revision_slip": w.revision_slip,
+                "critical_path_before": list(w.critical_path_before),
+                "critical_path_after": list(w.critical_path_after),
+                "contributors": [
+                    {"activity": c.activity, "days": c.days, "event": c.event, "party": c.party, "category": c.category}
+                    for c in att.contributors
+                ],
+                "by_party": dict(att.by_party),
+                "concurrent": {
+                    "days": att.concurrent.days,
+                    "parties": list(att.concurrent.parties),
+                    "events": list(att.concurrent.events),
+                    "recovered_alone": dict(att.concurrent.recovered_alone),
+                    "recovered_together": att.concurrent.recovered_together,
+                    "rule": att.concurrent.rule,
+                    "found": att.concurrent.found,
+                    "by_rule": dict(att.concurrent.by_rule),
+                },
+                "unexplained": att.unexplained,
+                "pacing": [
+                    {"start": x.start, "end": x.end, "activity": x.activity, "event": x.event,
+                     "party": x.party, "days": x.days, "owner_events": list(x.owner_events)}
+                    for x in att.pacing
+                ],
+                "slices": [
+                    {
+                        "start": sl.start,
+                        "end": sl.end,
+                        "driving_path": list(sl.driving_path),
+                        "delays": [
+                            {"activity": d.activity, "event": d.event, "party": d.party, "days": d.days}
+                            for d in sl.delays
+                        ],
+                    }
+                    for sl in att.slices
+                ],
+                "revision": [
+                    {"event": s.event, "days": s.days, "party": s.party, "category": s.category, "activities": list(s.activities)}
+                    for s in att.revision
+                ],
+                "unattributed_revision": att.unattributed_revision,
+                "added": list(w.added),
+                "deleted": list(w.deleted),
+                "path_joined": list(w.path_joined),
+                "path_left": list(w.path_left),
+                "path_switched": list(w.path_switched),
+                "stable": not w.path_switched,
+            }
+        )
+    return {
+        "unit": analysis.unit,
+        "windows": windows,
+        "concurrency": {"rule": analysis.rule, "statement": rule_words(analysis.rule)},
+        "ledger": {**ledger_json(analysis.ledger), "concurrency_rule": CONCURRENCY_RULE},
+    }

@@ -1,0 +1,138 @@
+"""The ``Table`` result type that analyses return, and the schedule as a table.
+
+Every analysis result is turned into one or more :class:`Table` objects
+(plain rows of plain values), so that CSV, JSON, text and the spreadsheet
+export all come from one place; the writers of those formats live in
+:mod:`forensic.exchange.writers`.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from datetime import date
+from typing import Any
+
+from forensic.core.engine import ScheduleResult
+from forensic.core.model import Snapshot
+
+__all__ = [
+    "SCHEDULE_COLUMNS",
+    "Table",
+    "is_number",
+    "schedule_json",
+    "schedule_table",
+]
+
+
+@dataclass(frozen=True, slots=True)
+class Table:
+    """A named table: column names and rows of plain values (str, int, float, date, bool, None)."""
+
+    name: str
+    columns: tuple[str, ...]
+    rows: tuple[tuple[Any, ...], ...]
+
+    def records(self) -> list[dict[str, Any]]:
+        return [dict(zip(self.columns, row, strict=True)) for row in self.rows]
+
+    def to_pandas(self) -> Any:
+        """The table as a :class:`pandas.DataFrame` with real dtypes, one column per column.
+
+        Dates become ``datetime64`` (a missing date is ``NaT``); whole numbers
+        (days, floats of the schedule, counts) the nullable integer dtype
+        ``Int64`` (a missing value is ``<NA>``, not a float NaN); true/false
+        the nullable ``boolean``; other numbers ``float64``; lists of ids stay
+        Python lists; text stays text (``object``).
+        """
+        import pandas as pd
+
+        data: dict[str, Any] = {}
+        for i, col in enumerate(self.columns):
+            values = [row[i] for row in self.rows]
+            present = [v for v in values if v is not None]
+            if present and all(isinstance(v, date) for v in present):
+                data[col] = pd.to_datetime(pd.Series(values, dtype=object))
+            elif present and all(isinstance(v, bool) for v in present):
+                data[col] = pd.Series(values, dtype="boolean")
+            elif present and all(isinstance(v, int) and not isinstance(v, bool) for v in present):
+                data[col] = pd.Series(values, dtype="Int64")
+            elif present and all(is_number(v) for v in present):
+                data[col] = pd.Series([math.nan if v is None else float(v) for v in values], dtype="float64")
+            else:
+                data[col] = pd.Series([list(v) if isinstance(v, tuple) else v for v in values], dtype=object)
+        return pd.DataFrame(data, columns=list(self.columns))
+
+
+def is_number(v: Any) -> bool:
+    """True for an int or a float, never for a bool (a table's number columns)."""
+    return isinstance(v, (int, float)) and not isinstance(v, bool)
+
+
+SCHEDULE_COLUMNS = (
+    "id",
+    "name",
+    "status",
+    "early_start",
+    "early_finish",
+    "late_start",
+    "late_finish",
+    "total_float",
+    "free_float",
+    "critical",
+    "longest_path",
+    "driving_predecessors",
+)
+
+
+def schedule_table(result: ScheduleResult, snapshot: Snapshot) -> Table:
+    """One row per activity of a scheduled snapshot, in topological order."""
+    on_path = set(result.longest_path)
+    rows = []
+    for aid in result.order:
+        x = result.activities[aid]
+        rows.append(
+            (
+                aid,
+                snapshot.activities[aid].name,
+                x.status,
+                x.early_start,
+                x.early_finish,
+                x.late_start,
+                x.late_finish,
+                x.total_float,
+                x.free_float,
+                x.critical,
+                aid in on_path,
+                x.driving_predecessors,
+            )
+        )
+    return Table(f"schedule-{snapshot.id}", SCHEDULE_COLUMNS, tuple(rows))
+
+
+def schedule_json(result: ScheduleResult) -> dict[str, Any]:
+    """The ``forensic schedule --json`` object (keys documented in README.md; a contract)."""
+    return {
+        "snapshot": result.snapshot_id,
+        "data_date": result.data_date,
+        "completion": result.completion,
+        "completion_activity": result.completion_id,
+        "completion_float": result.completion_float,
+        "activities": [
+            {
+                "id": x.id,
+                "status": x.status,
+                "early_start": x.early_start,
+                "early_finish": x.early_finish,
+                "late_start": x.late_start,
+                "late_finish": x.late_finish,
+                "total_float": x.total_float,
+                "free_float": x.free_float,
+                "critical": x.critical,
+                "driving_predecessors": list(x.driving_predecessors),
+            }
+            for x in (result.activities[a] for a in result.order)
+        ],
+        "longest_path": list(result.longest_path),
+        "longest_paths": [list(c) for c in result.longest_paths],
+    }
