@@ -6,7 +6,7 @@ The results support, and do not replace, the judgement of a qualified
 scheduling professional.
 """
 
-__version__ = "0.1.0"
+from forensic.core.version import __version__
 
 # The Python front door (docs/python.md). Each function takes a casefile
 # folder or a loaded ``Casefile`` and returns the result object the CLI

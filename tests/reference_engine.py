@@ -12,8 +12,8 @@ from __future__ import annotations
 from collections.abc import Mapping
 
 from forensic.core.calendars import (
-    _MAX_DAY,
-    _MIN_DAY,
+    MAX_DAY,
+    MIN_DAY,
     WorkdayIndex,
     day_number,
     from_day_number,
@@ -48,8 +48,8 @@ def _horizon(snapshot: Snapshot, pad_workdays: int) -> tuple[int, int]:
     # Seven calendar days per working day covers a one-day week; a year of
     # margin covers holidays.
     margin = 7 * pad_workdays + 400
-    lo = max(min(days) - margin, _MIN_DAY)
-    hi = min(max(days) + margin, _MAX_DAY)
+    lo = max(min(days) - margin, MIN_DAY)
+    hi = min(max(days) + margin, MAX_DAY)
     return lo, hi
 
 

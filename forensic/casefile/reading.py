@@ -89,10 +89,10 @@ OLD_FORMAT_MESSAGE = (
 MANIFEST = "casefile.toml"
 
 _TOP_KEYS = ("format", "project", "party", "calendar", "snapshot", "events", "windows")
-_PROJECT_KEYS = ("name", "default_calendar", "completion", "contract_completion",
+PROJECT_KEYS = ("name", "default_calendar", "completion", "contract_completion",
                  "delay_unit", "progress_logic", "critical_float", "concurrency")
-_PARTY_KEYS = ("id", "name", "role")
-_CALENDAR_KEYS = ("id", "workdays", "holidays", "extra_workdays")
+PARTY_KEYS = ("id", "name", "role")
+CALENDAR_KEYS = ("id", "workdays", "holidays", "extra_workdays")
 _SNAPSHOT_KEYS = ("id", "role", "data_date", "activities", "links")
 
 
@@ -439,7 +439,7 @@ class _Manifest:
     def _calendar(self, t: dict, where: str) -> None:
         cid = self._str(t, "id", where)
         where = f"calendar {cid}" if cid else where
-        self._keys(t, _CALENDAR_KEYS, where)
+        self._keys(t, CALENDAR_KEYS, where)
         days = t.get("workdays")
         names: list[str] = []
         if not isinstance(days, list) or not all(isinstance(d, str) for d in days):
@@ -467,7 +467,7 @@ class _Manifest:
         self.calendars[cid] = Calendar(cid, ordered, holidays, extra)
 
     def _party(self, t: dict, where: str) -> None:
-        self._keys(t, _PARTY_KEYS, where)
+        self._keys(t, PARTY_KEYS, where)
         pid = self._str(t, "id", where)
         name = self._str(t, "name", where)
         role = self._str(t, "role", where, choices=PARTY_ROLES)
@@ -480,7 +480,7 @@ class _Manifest:
         if not isinstance(t, dict):
             self._bad("project", None if t is None else t, "missing; expected a [project] table")
             return
-        self._keys(t, _PROJECT_KEYS, "project")
+        self._keys(t, PROJECT_KEYS, "project")
         name = self._str(t, "name", "project")
         cal = self._str(t, "default_calendar", "project")
         if cal is not None and cal not in self.calendars:

@@ -9,9 +9,9 @@ import threading
 
 import click
 
-from forensic import __version__
 from forensic.casefile.limits import Limits
 from forensic.core.errors import ForensicError, printable
+from forensic.core.version import __version__
 
 __all__ = ["main"]
 

@@ -12,9 +12,9 @@ from pathlib import Path
 
 import click
 
-from forensic import __version__
 from forensic.casefile.outputs import atomic_write, check_output
 from forensic.core.model import Casefile
+from forensic.core.version import __version__
 from forensic.exchange.writers import dumps_json
 
 __all__ = ["casefile_argument", "emit", "emit_json", "emit_xlsx", "format_options", "limit_hint", "load",

@@ -40,8 +40,8 @@ __all__ = [
 
 DAY_NAMES = ("mon", "tue", "wed", "thu", "fri", "sat", "sun")
 _EPOCH_ORDINAL = date(1970, 1, 1).toordinal()
-_MIN_DAY = date(1, 1, 1).toordinal() - _EPOCH_ORDINAL
-_MAX_DAY = date(9999, 12, 31).toordinal() - _EPOCH_ORDINAL
+MIN_DAY = date(1, 1, 1).toordinal() - _EPOCH_ORDINAL
+MAX_DAY = date(9999, 12, 31).toordinal() - _EPOCH_ORDINAL
 
 
 def day_number(d: date) -> int:
@@ -140,7 +140,7 @@ def workday_index(cal: Calendar, lo: int, hi: int) -> WorkdayIndex:
     Raises ``ValueError`` when the calendar has no working day at all, since
     nothing could ever be scheduled on it.
     """
-    if lo < _MIN_DAY or hi > _MAX_DAY + 1:
+    if lo < MIN_DAY or hi > MAX_DAY + 1:
         msg = "working-day horizon outside years 1-9999"
         raise ValueError(msg)
     if not cal.workdays and not cal.extra_workdays:

@@ -65,8 +65,8 @@ from datetime import date
 import numpy as np
 
 from forensic.core.calendars import (
-    _MAX_DAY,
-    _MIN_DAY,
+    MAX_DAY,
+    MIN_DAY,
     WorkdayIndex,
     day_number,
     from_day_number,
@@ -229,8 +229,8 @@ def schedule(
     pad = min(net.extent, 3000)
     while True:
         margin = 7 * pad + 400  # seven calendar days a working day covers a one-day week
-        lo = max(net.first_day - margin, _MIN_DAY)
-        hi = min(net.last_day + margin, _MAX_DAY)
+        lo = max(net.first_day - margin, MIN_DAY)
+        hi = min(net.last_day + margin, MAX_DAY)
         try:
             return _schedule(snapshot, net, project, logic, crit, lo, hi)
         except (_HorizonTooShort, IndexError):

@@ -16,7 +16,6 @@ from __future__ import annotations
 from collections.abc import Callable
 from pathlib import Path
 
-from forensic import __version__
 from forensic.analysis.asbuilt import as_planned_vs_as_built
 from forensic.analysis.attribution.delay import analyse_delay
 from forensic.analysis.butfor import but_for
@@ -26,6 +25,7 @@ from forensic.analysis.quality import assess_casefile
 from forensic.analysis.recovery import recover
 from forensic.analysis.trend import completion_trend
 from forensic.core.model import Casefile
+from forensic.core.version import __version__
 
 from .narrative import ReportContext, long_date
 from .pdf import Heading, build_pdf, collect_long_texts, font_family, styles

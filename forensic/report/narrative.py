@@ -16,9 +16,9 @@ from dataclasses import dataclass
 from datetime import date, timedelta
 from typing import Any
 
-from forensic import __version__
 from forensic.analysis.trend import SnapshotTrend, TrendResult
 from forensic.core.model import Casefile
+from forensic.core.version import __version__
 
 from .templates import Section, Template, fill
 

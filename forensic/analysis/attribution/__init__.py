@@ -15,9 +15,9 @@ __all__ = ["CONCURRENT", "DelayAnalysis", "UNASSIGNED", "WindowAttribution", "an
 
 __getattr__, __dir__ = lazy_face(__name__, {
     "CONCURRENT": ".concurrency",
-    "DelayAnalysis": ".delay",
+    "DelayAnalysis": ".results",
     "UNASSIGNED": ".contributors",
-    "WindowAttribution": ".delay",
+    "WindowAttribution": ".results",
     "analyse_delay": ".delay",
     "attribute_window": ".delay",
     "concurrency_table": ".concurrency",

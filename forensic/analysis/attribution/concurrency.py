@@ -51,28 +51,28 @@ core principle 10 and paras. 10.3-10.4 (paragraph numbers from memory).
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, field, replace
+from dataclasses import replace
 from datetime import timedelta
-from typing import TYPE_CHECKING
 
 from forensic.analysis.attribution.contributors import (
+    apportion_days,
+    attribute_days,
+    result_column,
+    split_slip,
+    take_out_events,
+)
+from forensic.analysis.attribution.results import (
+    Concurrency,
     Contributor,
+    DelayAnalysis,
     RevisionShare,
-    _apportion,
-    _attribute,
-    _column,
-    _Ctx,
-    _split,
-    _take_out,
+    WindowContext,
 )
 from forensic.core.calendars import workdays_between
 from forensic.core.engine import schedule
 from forensic.core.model import DEFAULT_CATEGORY, Casefile, Event, Snapshot, frozen_mapping
 from forensic.core.tables import Table
 from forensic.core.units import unit_counter, unit_shift
-
-if TYPE_CHECKING:
-    from forensic.analysis.attribution.delay import DelayAnalysis
 
 __all__ = ["CONCURRENCY_RULE", "CONCURRENT", "RULE_WORDS", "Concurrency", "concurrency_table", "rule_words"]
 
@@ -111,31 +111,10 @@ def rule_words(rule: str) -> str:
     return RULE_WORDS.get(rule, rule)
 
 
-@dataclass(frozen=True, slots=True)
-class Concurrency:
-    """The concurrency test of one window (see the module notes for the rule).
-
-    ``found`` is the concurrent days the test finds; ``days`` those that stay
-    concurrent under ``rule`` (all of them under ``time-only``, none under
-    ``apportion``, none under ``dominant`` unless the parties tie);
-    ``by_rule`` the concurrent days the rule gave to each party.
-    """
-
-    days: int
-    parties: tuple[str, ...]
-    events: tuple[str, ...]
-    recovered_alone: Mapping[str, int]
-    recovered_together: int
-    rule: str = "time-only"
-    found: int = 0
-    critical: Mapping[str, int] = field(default_factory=frozen_mapping)
-    by_rule: Mapping[str, int] = field(default_factory=frozen_mapping)
-
-
 # --- concurrency: but-for inside the window ----------------------------------------
 
 
-def _given_back(ctx: _Ctx, snap: Snapshot, give_back: Mapping[str, int]) -> Snapshot:
+def _given_back(ctx: WindowContext, snap: Snapshot, give_back: Mapping[str, int]) -> Snapshot:
     """``snap`` (the later update) with each activity's remaining duration shortened by its given-back days."""
     acts = dict(snap.activities)
     res = ctx.run.after
@@ -151,23 +130,23 @@ def _given_back(ctx: _Ctx, snap: Snapshot, give_back: Mapping[str, int]) -> Snap
     return replace(snap, id=snap.id + "-butfor", activities=frozen_mapping(acts))
 
 
-def _concurrency(ctx: _Ctx, chain: list[Contributor], revision: Sequence[RevisionShare]) -> Concurrency:
+def find_concurrency(ctx: WindowContext, chain: list[Contributor], revision: Sequence[RevisionShare]) -> Concurrency:
     cf = ctx.casefile
     count = unit_counter(cf)
     own: dict[str, dict[str, int]] = {}  # activity -> {party: days of its lateness}
-    status = _column(ctx.half, "status").tolist()
+    status = result_column(ctx.half, "status").tolist()
     for aid, st in zip(ctx.half.activities, status, strict=True):
         if st == 2 or ctx.v.get(aid, 0) <= 0:  # 2: finished
             continue
-        for owner, d in _split(ctx, aid, ctx.v[aid], local=True):
+        for owner, d in split_slip(ctx, aid, ctx.v[aid], local=True):
             if d <= 0:
                 continue
-            for c in _attribute(ctx, owner, d):
+            for c in attribute_days(ctx, owner, d):
                 own.setdefault(aid, {}).setdefault(c.party, 0)
                 own[aid][c.party] += c.days
     revising: dict[str, list[Event]] = {}  # party -> its events that revised the plan here
     for ev in sorted(cf.events, key=lambda e: (e.start, e.id)):
-        if _take_out(ctx, ctx.run.later, [ev])[1]:
+        if take_out_events(ctx, ctx.run.later, [ev])[1]:
             revising.setdefault(ev.party, []).append(ev)
     parties = sorted({p for m in own.values() for p in m} | set(revising))
     slip = ctx.run.window.slip
@@ -181,7 +160,7 @@ def _concurrency(ctx: _Ctx, chain: list[Contributor], revision: Sequence[Revisio
         if key not in runs:
             give = {a: sum(d for p, d in m.items() if p in group) for a, m in own.items()}
             snap = _given_back(ctx, ctx.run.later, give)
-            snap, _ = _take_out(ctx, snap, [ev for p in sorted(group) for ev in revising.get(p, ())])
+            snap, _ = take_out_events(ctx, snap, [ev for p in sorted(group) for ev in revising.get(p, ())])
             res = schedule(snap, cf.calendars, cf.project)
             runs[key] = slip - (count(res.completion) - count(ctx.before.completion))
         return runs[key]
@@ -224,14 +203,14 @@ def _quotas(conc: Concurrency) -> dict[str, int]:
     if not sum(weights):
         return {}
     if conc.rule == "apportion":
-        return dict(zip(parties, _apportion(conc.days, weights), strict=True))
+        return dict(zip(parties, apportion_days(conc.days, weights), strict=True))
     top = max(weights)
     if weights.count(top) > 1:
         return {}
     return {parties[weights.index(top)]: conc.days}
 
 
-def _resolve(
+def resolve_concurrency(
     cf: Casefile, chain: list[Contributor], revision: list[RevisionShare], conc: Concurrency
 ) -> tuple[list[Contributor], list[RevisionShare], Concurrency]:
     """Give the concurrent days to the parties as the rule says (``time-only``: unchanged).
@@ -310,7 +289,7 @@ def _what(x) -> object:
     return x.activity if isinstance(x, Contributor) else x.activities
 
 
-def _take_concurrent(
+def take_concurrent(
     chain: list[Contributor], revision: Sequence[RevisionShare], conc: Concurrency
 ) -> tuple[list[Contributor], list[RevisionShare]]:
     """Move the concurrent days out of the involved parties' shares (rule in the module notes).

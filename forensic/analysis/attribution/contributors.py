@@ -63,7 +63,7 @@ goes to the performing party.
 
 Revision effects go to the events that brought the revision in, measured by
 taking each event's revisions out of the later update, one event at a time
-in date order (:func:`_take_out`): the activities the later update added
+in date order (:func:`take_out_events`): the activities the later update added
 that are the event's (its fragnet's or its listed activities) are deleted,
 their links bridged as the but-for analysis does; and, for an event whose
 dates overlap the window, its listed activities not yet started get back
@@ -84,13 +84,18 @@ core principle 10 and para. 11.
 
 from __future__ import annotations
 
-from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, replace
+from collections.abc import Sequence
+from dataclasses import replace
 from datetime import date, timedelta
-from typing import TYPE_CHECKING
 
 import numpy as np
 
+from forensic.analysis.attribution.results import (
+    Contributor,
+    DelayAnalysis,
+    RevisionShare,
+    WindowContext,
+)
 from forensic.analysis.butfor import bridge_links
 from forensic.analysis.windows import WindowRun
 from forensic.core.calendars import day_number, from_day_number, previous_workday
@@ -99,57 +104,16 @@ from forensic.core.model import DEFAULT_CATEGORY, Casefile, Event, Snapshot, fro
 from forensic.core.tables import Table
 from forensic.core.units import unit_counter
 
-if TYPE_CHECKING:
-    from forensic.analysis.attribution.delay import DelayAnalysis
-
 __all__ = ["UNASSIGNED", "UNATTRIBUTED_REVISION", "Contributor", "RevisionShare", "contributors_table"]
 
 UNASSIGNED = "unassigned"
 UNATTRIBUTED_REVISION = "unattributed-revision"
 
 
-@dataclass(frozen=True, slots=True)
-class Contributor:
-    """One activity's share of a window's progress slip, and who answers for it.
-
-    ``event`` is ``None`` when no event covers the share (then it is
-    unexplained, or a gain); ``category`` is one of the contract categories,
-    ``"concurrent"``, or ``None`` for an activity with no performing party.
-    """
-
-    activity: str
-    days: int
-    event: str | None
-    party: str
-    category: str | None
-
-
-@dataclass(frozen=True, slots=True)
-class RevisionShare:
-    """Days of a window's revision slip that an event's fragnet (or activities) brought in."""
-
-    event: str
-    days: int
-    party: str
-    category: str
-    activities: tuple[str, ...]
-
-
 # --- the walk along the driving path ---------------------------------------------
 
 
-@dataclass(frozen=True, slots=True)
-class _Ctx:
-    casefile: Casefile
-    run: WindowRun
-    half: ScheduleResult
-    before: ScheduleResult
-    v: Mapping[str, int]
-    preds: Mapping[str, tuple[tuple[str, str], ...]]
-    later_preds: Mapping[str, tuple[tuple[str, str, bool], ...]]
-
-
-def _column(result: ScheduleResult, name: str) -> np.ndarray:
+def result_column(result: ScheduleResult, name: str) -> np.ndarray:
     """A per-activity result as an array in ``result.activities`` order.
 
     The engine keeps its results as arrays and builds a record only when one
@@ -174,12 +138,12 @@ def _counts(count, days: np.ndarray) -> np.ndarray:
     return values[inverse]
 
 
-def _context(casefile: Casefile, run: WindowRun) -> _Ctx:
+def window_context(casefile: Casefile, run: WindowRun) -> WindowContext:
     count = unit_counter(casefile)
     half, before = run.half_result, run.before
     h_ids, b_ids = list(half.activities), list(before.activities)
-    fh = _counts(count, _column(half, "finish_day"))
-    fb = _counts(count, _column(before, "finish_day"))
+    fh = _counts(count, result_column(half, "finish_day"))
+    fb = _counts(count, result_column(before, "finish_day"))
     if h_ids != b_ids:  # align the earlier schedule on the half-step's activities
         pos = {a: i for i, a in enumerate(b_ids)}
         keep = [i for i, a in enumerate(h_ids) if a in pos]
@@ -197,18 +161,18 @@ def _context(casefile: Casefile, run: WindowRun) -> _Ctx:
             new_link = link.key not in earlier_keys
             if new_link or link.pred not in v:
                 later.setdefault(link.succ, []).append((link.pred, link.type, new_link))
-    return _Ctx(
+    return WindowContext(
         casefile, run, half, before, v, {k: tuple(x) for k, x in preds.items()},
         frozen_mapping({k: tuple(x) for k, x in later.items()}),
     )
 
 
-def _calendar(ctx: _Ctx, aid: str):
+def _calendar(ctx: WindowContext, aid: str):
     act = ctx.run.half.activities[aid]
     return ctx.casefile.calendars[act.calendar or ctx.casefile.project.default_calendar]
 
 
-def _held(ctx: _Ctx, p: str, typ: str, a: str) -> bool:
+def _held(ctx: WindowContext, p: str, typ: str, a: str) -> bool:
     """Did started or finished predecessor ``p`` hold ``a`` (see the module notes)?"""
     hp, ha, ba = ctx.half[p], ctx.half[a], ctx.before[a]
     p_ref = hp.early_start if typ in ("SS", "SF") else hp.early_finish
@@ -222,7 +186,7 @@ def _held(ctx: _Ctx, p: str, typ: str, a: str) -> bool:
     return p_ref >= previous_workday(_calendar(ctx, p), actual - timedelta(days=1))
 
 
-def _hold(ctx: _Ctx, p: str, typ: str, a: str) -> int:
+def _hold(ctx: WindowContext, p: str, typ: str, a: str) -> int:
     """Delay units by which ``p`` (as the later update has it) held ``a``'s planned start (finish).
 
     The later update's date of ``p`` that the link times from, against the
@@ -240,7 +204,7 @@ def _hold(ctx: _Ctx, p: str, typ: str, a: str) -> int:
     return count(p_ref) - count(limit)
 
 
-def _brought_in(ctx: _Ctx, a: str) -> dict[str, int]:
+def _brought_in(ctx: WindowContext, a: str) -> dict[str, int]:
     """Predecessors that the later update's revisions put before started ``a``: {pred: hold}.
 
     Added work (an activity absent from the earlier update) and changed
@@ -264,7 +228,7 @@ def _brought_in(ctx: _Ctx, a: str) -> dict[str, int]:
     return out
 
 
-def _added_driver(ctx: _Ctx, q: str) -> str | None:
+def _added_driver(ctx: WindowContext, q: str) -> str | None:
     """The predecessor that held added work ``q`` in the later update (the latest to release it)."""
     rq = ctx.run.after[q]
     if rq.status == "not-started":
@@ -286,7 +250,7 @@ def _added_driver(ctx: _Ctx, q: str) -> str | None:
     return best
 
 
-def _driver(ctx: _Ctx, a: str, x: int) -> str | None:
+def _driver(ctx: WindowContext, a: str, x: int) -> str | None:
     cands = [p for p in ctx.half[a].driving_predecessors if p in ctx.v]
     if not cands:
         cands = [
@@ -300,7 +264,7 @@ def _driver(ctx: _Ctx, a: str, x: int) -> str | None:
     return pick(cands, key=lambda p: ctx.v[p])
 
 
-def _revised_driver(ctx: _Ctx, a: str, x: int, p: str | None) -> tuple[str, int] | None:
+def _revised_driver(ctx: WindowContext, a: str, x: int, p: str | None) -> tuple[str, int] | None:
     """A revision (added work or new logic) that held ``a`` more than the walk's driver ``p``, and its hold."""
     if x <= 0 or (p is not None and p in ctx.half[a].driving_predecessors):
         return None
@@ -313,7 +277,7 @@ def _revised_driver(ctx: _Ctx, a: str, x: int, p: str | None) -> tuple[str, int]
     return q, held[q]
 
 
-def _split(ctx: _Ctx, a: str, x: int, local: bool) -> list[tuple[str, int]]:
+def split_slip(ctx: WindowContext, a: str, x: int, local: bool) -> list[tuple[str, int]]:
     """Hand ``x`` days reaching ``a`` back along its driving path: [(activity, own share)].
 
     ``local`` stops at the first driver not finished at the later data date
@@ -380,7 +344,7 @@ def _overlap(ev: Event, start: date, end: date) -> int:
     return (hi - lo).days + 1 if hi >= lo else 0
 
 
-def _apportion(days: int, weights: Sequence[int]) -> list[int]:
+def apportion_days(days: int, weights: Sequence[int]) -> list[int]:
     """Split ``days`` in proportion to ``weights`` so the parts add up (largest remainder)."""
     total = sum(weights)
     base = [days * w // total for w in weights]
@@ -391,7 +355,7 @@ def _apportion(days: int, weights: Sequence[int]) -> list[int]:
     return base
 
 
-def _performer(ctx: _Ctx, aid: str) -> tuple[str, str | None]:
+def _performer(ctx: WindowContext, aid: str) -> tuple[str, str | None]:
     act = ctx.run.half.activities.get(aid) or ctx.run.later.activities.get(aid)
     party = ctx.casefile.parties.get(act.party) if act is not None and act.party else None
     if party is None:
@@ -399,7 +363,7 @@ def _performer(ctx: _Ctx, aid: str) -> tuple[str, str | None]:
     return party.id, DEFAULT_CATEGORY.get(party.role)
 
 
-def _attribute(ctx: _Ctx, aid: str, days: int) -> list[Contributor]:
+def attribute_days(ctx: WindowContext, aid: str, days: int) -> list[Contributor]:
     w = ctx.run.window
     if days > 0:
         covering = [
@@ -415,7 +379,7 @@ def _attribute(ctx: _Ctx, aid: str, days: int) -> list[Contributor]:
                 if aid in _event_ids(ctx.casefile, ev)
             ]
         if covering:
-            parts = _apportion(days, [n for _, n in covering])
+            parts = apportion_days(days, [n for _, n in covering])
             return [
                 Contributor(aid, d, ev.id, ev.party, ev.category)
                 for (ev, _), d in zip(covering, parts, strict=True)
@@ -436,7 +400,7 @@ def _event_ids(cf: Casefile, ev: Event) -> set[str]:
     return ids
 
 
-def _take_out(ctx: _Ctx, snap: Snapshot, events: Sequence[Event]) -> tuple[Snapshot, tuple[str, ...]]:
+def take_out_events(ctx: WindowContext, snap: Snapshot, events: Sequence[Event]) -> tuple[Snapshot, tuple[str, ...]]:
     """``snap`` (a version of the later update) with these events' revisions taken out.
 
     * Activities the later update added that are the events' (fragnet or
@@ -499,14 +463,14 @@ def _take_out(ctx: _Ctx, snap: Snapshot, events: Sequence[Event]) -> tuple[Snaps
     return out, tuple(dict.fromkeys(touched))
 
 
-def _revision(ctx: _Ctx) -> tuple[tuple[RevisionShare, ...], int]:
+def revision_shares(ctx: WindowContext) -> tuple[tuple[RevisionShare, ...], int]:
     cf, run = ctx.casefile, ctx.run
     count = unit_counter(cf)
     current = run.later
     c_prev = count(run.after.completion)
     shares = []
     for ev in sorted(cf.events, key=lambda e: (e.start, e.id)):
-        nxt, hit = _take_out(ctx, current, [ev])
+        nxt, hit = take_out_events(ctx, current, [ev])
         if not hit:
             continue
         current = nxt

@@ -27,41 +27,47 @@ core principles 10 and paras. 10-11.
 
 from __future__ import annotations
 
-from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, replace
-from datetime import date, timedelta
+from collections.abc import Sequence
+from dataclasses import replace
+from datetime import timedelta
 from typing import Any
 
 from forensic.analysis.attribution.concurrency import (
     CONCURRENCY_RULE,
     CONCURRENT,
-    Concurrency,
-    _concurrency,
-    _resolve,
-    _take_concurrent,
     concurrency_table,
+    find_concurrency,
+    resolve_concurrency,
     rule_words,
+    take_concurrent,
 )
 from forensic.analysis.attribution.contributors import (
     UNATTRIBUTED_REVISION,
-    Contributor,
-    RevisionShare,
-    _attribute,
-    _context,
-    _revision,
-    _split,
+    attribute_days,
     contributors_table,
+    revision_shares,
+    split_slip,
+    window_context,
 )
 from forensic.analysis.attribution.ledger import (
-    Ledger,
-    LedgerEntry,
     build_ledger,
     ledger_json,
     ledger_table,
 )
+from forensic.analysis.attribution.results import (
+    Concurrency,
+    Contributor,
+    DelayAnalysis,
+    Ledger,
+    LedgerEntry,
+    Pacing,
+    RevisionShare,
+    Slice,
+    SliceDelay,
+    WindowAttribution,
+)
 from forensic.analysis.windows import (
     WindowRun,
-    WindowsAnalysis,
     analyse_windows,
     slice_cuts,
     slice_snapshot,
@@ -87,42 +93,6 @@ __all__ = [
     "rule_words",
     "ledger_table",
 ]
-
-
-@dataclass(frozen=True, slots=True)
-class SliceDelay:
-    """One share of a slice's slip: the activity (or a revision's activities), event, party, days."""
-
-    activity: str
-    event: str | None
-    party: str
-    days: int
-
-
-@dataclass(frozen=True, slots=True)
-class Slice:
-    """A part of a window between two cut dates, attributed on its own (see :func:`attribute_window`).
-
-    ``driving_path`` is the longest path of the slice's half-step schedule.
-    """
-
-    start: date
-    end: date
-    driving_path: tuple[str, ...]
-    delays: tuple[SliceDelay, ...]
-
-
-@dataclass(frozen=True, slots=True)
-class Pacing:
-    """A contractor's lateness that float from an owner delay of the same slice absorbed: possible pacing, not decided."""
-
-    start: date
-    end: date
-    activity: str
-    event: str | None
-    party: str
-    days: int
-    owner_events: tuple[str, ...]
 
 
 def _pacing(ctx, chain, revision) -> tuple[Pacing, ...]:
@@ -157,10 +127,10 @@ def _pacing(ctx, chain, revision) -> tuple[Pacing, ...]:
         late = workdays_between(cal, b.early_finish + timedelta(days=1), h.early_finish + timedelta(days=1))
         if late <= b.total_float:  # within its own float: it would not have delayed completion alone
             continue
-        for owner_aid, d in _split(ctx, aid, v, local=True):
+        for owner_aid, d in split_slip(ctx, aid, v, local=True):
             if d <= 0 or owner_aid in on_path:
                 continue
-            for c in _attribute(ctx, owner_aid, d):
+            for c in attribute_days(ctx, owner_aid, d):
                 if roles.get(c.party) == "contractor":
                     out.append(Pacing(w.start, w.end, owner_aid, c.event, c.party, c.days, tuple(owners)))
     merged: dict[tuple, Pacing] = {}
@@ -168,38 +138,6 @@ def _pacing(ctx, chain, revision) -> tuple[Pacing, ...]:
         key = (x.activity, x.event)
         merged[key] = x if key not in merged else replace(merged[key], days=max(merged[key].days, x.days))
     return tuple(merged.values())
-
-
-@dataclass(frozen=True, slots=True)
-class WindowAttribution:
-    """Every day of one window's slip, attributed.
-
-    ``sum(contributors.days) == window.progress_slip``;
-    ``sum(revision.days) + unattributed_revision == window.revision_slip``;
-    ``sum(by_party.values()) + concurrent.days == window.slip``.
-    ``unexplained`` counts the positive days that no event covers.
-    """
-
-    window_label: str
-    contributors: tuple[Contributor, ...]
-    revision: tuple[RevisionShare, ...]
-    unattributed_revision: int
-    by_party: Mapping[str, int]
-    concurrent: Concurrency
-    unexplained: int
-    slices: tuple[Slice, ...] = ()
-    pacing: tuple[Pacing, ...] = ()
-
-
-@dataclass(frozen=True, slots=True)
-class DelayAnalysis:
-    """The windows analysis with every day attributed and the ledger."""
-
-    unit: str
-    windows: WindowsAnalysis
-    attributions: tuple[WindowAttribution, ...]
-    ledger: Ledger
-    rule: str = "time-only"
 
 
 # --- one window, all windows ---------------------------------------------------------
@@ -288,16 +226,16 @@ def _sum_maps(maps) -> dict[str, int]:
 
 def _attribute_slice(casefile: Casefile, run: WindowRun, label: str) -> WindowAttribution:
     """Attribute one slice (or a whole window with no cut) by the rules of the module notes."""
-    ctx = _context(casefile, run)
+    ctx = window_context(casefile, run)
     w = run.window
-    steps = _split(ctx, run.half_result.completion_id, w.progress_slip, local=False)
-    chain = [c for aid, d in reversed(steps) if d for c in _attribute(ctx, aid, d)]
-    revision, unattributed = _revision(ctx)
+    steps = split_slip(ctx, run.half_result.completion_id, w.progress_slip, local=False)
+    chain = [c for aid, d in reversed(steps) if d for c in attribute_days(ctx, aid, d)]
+    revision, unattributed = revision_shares(ctx)
     pacing = _pacing(ctx, chain, revision)
-    conc = _concurrency(ctx, chain, revision)
+    conc = find_concurrency(ctx, chain, revision)
     if conc.days:
-        contributors, shares = _take_concurrent(chain, revision, conc)
-        contributors, shares, conc = _resolve(casefile, contributors, shares, conc)
+        contributors, shares = take_concurrent(chain, revision, conc)
+        contributors, shares, conc = resolve_concurrency(casefile, contributors, shares, conc)
         revision = tuple(shares)
     else:
         contributors = chain

@@ -25,52 +25,21 @@ core principles 10 and paras. 10-11.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass, replace
-from datetime import date
-from typing import TYPE_CHECKING, Any
+from dataclasses import replace
+from typing import Any
 
 from forensic.analysis.attribution.concurrency import CONCURRENT
+from forensic.analysis.attribution.results import (
+    DelayAnalysis,
+    Ledger,
+    LedgerEntry,
+    WindowAttribution,
+)
 from forensic.analysis.windows import WindowsAnalysis
 from forensic.core.model import CATEGORIES
 from forensic.core.tables import Table
 
-if TYPE_CHECKING:
-    from forensic.analysis.attribution.delay import DelayAnalysis, WindowAttribution
-
 __all__ = ["LEDGER_COLUMNS", "Ledger", "LedgerEntry", "build_ledger", "ledger_json", "ledger_table"]
-
-
-@dataclass(frozen=True, slots=True)
-class LedgerEntry:
-    """Days by category for a window (or from the baseline to a window's end).
-
-    ``total`` is the sum of every field but ``unexplained``, which is a memo:
-    the part of the categories that no event explains.
-    """
-
-    window: str
-    excusable_compensable: int
-    excusable_noncompensable: int
-    non_excusable: int
-    concurrent: int
-    gains: int
-    unassigned: int
-    unattributed_revision: int
-    unexplained: int
-    total: int
-
-
-@dataclass(frozen=True, slots=True)
-class Ledger:
-    """The delay ledger: per window, cumulative, and whether it balances to the total slip."""
-
-    windows: tuple[LedgerEntry, ...]
-    cumulative: tuple[LedgerEntry, ...]
-    total: LedgerEntry
-    baseline_completion: date
-    last_completion: date
-    total_slip: int
-    balanced: bool
 
 
 _FIELDS = {

@@ -8,7 +8,7 @@ the user's column name and the value. Nothing is guessed: what the import
 dropped (source columns it did not use, blank rows, times of day) or
 defaulted (a blank relationship type read as FS, a duration rounded to
 whole days) is counted here and listed in the import report
-(:func:`_notes`).
+(:func:`conversion_notes`).
 
 References
 ----------
@@ -26,7 +26,7 @@ from datetime import date
 
 from forensic.casefile.csvread import Problems, Row, find_unsafe_char
 from forensic.casefile.records import ACTIVITY_COLUMNS, EVENT_COLUMNS, LINK_COLUMNS
-from forensic.exchange.importer.mapping import _CODE_FIELDS, FIELDS, _Mapping, _parse_date
+from forensic.exchange.importer.mapping import CODE_FIELDS, FIELDS, ImportMapping, parse_mapped_date
 from forensic.exchange.importer.sources import SourceTable, Unsaved
 
 __all__: list[str] = []
@@ -49,10 +49,10 @@ _DEFAULTS = {  # what the casefile format does with a blank optional field
 }
 
 
-class _Converter:
+class Converter:
     """Turns source rows into casefile-format rows, counting what it drops and defaults."""
 
-    def __init__(self, m: _Mapping, problems: Problems):
+    def __init__(self, m: ImportMapping, problems: Problems):
         self.m = m
         self.v = m.values
         self.problems = problems
@@ -153,14 +153,14 @@ class _Converter:
             self.counts[f"{table}: leading apostrophe removed before a formula character"] += 1
             text = text[1:]
         if field in _DATE_FIELDS:
-            d = _parse_date(text, self.v.date_formats)
+            d = parse_mapped_date(text, self.v.date_formats)
             if d is None:
                 return bad(f"expected a date in one of the formats {', '.join(self.v.date_formats)}")
             return d.isoformat()
-        if field in _CODE_FIELDS:
+        if field in CODE_FIELDS:
             ours = self.v.codes[field].get(text.casefold())
             if ours is None:
-                key = _CODE_FIELDS[field][0]
+                key = CODE_FIELDS[field][0]
                 return bad(f"unknown code; expected one of {', '.join(sorted(set(self.v.codes[field].values())))} "
                            f"or a code listed in [values] {key}")
             if ours != text:
@@ -221,7 +221,7 @@ def _num(value: float) -> str:
     return str(int(value)) if float(value).is_integer() else repr(value)
 
 
-def _notes(conv: _Converter) -> tuple[str, ...]:
+def conversion_notes(conv: Converter) -> tuple[str, ...]:
     """What was dropped or defaulted, table by table (activities, links, events)."""
     notes = []
     for table in FIELDS:

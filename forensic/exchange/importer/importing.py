@@ -42,9 +42,9 @@ from forensic.casefile.validation import ValidationResult, validate_casefile
 from forensic.casefile.writing import write_casefile
 from forensic.core.errors import CasefileError, ImportMappingError, LimitExceeded, OutputError
 from forensic.core.model import Casefile, Fragnet, Snapshot, frozen_mapping
-from forensic.exchange.importer.conversion import _Converter, _notes
-from forensic.exchange.importer.mapping import FIELDS, FORMAT, _Mapping, _settings
-from forensic.exchange.importer.origins import _Origins, _origins
+from forensic.exchange.importer.conversion import Converter, conversion_notes
+from forensic.exchange.importer.mapping import FIELDS, FORMAT, ImportMapping, import_settings
+from forensic.exchange.importer.origins import Origins, find_origins
 from forensic.exchange.importer.sources import close_books, read_source
 
 __all__ = ["FIELDS", "FORMAT", "ImportReport", "import_casefile", "read_mapping"]
@@ -101,15 +101,15 @@ def _raise(problems: Problems):
 
 
 def _read(path: Path, limits: Limits) -> tuple[Casefile, tuple[str, ...], tuple[dict, dict]]:
-    """The casefile, the notes, and what :class:`_Origins` needs to name the sources."""
+    """The casefile, the notes, and what :class:`Origins` needs to name the sources."""
     problems = Problems()
-    m = _Mapping(path, problems, limits)
+    m = ImportMapping(path, problems, limits)
     if problems:
         _raise(problems)
-    project, parties, calendars = _settings(m, problems)
+    project, parties, calendars = import_settings(m, problems)
     if problems:  # without the parties and calendars, every row naming one would be reported too
         _raise(problems)
-    conv = _Converter(m, problems)
+    conv = Converter(m, problems)
     warnings: list[str] = []
     cal_ids = tuple(calendars)
     books: dict = {}
@@ -119,7 +119,7 @@ def _read(path: Path, limits: Limits) -> tuple[Casefile, tuple[str, ...], tuple[
         close_books(books)
 
 
-def _read_all(m: _Mapping, conv: _Converter, project, parties, calendars, cal_ids, books, problems, warnings):
+def _read_all(m: ImportMapping, conv: Converter, project, parties, calendars, cal_ids, books, problems, warnings):
     """Read every source table; cross-table checks only when every table could be read.
 
     A table that cannot be read at all (a missing column) leaves its ids
@@ -182,7 +182,7 @@ def _read_all(m: _Mapping, conv: _Converter, project, parties, calendars, cal_id
         _raise(problems)
     cf = Casefile(project, frozen_mapping(calendars), frozen_mapping(parties), tuple(snapshots),
                   events, frozen_mapping(fragnets))
-    return cf, tuple(m.notes) + _notes(conv), (_origins(cf, m), m.columns)
+    return cf, tuple(m.notes) + conversion_notes(conv), (find_origins(cf, m), m.columns)
 
 
 def import_casefile(mapping: str | os.PathLike[str], out: str | os.PathLike[str], *,
@@ -229,7 +229,7 @@ def import_casefile(mapping: str | os.PathLike[str], out: str | os.PathLike[str]
     limits = limits or Limits()
     m_path = Path(mapping)
     cf, notes, (origins, columns) = _read(m_path, limits)
-    back = _Origins(origins, m_path.name, columns)
+    back = Origins(origins, m_path.name, columns)
     with staged_folder(target, what="casefile") as tmp:
         write_casefile(cf, tmp)
         try:

@@ -33,7 +33,7 @@ from pathlib import Path
 from typing import Any
 
 from forensic.casefile.csvread import Problems, find_unsafe_char
-from forensic.casefile.reading import _CALENDAR_KEYS, _PARTY_KEYS, _PROJECT_KEYS, Limits
+from forensic.casefile.reading import CALENDAR_KEYS, PARTY_KEYS, PROJECT_KEYS, Limits
 from forensic.casefile.records import ACTIVITY_COLUMNS, EVENT_COLUMNS, LINK_COLUMNS
 from forensic.core.model import (
     ACTIVITY_KINDS,
@@ -58,7 +58,7 @@ FIELDS = {  # our fields per table, required ones first (casefile format, versio
     "links": LINK_COLUMNS[0] + LINK_COLUMNS[1],
     "events": EVENT_COLUMNS[0] + EVENT_COLUMNS[1],
 }
-_CODE_FIELDS = {"kind": ("kinds", ACTIVITY_KINDS), "type": ("link_types", LINK_TYPES),
+CODE_FIELDS = {"kind": ("kinds", ACTIVITY_KINDS), "type": ("link_types", LINK_TYPES),
                 "constraint": ("constraints", CONSTRAINT_KINDS), "category": ("categories", CATEGORIES)}
 _SAFE_ID = re.compile(r"^[A-Za-z0-9_-][A-Za-z0-9 ._-]{0,99}$")
 
@@ -77,7 +77,7 @@ class _Values:
     delimiter: str
 
 
-class _Mapping:
+class ImportMapping:
     """The checked mapping file; problems name the mapping file and key."""
 
     def __init__(self, path: Path, problems: Problems, limits: Limits):
@@ -214,7 +214,7 @@ class _Mapping:
             elif isinstance(raw, date) and not isinstance(raw, datetime):
                 spec["data_date"] = raw
             else:
-                spec["data_date"] = _parse_date(str(raw), self.values.date_formats) if self.values else None
+                spec["data_date"] = parse_mapped_date(str(raw), self.values.date_formats) if self.values else None
                 if spec["data_date"] is None:
                     self._bad(f"{where}.data_date", raw, "expected a date such as 2026-01-05, or one in [values] date_formats")
         for what in ("activities", "links"):
@@ -282,7 +282,7 @@ class _Mapping:
             self._bad("values.blanks", blanks, 'expected a list of texts read as blank, such as ["-", "n/a"]')
             blanks = []
         codes: dict[str, dict[str, str]] = {}
-        for field, (key, ours) in _CODE_FIELDS.items():
+        for field, (key, ours) in CODE_FIELDS.items():
             table = {o.casefold(): o for o in ours}
             given = v.get(key, {})
             if not isinstance(given, dict):
@@ -329,7 +329,7 @@ class _Mapping:
         return value
 
 
-def _parse_date(raw: str, formats: tuple[str, ...]) -> date | None:
+def parse_mapped_date(raw: str, formats: tuple[str, ...]) -> date | None:
     for fmt in (*formats, "%Y-%m-%d"):
         try:
             return datetime.strptime(raw, fmt).date()
@@ -359,7 +359,7 @@ def _walk_text(doc: Any, key: str, label: str, problems: Problems) -> None:
             _walk_text(v, f"{key} #{i}", label, problems)
 
 
-def _settings(m: _Mapping, problems: Problems) -> tuple[Project | None, dict[str, Party], dict[str, Calendar]]:
+def import_settings(m: ImportMapping, problems: Problems) -> tuple[Project | None, dict[str, Party], dict[str, Calendar]]:
     """Project, parties and calendars, lightly checked; the loader checks them fully after writing."""
     s = m.settings
     parties: dict[str, Party] = {}
@@ -369,9 +369,9 @@ def _settings(m: _Mapping, problems: Problems) -> tuple[Project | None, dict[str
             m._bad(name, None, f"expected [[{name}]] tables (two brackets: there may be several)")
             s = {k: v for k, v in s.items() if k != name}
     for i, t in enumerate(s.get("calendar", []), 1):
-        bad = [k for k in t if k not in _CALENDAR_KEYS]
+        bad = [k for k in t if k not in CALENDAR_KEYS]
         for k in bad:
-            m._bad(f"calendar #{i}.{k}", k, f"unknown key; expected only {', '.join(_CALENDAR_KEYS)}")
+            m._bad(f"calendar #{i}.{k}", k, f"unknown key; expected only {', '.join(CALENDAR_KEYS)}")
         if isinstance(t.get("id"), str):
             calendars[t["id"]] = Calendar(t["id"], _seq(t.get("workdays", ())),
                                           _seq(t.get("holidays", ())), _seq(t.get("extra_workdays", ())))
@@ -379,8 +379,8 @@ def _settings(m: _Mapping, problems: Problems) -> tuple[Project | None, dict[str
         m._bad("calendar", None, "missing; expected at least one [[calendar]] table (in the mapping or its settings file)")
     for i, t in enumerate(s.get("party", []), 1):
         for k in t:
-            if k not in _PARTY_KEYS:
-                m._bad(f"party #{i}.{k}", k, f"unknown key; expected only {', '.join(_PARTY_KEYS)}")
+            if k not in PARTY_KEYS:
+                m._bad(f"party #{i}.{k}", k, f"unknown key; expected only {', '.join(PARTY_KEYS)}")
         if t.get("role") not in PARTY_ROLES:
             m._bad(f"party #{i}.role", t.get("role"), f"expected one of {', '.join(PARTY_ROLES)}")
         elif isinstance(t.get("id"), str):
@@ -390,8 +390,8 @@ def _settings(m: _Mapping, problems: Problems) -> tuple[Project | None, dict[str
         m._bad("project", None, "missing; expected a [project] table (in the mapping or its settings file)")
         return None, parties, calendars
     for k in p:
-        if k not in _PROJECT_KEYS:
-            m._bad(f"project.{k}", k, f"unknown key; expected only {', '.join(_PROJECT_KEYS)}")
+        if k not in PROJECT_KEYS:
+            m._bad(f"project.{k}", k, f"unknown key; expected only {', '.join(PROJECT_KEYS)}")
     project = Project(p.get("name"), p.get("default_calendar"), p.get("completion"), p.get("contract_completion"),
                       p.get("delay_unit", "calendar-days"), p.get("progress_logic", "retained"),
                       p.get("critical_float", 0))

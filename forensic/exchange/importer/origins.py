@@ -18,12 +18,12 @@ import re
 
 from forensic.core.errors import InputProblem
 from forensic.core.model import Casefile
-from forensic.exchange.importer.mapping import _Mapping
+from forensic.exchange.importer.mapping import ImportMapping
 
 __all__: list[str] = []
 
 
-def _origins(cf: Casefile, m: _Mapping) -> dict[str, tuple[str, tuple[int, ...]]]:
+def find_origins(cf: Casefile, m: ImportMapping) -> dict[str, tuple[str, tuple[int, ...]]]:
     """Each casefile table the writer will write -> (source label, source row of each written line).
 
     The writer (:mod:`forensic.casefile.writing`) writes a header, then one line per
@@ -56,7 +56,7 @@ def _origins(cf: Casefile, m: _Mapping) -> dict[str, tuple[str, tuple[int, ...]]
 _LINES = re.compile(r"\b(lines?) (\d+(?:, \d+)*)")
 
 
-class _Origins:
+class Origins:
     """Maps the written casefile's files and lines back to the user's sources and rows."""
 
     def __init__(self, origins: dict[str, tuple[str, tuple[int, ...]]], mapping: str, m_columns):
