@@ -365,8 +365,12 @@ def _schedule(
             if p not in on_path:
                 on_path.add(p)
                 stack.append(p)
-    rank = {i: r for r, i in enumerate(order)}
-    path = sorted(on_path, key=lambda i: (start_day[i], rank[i]))
+    # Ties of start date: driving-link depth from the path's first activity, then id.
+    depth: dict[int, int] = {}
+    for i in order:
+        if i in on_path:
+            depth[i] = 1 + max((depth[p] for p in driving[i]), default=-1)
+    path = sorted(on_path, key=lambda i: (start_day[i], depth[i], ids[i]))
 
     for i in order:
         if status[i] == 2:

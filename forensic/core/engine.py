@@ -859,8 +859,10 @@ def _longest_path(net: _Network, comp: int, driving_of, start_day: np.ndarray) -
     """Every activity reached back from the completion through driving links, in date order.
 
     The longest path of AACE RP 49R-06 (traced back from the completion
-    through driving relationships); ties of date are broken by topological
-    order.
+    through driving relationships). Ties of start date are broken by the
+    number of driving links from the path's first activity (so a driving
+    predecessor comes first), then by activity id: the order does not depend
+    on how a topological sort happened to break its own ties.
     """
     on_path = {comp}
     stack = [comp]
@@ -870,9 +872,13 @@ def _longest_path(net: _Network, comp: int, driving_of, start_day: np.ndarray) -
             if p not in on_path:
                 on_path.add(p)
                 stack.append(p)
-    rank = {i: r for r, i in enumerate(net.node_order.tolist())}
+    depth: dict[int, int] = {}
+    for i in net.node_order.tolist():
+        if i in on_path:
+            depth[i] = 1 + max((depth[p] for p in driving_of(i)), default=-1)
     sd = start_day.tolist()
-    return sorted(on_path, key=lambda i: (sd[i], rank[i]))
+    ids = net.ids
+    return sorted(on_path, key=lambda i: (sd[i], depth[i], ids[i]))
 
 
 _MAX_CHAINS = 50  # ties multiply chains; past this many the union alone is the answer
