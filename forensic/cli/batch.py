@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import sys
+from functools import partial
 from pathlib import Path
 
 import click
@@ -15,6 +16,7 @@ from forensic.cli.portfolio import (
     report_names,
     run_batch,
 )
+from forensic.cli.portfolio_cluster import run_on_cluster
 from forensic.exchange.writers import to_csv
 
 from ._base import main
@@ -24,10 +26,15 @@ from ._common import emit, emit_json, emit_xlsx, format_options, pick_format, sa
 @main.command()
 @click.argument("folder", metavar="FOLDER", type=click.Path(file_okay=False, path_type=Path))
 @click.option("--jobs", type=click.IntRange(1, 256), default=None, help="Worker processes (default: every core).")
+@click.option("--cluster", metavar="ADDRESS", default=None,
+              help="Send the casefiles to the Dask distributed scheduler at ADDRESS (tcp://host:8786) "
+                   "instead of the local processes; needs the 'cluster' extra and a file system shared "
+                   "with the workers.")
 @click.option("--report", "report_dir", type=click.Path(file_okay=False, path_type=Path), default=None,
               metavar="DIR", help="Also write each casefile's full report into DIR.")
 @format_options
-def batch(folder: Path, jobs: int | None, report_dir: Path | None, as_json: bool, as_csv: bool) -> None:
+def batch(folder: Path, jobs: int | None, cluster: str | None, report_dir: Path | None,
+          as_json: bool, as_csv: bool) -> None:
     """Check and analyse (windows, half-step, ledger) every casefile under FOLDER.
 
     Each casefile runs in its own process, on every core unless --jobs says
@@ -35,9 +42,14 @@ def batch(folder: Path, jobs: int | None, report_dir: Path | None, as_json: bool
     (casefile, valid, snapshots, slip, time, error); exit status 1 if any
     casefile failed.
 
+    With --cluster the casefiles run on an existing Dask distributed cluster
+    instead (docs/benchmark.md, "A portfolio beyond one machine"); the summary is the same, row for row.
+
     Example: forensic batch portfolio/ --jobs 2
 
     """
+    if cluster is not None and jobs is not None:
+        raise click.UsageError("--jobs is for the local processes; with --cluster the cluster's workers run the casefiles")
     paths = find_casefiles(folder)
     if not paths:
         raise click.ClickException(f"{folder}: no casefile (casefile.toml) found under this folder")
@@ -47,7 +59,9 @@ def batch(folder: Path, jobs: int | None, report_dir: Path | None, as_json: bool
         names = report_names(paths, folder)
     with click.progressbar(length=len(paths), label=f"{len(paths)} casefiles",
                            file=sys.stderr) as bar:
-        rows = run_batch(folder, jobs=jobs, report_dir=report_dir, progress=lambda _row: bar.update(1))
+        runner = None if cluster is None else partial(run_on_cluster, address=cluster)
+        rows = run_batch(folder, jobs=jobs, report_dir=report_dir, progress=lambda _row: bar.update(1),
+                         runner=runner)
     table = batch_table(rows)
     if names:
         click.echo(f"reports in {report_dir}, named by each casefile's path under {folder}:", err=True)

@@ -19,12 +19,13 @@ import time
 from collections.abc import Callable
 from concurrent.futures import ProcessPoolExecutor, as_completed
 from dataclasses import dataclass
+from functools import partial
 from pathlib import Path
 
 from forensic.core.errors import ForensicError, InputProblem, NotFoundError, OutputError
 from forensic.core.tables import Table
 
-__all__ = ["BatchRow", "batch_table", "check_report_dir", "find_casefiles", "report_names", "run_batch", "run_one"]
+__all__ = ["BatchRow", "Runner", "batch_table", "check_report_dir", "find_casefiles", "report_names", "run_batch", "run_one"]
 
 MANIFEST = "casefile.toml"
 _NAME_MAX = 200  # bytes of a report name before "-report.pdf" (NAME_MAX is 255 on common file systems)
@@ -44,6 +45,10 @@ class BatchRow:
     report: str | None = None
     problems: tuple[InputProblem, ...] = ()
     write_failed: bool = False
+
+
+Runner = Callable[[list[Path], str | None, dict[Path, str], Callable[[BatchRow], None] | None], list[BatchRow]]
+"""How a batch's casefiles are run: ``runner(paths, report_dir, names, progress)`` -> rows in path order."""
 
 
 def find_casefiles(folder: str | os.PathLike[str]) -> list[Path]:
@@ -165,8 +170,14 @@ def run_batch(
     jobs: int | None = None,
     report_dir: str | os.PathLike[str] | None = None,
     progress: Callable[[BatchRow], None] | None = None,
+    runner: Runner | None = None,
 ) -> list[BatchRow]:
     """Run :func:`run_one` on every casefile under ``folder`` on ``jobs`` processes (default: every core).
+
+    ``runner`` replaces the local process pool: it is called as
+    ``runner(paths, report_dir, names, progress)`` and returns the rows in
+    ``paths`` order (:func:`forensic.cli.portfolio_cluster.run_on_cluster`
+    sends them to a Dask distributed cluster).
 
     Rows come back in path order; ``progress`` is called as each casefile finishes.
     On an interrupt the pending casefiles are cancelled and the interrupt is raised.
@@ -177,13 +188,14 @@ def run_batch(
     be written, nothing is written and :class:`OutputError` says why.
     """
     paths = find_casefiles(folder)
+    run = runner if runner is not None else partial(_run_on_pool, jobs=jobs)
     if report_dir is None:
-        return _run(paths, jobs, None, {}, progress)
+        return run(paths, None, {}, progress)
     from forensic.casefile.outputs import staged_folder
 
     names = report_names(paths, folder)
     with staged_folder(report_dir, replaceable=_only_reports, what="reports") as tmp:
-        rows = _run(paths, jobs, str(tmp), names, progress)
+        rows = run(paths, str(tmp), names, progress)
         failed = [r for r in rows if r.write_failed]
         if failed:
             raise OutputError(f"{failed[0].error}; no report was written to {report_dir}")
@@ -196,8 +208,8 @@ def _with_report(row: BatchRow, path: Path) -> BatchRow:
     return replace(row, report=str(path))
 
 
-def _run(paths: list[Path], jobs: int | None, rdir: str | None, names: dict[Path, str],
-         progress: Callable[[BatchRow], None] | None) -> list[BatchRow]:
+def _run_on_pool(paths: list[Path], rdir: str | None, names: dict[Path, str],
+                 progress: Callable[[BatchRow], None] | None, *, jobs: int | None) -> list[BatchRow]:
     jobs = max(1, jobs or os.cpu_count() or 1)
     rows: dict[str, BatchRow] = {}
     if jobs == 1 or len(paths) <= 1:
