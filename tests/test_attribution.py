@@ -214,12 +214,14 @@ def test_ledger_is_cumulative_and_balances():
 def test_json_has_the_documented_keys():
     """The JSON object carries the keys issue 5 spells out (a contract, docs/windows.md)."""
     data = delay_json(analyse_delay(concurrent_case()))
-    assert set(data) == {"unit", "windows", "ledger", "concurrency"}  # concurrency: issue 16
+    # concurrency and float_ledger: issue 16
+    assert set(data) == {"unit", "windows", "ledger", "concurrency", "float_ledger"}
+    assert set(data["float_ledger"]) == {"unit", "margin", "windows", "cumulative"}
     w = data["windows"][0]
     for key in (
         "from", "to", "start", "end", "completion_before", "completion_after", "half_step_completion",
         "slip", "progress_slip", "revision_slip", "critical_path_before", "critical_path_after",
-        "contributors", "by_party", "concurrent", "unexplained",
+        "contributors", "by_party", "concurrent", "unexplained", "pacing", "slices", "float_used",
     ):
         assert key in w
     assert set(w["contributors"][0]) == {"activity", "days", "event", "party", "category"}

@@ -47,6 +47,7 @@ __all__ = [
     "key_dates",
     "near_critical",
     "near_critical_trend",
+    "path_groups",
 ]
 
 # Working days of total float above the critical float (common practice).
@@ -80,8 +81,12 @@ class KeyDate:
     finished: bool
 
 
-def _paths(ids: set[str], snap: Snapshot) -> int:
-    """Groups of ``ids`` joined by links between members (weakly connected components), by union-find."""
+def path_groups(ids: set[str], snap: Snapshot) -> list[set[str]]:
+    """Groups of ``ids`` joined by links between members (weakly connected components), by union-find.
+
+    Each group is one near-critical path in the sense of GAO-16-89G best
+    practice 6; groups come in the order of their smallest id.
+    """
     parent = {a: a for a in ids}
 
     def find(a: str) -> str:
@@ -95,7 +100,10 @@ def _paths(ids: set[str], snap: Snapshot) -> int:
             ra, rb = find(link.pred), find(link.succ)
             if ra != rb:
                 parent[ra] = rb
-    return len({find(a) for a in ids})
+    groups: dict[str, set[str]] = {}
+    for a in sorted(ids):
+        groups.setdefault(find(a), set()).add(a)
+    return list(groups.values())
 
 
 def near_critical(
@@ -114,7 +122,7 @@ def near_critical(
             if x.status != "finished" and x.total_float is not None and x.total_float <= critical_float + m
         }
         counts.append(len(ids))
-        paths.append(_paths(ids, snap) if ids else 0)
+        paths.append(len(path_groups(ids, snap)) if ids else 0)
     return NearCritical(result.snapshot_id, result.data_date, tuple(margins), tuple(counts), tuple(paths))
 
 

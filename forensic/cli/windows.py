@@ -16,6 +16,7 @@ from forensic.analysis.attribution.delay import (
     ledger_table,
     rule_words,
 )
+from forensic.analysis.attribution.floatuse import float_ledger, float_used_table
 from forensic.analysis.windows import windows_table
 from forensic.exchange.writers import to_csv
 
@@ -39,7 +40,7 @@ _WINDOW_KEEP = ("window", "slip", "completion_before", "completion_after", "prog
 _LEDGER_KEEP = ("window", "total", "excusable_compensable", "excusable_noncompensable", "non_excusable",
                 "concurrent", "gains")
 
-_TABLES = ("windows", "contributors", "ledger", "cumulative", "as-built")
+_TABLES = ("windows", "contributors", "ledger", "cumulative", "float-used", "as-built")
 
 
 @main.command("windows")
@@ -78,6 +79,7 @@ def windows_command(casefile: Path, bounds: str | None, table: str | None, as_js
         "contributors": lambda: contributors_table(an),
         "ledger": lambda: ledger_table(an),
         "cumulative": lambda: ledger_table(an, cumulative=True),
+        "float-used": lambda: float_used_table(an),
         "as-built": lambda: asbuilt_table(as_planned_vs_as_built(cf)),
     }
     emit_xlsx((make() for make in tables.values()), cf)
@@ -110,4 +112,13 @@ def windows_command(casefile: Path, bounds: str | None, table: str | None, as_js
     say("\nLedger cumulative:")
     emit(table_text(tables["cumulative"](), keep=_LEDGER_KEEP))
     say("\nThe ledger " + ("balances" if led.balanced else "DOES NOT balance") + " to the total slip.")
+    fl = float_ledger(an)
+    say(f"\nFloat used on paths within {fl.margin} working days of critical, in {an.unit} "
+        "(float-days, not delay; docs/windows.md, the float ledger):")
+    if fl.total:
+        parties = ", ".join(f"{p} {d}" for p, d in sorted(fl.cumulative.items()))
+        say(f"cumulative {fl.total}: {parties}")
+        emit(table_text(tables["float-used"]()))
+    else:
+        say("no float used on near-critical paths")
     say("Results support, and do not replace, a qualified scheduling professional's judgement.")

@@ -1,9 +1,11 @@
 """Attribution: every day of a window's slip handed to activities, events and parties.
 
-``results`` holds the result types that the other three share and none
+``results`` holds the result types that the others share and none
 imports back: ``contributors`` hands the progress slip back along the
-driving path to activities, events and parties and shares out the
-revision; ``concurrency`` applies the but-for test for concurrent delay
+driving path to activities, events and parties; ``revision`` shares out
+the revision slip to the events that brought it in; ``floatuse`` keeps
+the float ledger (float used on near-critical paths, by party);
+``concurrency`` applies the but-for test for concurrent delay
 inside a window and takes the concurrent days out (SCL Delay and
 Disruption Protocol, 2nd ed.); ``ledger`` keeps the days by category per
 window and cumulative; ``delay`` joins them (``analyse_delay``).

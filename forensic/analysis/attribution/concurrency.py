@@ -59,7 +59,6 @@ from forensic.analysis.attribution.contributors import (
     attribute_days,
     result_column,
     split_slip,
-    take_out_events,
 )
 from forensic.analysis.attribution.results import (
     Concurrency,
@@ -68,6 +67,7 @@ from forensic.analysis.attribution.results import (
     RevisionShare,
     WindowContext,
 )
+from forensic.analysis.attribution.revision import take_out_events
 from forensic.core.calendars import workdays_between
 from forensic.core.engine import schedule
 from forensic.core.model import DEFAULT_CATEGORY, Casefile, Event, Snapshot, frozen_mapping

@@ -21,9 +21,15 @@ slip and walk back along the driving path:
   that held it: it finished (started, for SS/SF links) on or after ``a``'s
   planned start (finish, for FF/SF) in the earlier update, or against ``a``'s
   half-step start;
-* the driver *inherits* ``I = clamp(v(driver), 0, X)`` of the ``X`` days
-  reaching ``a`` (for a gain, ``clamp(v(driver), X, 0)``), and ``a`` keeps
-  ``X - I`` as its own share; the walk continues with ``X = I``;
+* the driver *inherits* ``I = clamp(v(driver) - (v(a) - X), 0, X)`` of
+  the ``X`` days reaching ``a`` (for a gain, ``clamp(v(driver), X, 0)``),
+  and ``a`` keeps ``X - I`` as its own share; the walk continues with
+  ``X = I``. When ``v(a) > X`` the first ``v(a) - X`` days of ``a``'s
+  variance were absorbed by float after ``a``; the driver's days came
+  first, so they are the ones absorbed (float is used first come, first
+  served: SCL Protocol 2nd ed., core principle 8, from memory). On the
+  driving path, where no float is absorbed (``v(a) = X``), this is
+  ``clamp(v(driver), 0, X)``;
 * except that work not started at the later data date, placed by its
   engine driving predecessor, keeps nothing when that driver's variance has
   the sign of ``X``: the driver inherits all ``X``. Such work has no
@@ -85,8 +91,7 @@ core principle 10 and para. 11.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import replace
-from datetime import date, timedelta
+from datetime import timedelta
 
 import numpy as np
 
@@ -96,11 +101,11 @@ from forensic.analysis.attribution.results import (
     RevisionShare,
     WindowContext,
 )
-from forensic.analysis.butfor import bridge_links
+from forensic.analysis.attribution.revision import event_activity_ids, event_overlap
 from forensic.analysis.windows import WindowRun
 from forensic.core.calendars import day_number, from_day_number, previous_workday
-from forensic.core.engine import ScheduleResult, schedule
-from forensic.core.model import DEFAULT_CATEGORY, Casefile, Event, Snapshot, frozen_mapping
+from forensic.core.engine import ScheduleResult
+from forensic.core.model import DEFAULT_CATEGORY, Casefile, frozen_mapping
 from forensic.core.tables import Table
 from forensic.core.units import unit_counter
 
@@ -316,17 +321,21 @@ def split_slip(ctx: WindowContext, a: str, x: int, local: bool) -> list[tuple[st
                 out.append((a, x))
                 break
         vp = ctx.v[p]
-        inherited = min(max(vp, 0), x) if x > 0 else max(min(vp, 0), x)
-        if (
-            inherited
-            and a in ctx.v
-            and ctx.half[a].status == "not-started"
-            and p in ctx.half[a].driving_predecessors
-        ):
+        if x < 0:
+            inherited = max(min(vp, 0), x)
+        elif vp > 0 and a in ctx.v and ctx.half[a].status == "not-started" and p in ctx.half[a].driving_predecessors:
             # Work not started keeps its plan: logic alone places it, so what
             # reaches it beyond its driver's variance is the calendars' effect
             # on that same delay (a non-working period crossed), not its own.
             inherited = x
+        else:
+            # Of ``a``'s variance only the last ``x`` days reach the completion;
+            # the first ``v(a) - x`` were absorbed by float after ``a``. The
+            # driver's days came first, so they were absorbed first (float is
+            # used first come, first served: SCL Protocol 2nd ed., core
+            # principle 8, from memory); ``a`` keeps its own days first.
+            va = ctx.v.get(a, x)
+            inherited = min(max(vp - max(va - x, 0), 0), x)
         out.append((a, x - inherited))
         if inherited == 0 or (local and ctx.half[p].status != "finished"):
             break
@@ -335,13 +344,6 @@ def split_slip(ctx: WindowContext, a: str, x: int, local: bool) -> list[tuple[st
 
 
 # --- events and parties ------------------------------------------------------------
-
-
-def _overlap(ev: Event, start: date, end: date) -> int:
-    """Calendar days of the event within the window [start, end)."""
-    lo = max(ev.start, start)
-    hi = min(ev.finish, end - timedelta(days=1))
-    return (hi - lo).days + 1 if hi >= lo else 0
 
 
 def apportion_days(days: int, weights: Sequence[int]) -> list[int]:
@@ -369,14 +371,14 @@ def attribute_days(ctx: WindowContext, aid: str, days: int) -> list[Contributor]
         covering = [
             (ev, n)
             for ev in ctx.casefile.events
-            if aid in ev.activities and (n := _overlap(ev, w.start, w.end)) > 0
+            if aid in ev.activities and (n := event_overlap(ev, w.start, w.end)) > 0
         ]
         if not covering and aid in w.added:
             # added work answers to the event that brought it in (its fragnet or listed work)
             covering = [
-                (ev, max(1, _overlap(ev, w.start, w.end)))
+                (ev, max(1, event_overlap(ev, w.start, w.end)))
                 for ev in ctx.casefile.events
-                if aid in _event_ids(ctx.casefile, ev)
+                if aid in event_activity_ids(ctx.casefile, ev)
             ]
         if covering:
             parts = apportion_days(days, [n for _, n in covering])
@@ -387,97 +389,6 @@ def attribute_days(ctx: WindowContext, aid: str, days: int) -> list[Contributor]
             ]
     party, category = _performer(ctx, aid)
     return [Contributor(aid, days, None, party, category)]
-
-
-# --- revision-borne delay: what an event's changes to the plan brought in ----------
-
-
-def _event_ids(cf: Casefile, ev: Event) -> set[str]:
-    ids = set(ev.activities)
-    frag = cf.fragnets.get(ev.fragnet) if ev.fragnet else None
-    if frag is not None:
-        ids |= set(frag.activities)
-    return ids
-
-
-def take_out_events(ctx: WindowContext, snap: Snapshot, events: Sequence[Event]) -> tuple[Snapshot, tuple[str, ...]]:
-    """``snap`` (a version of the later update) with these events' revisions taken out.
-
-    * Activities the later update added that are the events' (fragnet or
-      listed activities) are deleted, their links bridged as the but-for
-      analysis does (:func:`forensic.analysis.butfor.bridge_links`).
-    * For an event whose dates overlap the window: each activity it lists
-      that both updates have and the later one shows not started gets back
-      the earlier update's duration and remaining duration; links into the
-      activities it lists that the later update added are dropped, and
-      those it removed are put back.
-
-    Returns the new snapshot and the ids of the activities touched (empty
-    when the events changed nothing in this window).
-    """
-    run = ctx.run
-    w = run.window
-    earlier = run.earlier
-    added = set(w.added)
-    acts = dict(snap.activities)
-    links = list(snap.links)
-    drop: set[str] = set()
-    touched: list[str] = []
-    added_here = [a for a in acts if a in added] if added else []
-    for ev in events:
-        ids = _event_ids(ctx.casefile, ev) if added_here else set()
-        for aid in added_here:
-            if aid in ids and aid not in drop:
-                drop.add(aid)
-                touched.append(aid)
-        if _overlap(ev, run.revision_start or w.start, w.end) == 0:
-            continue
-        listed = set(ev.activities)
-        for aid in ev.activities:
-            a, e = acts.get(aid), earlier.activities.get(aid)
-            if a is None or e is None or aid in drop or a.is_started:
-                continue
-            if (a.duration, a.remaining_duration) != (e.duration, e.remaining_duration):
-                acts[aid] = replace(a, duration=e.duration, remaining=e.remaining_duration)
-                touched.append(aid)
-        before_keys = {lk.key for lk in earlier.links}
-        after_keys = {lk.key for lk in links}
-        kept = []
-        for lk in links:
-            if lk.succ in listed and lk.key not in before_keys and lk.pred not in drop:
-                touched.append(lk.succ)
-                continue
-            kept.append(lk)
-        for lk in earlier.links:
-            if lk.succ in listed and lk.key not in after_keys and lk.pred in acts and lk.succ in acts:
-                kept.append(lk)
-                touched.append(lk.succ)
-        links = kept
-    if not touched:
-        return snap, ()
-    for aid in drop:
-        del acts[aid]
-    if drop:
-        links = bridge_links(links, drop)
-    out = replace(snap, activities=frozen_mapping(acts), links=tuple(links))
-    return out, tuple(dict.fromkeys(touched))
-
-
-def revision_shares(ctx: WindowContext) -> tuple[tuple[RevisionShare, ...], int]:
-    cf, run = ctx.casefile, ctx.run
-    count = unit_counter(cf)
-    current = run.later
-    c_prev = count(run.after.completion)
-    shares = []
-    for ev in sorted(cf.events, key=lambda e: (e.start, e.id)):
-        nxt, hit = take_out_events(ctx, current, [ev])
-        if not hit:
-            continue
-        current = nxt
-        c = count(schedule(current, cf.calendars, cf.project).completion)
-        shares.append(RevisionShare(ev.id, c_prev - c, ev.party, ev.category, hit))
-        c_prev = c
-    return tuple(shares), run.window.revision_slip - sum(s.days for s in shares)
 
 
 # --- the table ---------------------------------------------------------------------

@@ -45,9 +45,14 @@ from forensic.analysis.attribution.contributors import (
     UNATTRIBUTED_REVISION,
     attribute_days,
     contributors_table,
-    revision_shares,
     split_slip,
     window_context,
+)
+from forensic.analysis.attribution.floatuse import (
+    float_ledger,
+    float_ledger_json,
+    float_used_json,
+    window_float_use,
 )
 from forensic.analysis.attribution.ledger import (
     build_ledger,
@@ -66,6 +71,7 @@ from forensic.analysis.attribution.results import (
     SliceDelay,
     WindowAttribution,
 )
+from forensic.analysis.attribution.revision import revision_shares
 from forensic.analysis.windows import (
     WindowRun,
     analyse_windows,
@@ -174,9 +180,10 @@ def attribute_window(casefile: Casefile, run: WindowRun) -> WindowAttribution:
     AACE RP 29R-03, protocol 3.4 and sec. 4; SCL Protocol 2nd ed., core
     principle 10 and para. 11.
     """
+    float_used = window_float_use(casefile, run)
     cuts = slice_cuts(casefile, run.window.start, run.window.end)
     if not cuts:
-        return _attribute_slice(casefile, run, run.window.label)
+        return replace(_attribute_slice(casefile, run, run.window.label), float_used=float_used)
     snaps = [run.earlier, *(slice_snapshot(casefile, run.earlier, run.later, t) for t in cuts), run.later]
     runs = [window_run(casefile, a, b) for a, b in zip(snaps, snaps[1:], strict=False)]
     # the revisions are all in the last slice (the later update's plan): an
@@ -213,6 +220,7 @@ def attribute_window(casefile: Casefile, run: WindowRun) -> WindowAttribution:
         unexplained=sum(p.unexplained for p in parts),
         slices=tuple(x for p in parts for x in p.slices),
         pacing=tuple(x for p in parts for x in p.pacing),
+        float_used=float_used,
     )
 
 
@@ -346,6 +354,7 @@ def delay_json(analysis: DelayAnalysis) -> dict[str, Any]:
                     }
                     for sl in att.slices
                 ],
+                "float_used": float_used_json(att.float_used),
                 "revision": [
                     {"event": s.event, "days": s.days, "party": s.party, "category": s.category, "activities": list(s.activities)}
                     for s in att.revision
@@ -364,4 +373,5 @@ def delay_json(analysis: DelayAnalysis) -> dict[str, Any]:
         "windows": windows,
         "concurrency": {"rule": analysis.rule, "statement": rule_words(analysis.rule)},
         "ledger": {**ledger_json(analysis.ledger), "concurrency_rule": CONCURRENCY_RULE},
+        "float_ledger": float_ledger_json(float_ledger(analysis), analysis.unit),
     }

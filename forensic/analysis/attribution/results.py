@@ -21,9 +21,11 @@ __all__ = [
     "Concurrency",
     "Contributor",
     "DelayAnalysis",
+    "FloatDelay",
     "Ledger",
     "LedgerEntry",
     "Pacing",
+    "PathFloatUse",
     "RevisionShare",
     "Slice",
     "SliceDelay",
@@ -168,6 +170,34 @@ class Pacing:
 
 
 @dataclass(frozen=True, slots=True)
+class FloatDelay:
+    """One delay's use of a path's float: the activity, the event covering it (or None), the party, days."""
+
+    activity: str
+    event: str | None
+    party: str
+    days: int
+
+
+@dataclass(frozen=True, slots=True)
+class PathFloatUse:
+    """The float one near-critical path used in a window.
+
+    ``activities`` is the path (its work, earlier update, in planned date
+    order); ``activity`` the one it is read at (the most delayed);
+    ``float_before`` its float in the earlier update and ``used`` the part
+    the window's delays used, both in the delay unit.
+    """
+
+    activity: str
+    activities: tuple[str, ...]
+    float_before: int
+    used: int
+    by_party: Mapping[str, int]
+    delays: tuple[FloatDelay, ...]
+
+
+@dataclass(frozen=True, slots=True)
 class WindowAttribution:
     """Every day of one window's slip, attributed.
 
@@ -186,6 +216,7 @@ class WindowAttribution:
     unexplained: int
     slices: tuple[Slice, ...] = ()
     pacing: tuple[Pacing, ...] = ()
+    float_used: tuple[PathFloatUse, ...] = ()
 
 
 @dataclass(frozen=True, slots=True)
