@@ -227,7 +227,7 @@ def test_cached_compile_gives_the_same_schedule_as_a_fresh_one():
     from dataclasses import replace
 
     from forensic.casefile.synthetic import generate_casefile
-    from forensic.core import engine
+    from forensic.core.network import clear_caches
 
     cf = generate_casefile(1200, updates=2, seed=9)
     snap = cf.snapshots[-1]
@@ -238,8 +238,7 @@ def test_cached_compile_gives_the_same_schedule_as_a_fresh_one():
         acts[a.id] = replace(a, remaining=a.duration + 7, calendar="7d")
     variant = replace(snap, activities=frozen_mapping(acts))
     cached = schedule(variant, cf.calendars, cf.project)
-    engine._ACT_CACHE.clear()
-    engine._LINK_CACHE.clear()
+    clear_caches()
     fresh = schedule(variant, cf.calendars, cf.project)
     assert cached.completion == fresh.completion
     assert dict(cached.activities) == dict(fresh.activities)  # reference: the uncached compile

@@ -164,7 +164,6 @@ STILL_OVER: set[str] = {
     "forensic/analysis/trend.py::completion_trend",
     "forensic/casefile/reading.py",
     "forensic/casefile/records.py",
-    "forensic/core/engine.py",
     "forensic/report/__init__.py::build_report",
 }
 

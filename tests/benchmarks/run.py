@@ -39,10 +39,9 @@ def _peak_mb() -> float:
 
 
 def _clear_caches() -> None:
-    from forensic.core import engine
+    from forensic.core.network import clear_caches
 
-    engine._LINK_CACHE.clear()
-    engine._ACT_CACHE.clear()
+    clear_caches()
 
 
 def case_cpm(n: int, runs: int) -> dict:
