@@ -156,7 +156,8 @@ def casefile_tables(
         time_impacts,
     )
     from forensic.analysis.quality import assess_casefile, quality_table
-    from forensic.analysis.recovery import recover, recovery_curve_table, recovery_plan_table
+    from forensic.analysis.recovery.acceleration import recover
+    from forensic.analysis.recovery.tables import recovery_curve_table, recovery_plan_table
     from forensic.analysis.windows import windows_table
     from forensic.core.engine import schedule_snapshot
 
