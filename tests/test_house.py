@@ -156,8 +156,6 @@ STILL_OVER: set[str] = {
     "casefiles/generate_demo.py::_readme",
     "forensic/analysis/butfor.py",
     "forensic/analysis/impact.py",
-    "forensic/analysis/quality.py",
-    "forensic/analysis/quality.py::assess_quality",
     "forensic/analysis/trend.py::completion_trend",
     "forensic/casefile/reading.py",
     "forensic/casefile/records.py",
