@@ -157,7 +157,6 @@ STILL_OVER: set[str] = {
     "forensic/analysis/butfor.py",
     "forensic/analysis/impact.py",
     "forensic/analysis/trend.py::completion_trend",
-    "forensic/casefile/reading.py",
     "forensic/core/engine.py",
     "forensic/report/__init__.py::build_report",
 }
