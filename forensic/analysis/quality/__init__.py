@@ -31,12 +31,27 @@ and 7 on logic, float and the critical path).
 
 from forensic.core.faces import lazy_face
 
-__all__ = ["CP_TEST_DELAY", "HIGH_DURATION_DAYS", "HIGH_FLOAT_DAYS", "QUALITY_COLUMNS", "QualityCheck", "QualityReport", "assess_casefile", "assess_quality", "out_of_sequence_links", "quality_json", "quality_table"]
+__all__ = ["BEI_LIMIT", "CPLI_LIMIT", "CP_TEST_CALENDAR_TOLERANCE", "CP_TEST_DELAY", "FS_LIMIT", "HARD_LIMIT", "HIGH_DURATION_DAYS", "HIGH_DURATION_LIMIT", "HIGH_FLOAT_DAYS", "HIGH_FLOAT_LIMIT", "INVALID_DATES_LIMIT", "LAGS_LIMIT", "LEADS_LIMIT", "LOGIC_LIMIT", "MISSED_LIMIT", "NEGATIVE_FLOAT_LIMIT", "PRACTICE", "SOURCE", "QUALITY_COLUMNS", "QualityCheck", "QualityReport", "assess_casefile", "assess_quality", "out_of_sequence_links", "quality_json", "quality_table"]
 
 __getattr__, __dir__ = lazy_face(__name__, {
+    "BEI_LIMIT": ".checks",
+    "CPLI_LIMIT": ".checks",
+    "CP_TEST_CALENDAR_TOLERANCE": ".checks",
     "CP_TEST_DELAY": ".checks",
+    "FS_LIMIT": ".checks",
+    "HARD_LIMIT": ".checks",
     "HIGH_DURATION_DAYS": ".checks",
+    "HIGH_DURATION_LIMIT": ".checks",
     "HIGH_FLOAT_DAYS": ".checks",
+    "HIGH_FLOAT_LIMIT": ".checks",
+    "INVALID_DATES_LIMIT": ".checks",
+    "LAGS_LIMIT": ".checks",
+    "LEADS_LIMIT": ".checks",
+    "LOGIC_LIMIT": ".checks",
+    "MISSED_LIMIT": ".checks",
+    "NEGATIVE_FLOAT_LIMIT": ".checks",
+    "PRACTICE": ".checks",
+    "SOURCE": ".checks",
     "QUALITY_COLUMNS": ".tables",
     "QualityCheck": ".checks",
     "QualityReport": ".checks",
