@@ -144,26 +144,16 @@ def test_the_package_imports_from_the_defining_module_not_a_face():
 
 
 def _sources() -> list[Path]:
-    return sorted(PACKAGE.rglob("*.py")) + sorted((ROOT / "casefiles").glob("*.py"))
+    return sorted(PACKAGE.rglob("*.py")) + sorted((ROOT / "casefiles").rglob("*.py"))
 
 
 # Shrinks to nothing: each entry is a module or function still over its limit
 # while the house is split (issue "The house"); an entry that is no longer
 # over the limit fails the test too, so the list can only get shorter.
 STILL_OVER: set[str] = {
-    "casefiles/generate_demo.py",
-    "casefiles/generate_demo.py::_baseline",
-    "casefiles/generate_demo.py::_readme",
     "forensic/analysis/butfor.py",
     "forensic/analysis/impact.py",
-    "forensic/analysis/quality.py",
-    "forensic/analysis/quality.py::assess_quality",
-    "forensic/analysis/recovery.py",
-    "forensic/analysis/recovery.py::__init__",
-    "forensic/analysis/recovery.py::recover",
     "forensic/analysis/trend.py::completion_trend",
-    "forensic/casefile/reading.py",
-    "forensic/casefile/records.py",
     "forensic/report/__init__.py::build_report",
 }
 

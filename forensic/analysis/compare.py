@@ -30,7 +30,7 @@ from dataclasses import dataclass
 from datetime import date, timedelta
 from typing import Any
 
-from forensic.analysis.quality import out_of_sequence_links
+from forensic.analysis.quality.sequence import out_of_sequence_links
 from forensic.core.calendars import workdays_between
 from forensic.core.engine import ScheduleResult, schedule
 from forensic.core.model import Casefile, Link, Snapshot

@@ -1,8 +1,9 @@
 """The casefile folder: reading it into the model, checking it, writing it.
 
 ``csvread`` reads a CSV table safely; ``records`` turns its rows into
-activities, links and events and checks the logic for loops; ``reading``
-reads the manifest and loads a whole folder (``load_casefile``) within the
+activities, links and events and checks the logic for loops;
+``manifest`` checks ``casefile.toml``; ``fragnets`` reads the fragnet
+folders; ``reading`` loads a whole folder (``load_casefile``) within the
 ``limits``; ``validation`` schedules every snapshot (``forensic check``);
 ``writing`` is the inverse of reading; ``outputs`` writes any file
 atomically and refuses to write over a casefile's inputs (writing a
@@ -17,9 +18,9 @@ from forensic.core.faces import lazy_face
 __all__ = ["FORMAT", "Limits", "MANIFEST", "ValidationResult", "atomic_write", "copy_demo", "demo_source", "generate_casefile", "load_casefile", "validate_casefile", "write_casefile", "write_new_casefile"]
 
 __getattr__, __dir__ = lazy_face(__name__, {
-    "FORMAT": ".reading",
+    "FORMAT": ".manifest",
     "Limits": ".limits",
-    "MANIFEST": ".reading",
+    "MANIFEST": ".manifest",
     "ValidationResult": ".validation",
     "atomic_write": ".outputs",
     "copy_demo": ".demo",

@@ -6,7 +6,9 @@ from pathlib import Path
 
 import click
 
-from forensic.analysis.quality import QualityCheck, assess_casefile, quality_json, quality_table
+from forensic.analysis.quality.assessment import assess_casefile
+from forensic.analysis.quality.checks import QualityCheck
+from forensic.analysis.quality.tables import quality_json, quality_table
 from forensic.casefile.validation import validate_casefile
 from forensic.core.errors import MAX_LISTED, ForensicError, printable
 from forensic.core.model import Casefile

@@ -7,10 +7,9 @@ from pathlib import Path
 
 import click
 
-from forensic.analysis.recovery import (
-    DEFAULT_TIME_LIMIT,
-    OBJECTIVES,
-    recover,
+from forensic.analysis.recovery.acceleration import recover
+from forensic.analysis.recovery.results import DEFAULT_TIME_LIMIT, OBJECTIVES
+from forensic.analysis.recovery.tables import (
     recovery_curve_table,
     recovery_json,
     recovery_plan_table,

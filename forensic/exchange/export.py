@@ -155,8 +155,10 @@ def casefile_tables(
         time_impact,
         time_impacts,
     )
-    from forensic.analysis.quality import assess_casefile, quality_table
-    from forensic.analysis.recovery import recover, recovery_curve_table, recovery_plan_table
+    from forensic.analysis.quality.assessment import assess_casefile
+    from forensic.analysis.quality.tables import quality_table
+    from forensic.analysis.recovery.acceleration import recover
+    from forensic.analysis.recovery.tables import recovery_curve_table, recovery_plan_table
     from forensic.analysis.windows import windows_table
     from forensic.core.engine import schedule_snapshot
 

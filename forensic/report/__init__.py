@@ -21,8 +21,8 @@ from forensic.analysis.attribution.delay import analyse_delay
 from forensic.analysis.butfor import but_for
 from forensic.analysis.compare import compare_snapshots
 from forensic.analysis.impact import time_impacts
-from forensic.analysis.quality import assess_casefile
-from forensic.analysis.recovery import recover
+from forensic.analysis.quality.assessment import assess_casefile
+from forensic.analysis.recovery.acceleration import recover
 from forensic.analysis.trend import completion_trend
 from forensic.core.model import Casefile
 from forensic.core.version import __version__

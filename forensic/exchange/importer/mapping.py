@@ -33,7 +33,8 @@ from pathlib import Path
 from typing import Any
 
 from forensic.casefile.csvread import Problems, find_unsafe_char
-from forensic.casefile.reading import CALENDAR_KEYS, PARTY_KEYS, PROJECT_KEYS, Limits
+from forensic.casefile.limits import Limits
+from forensic.casefile.manifest import CALENDAR_KEYS, PARTY_KEYS, PROJECT_KEYS
 from forensic.casefile.records import ACTIVITY_COLUMNS, EVENT_COLUMNS, LINK_COLUMNS
 from forensic.core.model import (
     ACTIVITY_KINDS,

@@ -1,0 +1,101 @@
+"""Schedule quality: the DCMA 14-point assessment and practitioners' checks of each snapshot.
+
+Before a schedule is relied on in a delay analysis it has to be shown fit
+for use (AACE RP 29R-03, sec. 2.1, source validation). The Defense Contract
+Management Agency's 14-point assessment (DCMA-EA PAM 200.1, *Earned Value
+Management System (EVMS) Program Analysis Pamphlet*, October 2012) is the
+check most often quoted; :func:`assess_quality` runs it on one snapshot
+(:mod:`.dcma`), with its published thresholds, and adds a few checks that
+practitioners expect (:mod:`.practice`).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+
+from forensic.core.engine import ScheduleResult, schedule
+from forensic.core.model import Casefile
+
+from .checks import QualityReport, is_task, live_links
+from .dcma import dcma_checks
+from .practice import practitioners_checks
+
+__all__ = ["assess_casefile", "assess_quality"]
+
+
+def assess_quality(
+    casefile: Casefile,
+    snapshot_id: str,
+    *,
+    baseline_result: ScheduleResult | None = None,
+) -> QualityReport:
+    """Run the DCMA 14-point assessment and the practitioners' checks on one snapshot.
+
+    Parameters
+    ----------
+    casefile : Casefile
+        Supplies the snapshot, its calendars, the project settings and the
+        baseline (checks 11 and 14 compare with the baseline's dates; check
+        13 measures float to the contract completion, else the baseline's).
+    snapshot_id : str
+        The snapshot to assess.
+    baseline_result : ScheduleResult, optional
+        The scheduled baseline, when the caller already has it.
+
+    Returns
+    -------
+    QualityReport
+        One :class:`QualityCheck` per check, DCMA points 1-14 first.
+
+    Notes
+    -----
+    The measures (DCMA-EA PAM 200.1, Oct 2012; thresholds as recalled, see
+    forensic.analysis.quality.checks):
+
+    1. logic = tasks missing a predecessor or a successor / tasks <= 5 %
+    2. leads = links with negative lag / links = 0 %
+    3. lags = links with positive lag / links <= 5 %
+    4. relationship types = FS links / links >= 90 %
+    5. hard constraints = tasks with a hard constraint / tasks <= 5 %
+    6. high float = tasks with total float > 44 wd / tasks <= 5 %
+    7. negative float = tasks with total float < 0 / tasks = 0 %
+    8. high duration = tasks with duration > 44 wd / tasks <= 5 %
+    9. invalid dates = actual dates on or after the data date, or forecast
+       dates before it / activities = 0 %
+    10. resources: not assessed (the casefile format carries no resources)
+    11. missed tasks = tasks baselined to finish before the data date that
+        finished later than baselined or not at all / those tasks <= 5 %
+    12. critical path test: a delay of ``CP_TEST_DELAY`` wd on the first
+        unfinished task of the longest path moves the completion by as much,
+        in working days of that task's calendar (within 2 % when the path
+        crosses calendars, whose holidays differ)
+    13. CPLI = (CPL + TF) / CPL >= 0.95, CPL the working days from the data
+        date to the forecast completion, TF the completion's float to the
+        contract completion (else the baseline's completion)
+    14. BEI = tasks finished / tasks baselined to finish before the data
+        date >= 0.95
+
+    References
+    ----------
+    DCMA-EA PAM 200.1 (October 2012), sec. 4, the 14-point assessment.
+    GAO-16-89G Schedule Assessment Guide (2015), best practices 2 and 6.
+    """
+    snap = casefile.snapshot(snapshot_id)
+    cals, project = casefile.calendars, casefile.project
+    result = schedule(snap, cals, project)
+    base_snap = casefile.baseline
+    if baseline_result is None:
+        baseline_result = result if base_snap.id == snap.id else schedule(base_snap, cals, project)
+    n_tasks = sum(1 for a in snap.activities.values() if not a.is_finished and is_task(a))
+    checks = dcma_checks(casefile, snap, result, base_snap, baseline_result)
+    checks.extend(practitioners_checks(casefile, snap, result, live_links(snap)))
+    return QualityReport(snap.id, snap.data_date, base_snap.id, n_tasks, tuple(checks))
+
+
+def assess_casefile(casefile: Casefile, snapshot_ids: Iterable[str] | None = None) -> tuple[QualityReport, ...]:
+    """:func:`assess_quality` for each snapshot (all of them by default), oldest first."""
+    base = casefile.baseline
+    base_result = schedule(base, casefile.calendars, casefile.project)
+    ids = list(snapshot_ids) if snapshot_ids is not None else [s.id for s in casefile.snapshots]
+    return tuple(assess_quality(casefile, sid, baseline_result=base_result) for sid in ids)
+
