@@ -41,6 +41,7 @@ from forensic.analysis.attribution.contributors import UNASSIGNED
 from forensic.analysis.attribution.delay import DelayAnalysis, analyse_delay
 from forensic.analysis.butfor import but_for
 from forensic.analysis.impact import time_impact_series, time_impacts
+from forensic.analysis.runcache import RunCache
 from forensic.analysis.sensitivity import SensitivityRow, sensitivity_rows
 from forensic.core.errors import NotFoundError
 from forensic.core.model import Casefile, frozen_mapping
@@ -306,8 +307,9 @@ def delay_summary(
     if not casefile.events:
         msg = "the casefile records no event; there is nothing to summarise per event"
         raise NotFoundError(msg)
+    cache = RunCache()  # this call's: the methods and sensitivity rows share their schedules
     step("windows analysis")
-    delay = delay or analyse_delay(casefile, casefile.windows or None)
+    delay = delay or analyse_delay(casefile, casefile.windows or None, cache=cache)
     own, shared, rest = windows_by_event(delay)
     step("time impact of each event")
     impacts, into = _impact_alone(casefile)
@@ -350,7 +352,7 @@ def delay_summary(
              ("impact", "but_for")]
     recon = tuple(_reconcile(events, a, b, into, rest["concurrent"]) for a, b in pairs)
     tolerance = max(2, round(abs(slip) * 0.1))
-    sens = sensitivity_rows(casefile, delay, tolerance, step) if sensitivity else ()
+    sens = sensitivity_rows(casefile, delay, tolerance, step, cache=cache) if sensitivity else ()
     comp = {
         "baseline": delay.ledger.baseline_completion,
         "latest": delay.ledger.last_completion,
