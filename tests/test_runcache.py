@@ -7,6 +7,7 @@ from dataclasses import replace
 import pytest
 
 from forensic.analysis.attribution.delay import analyse_delay, delay_json
+from forensic.analysis.butfor import but_for, but_for_json
 from forensic.analysis.runcache import RunCache
 from forensic.analysis.windows import analyse_windows, auto_boundaries
 from forensic.casefile.demo import demo_source
@@ -70,3 +71,11 @@ def test_a_casefile_with_other_snapshots_is_computed_afresh(demo):
     assert not cache.serves(shorter)
     assert cache.serves(_rule(demo, "dominant"))
     assert cache.schedule(shorter, shorter.snapshots[0]) is not cache.schedule(demo, demo.snapshots[0])
+
+
+def test_but_for_each_event_from_one_as_built_equals_each_afresh(demo):
+    cache = RunCache()
+    reports = [but_for(demo, event=e.id, cache=cache) for e in demo.events]
+    assert all(r.as_built is reports[0].as_built for r in reports)  # built once
+    for e, r in zip(demo.events, reports, strict=True):
+        assert dumps_json(but_for_json(r)) == dumps_json(but_for_json(but_for(demo, event=e.id)))

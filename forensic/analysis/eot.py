@@ -197,11 +197,14 @@ def _impact_series(casefile: Casefile) -> dict[str, tuple[int | None, str, str]]
     return out
 
 
-def _but_for_each(casefile: Casefile) -> dict[str, tuple[int | None, str, str]]:
-    """Each event's own but-for case, removed from the latest as-built schedule: (days, represented as, reason)."""
+def _but_for_each(casefile: Casefile, cache: RunCache) -> dict[str, tuple[int | None, str, str]]:
+    """Each event's own but-for case, removed from the latest as-built schedule: (days, represented as, reason).
+
+    The as-built schedule is built once for all the events (``cache``).
+    """
     out: dict[str, tuple[int | None, str, str]] = {}
     for e in casefile.events:
-        report = but_for(casefile, event=e.id)
+        report = but_for(casefile, event=e.id, cache=cache)
         case = report.cases[0]
         rep = next((d for d in report.as_built.events if d.event == e.id), None)
         how = rep.how if rep is not None else "not-represented"
@@ -316,7 +319,7 @@ def delay_summary(
     step("time impact series")
     in_series = _impact_series(casefile)
     step("but-for case of each event")
-    butfor = _but_for_each(casefile)
+    butfor = _but_for_each(casefile, cache)
     events = []
     for e in casefile.events:
         w = own.get(e.id, 0)
