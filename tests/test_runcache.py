@@ -8,6 +8,7 @@ import pytest
 
 from forensic.analysis.attribution.delay import analyse_delay, delay_json
 from forensic.analysis.butfor import but_for, but_for_json
+from forensic.analysis.impact import time_impact_series, time_impacts
 from forensic.analysis.runcache import RunCache
 from forensic.analysis.windows import analyse_windows, auto_boundaries
 from forensic.casefile.demo import demo_source
@@ -79,3 +80,11 @@ def test_but_for_each_event_from_one_as_built_equals_each_afresh(demo):
     assert all(r.as_built is reports[0].as_built for r in reports)  # built once
     for e, r in zip(demo.events, reports, strict=True):
         assert dumps_json(but_for_json(r)) == dumps_json(but_for_json(but_for(demo, event=e.id)))
+
+
+def test_time_impacts_and_the_series_with_the_cache_equal_them_afresh(demo):
+    cache = RunCache()
+    analyse_windows(demo, cache=cache)  # the updates' schedules, as the delay summary leaves them
+    ids = [e.id for e in demo.events]
+    assert time_impacts(demo, ids, cache=cache) == time_impacts(demo, ids)
+    assert time_impact_series(demo, cache=cache) == time_impact_series(demo)

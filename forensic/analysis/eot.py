@@ -169,9 +169,9 @@ def windows_by_event(delay: DelayAnalysis) -> tuple[dict[str, int], dict[str, in
     return own, shared, rest
 
 
-def _impact_alone(casefile: Casefile) -> tuple[dict[str, tuple[int | None, str, str]], dict[str, str]]:
+def _impact_alone(casefile: Casefile, cache: RunCache) -> tuple[dict[str, tuple[int | None, str, str]], dict[str, str]]:
     """Each event's time impact alone: (days, represented as, reason), and the update each went into."""
-    series = time_impacts(casefile, [e.id for e in casefile.events])
+    series = time_impacts(casefile, [e.id for e in casefile.events], cache=cache)
     out: dict[str, tuple[int | None, str, str]] = {}
     into = {r.event: r.into for r in series.individual if r.represented_as != "not-represented"}
     for r in series.individual:
@@ -184,9 +184,9 @@ def _impact_alone(casefile: Casefile) -> tuple[dict[str, tuple[int | None, str, 
     return out, into
 
 
-def _impact_series(casefile: Casefile) -> dict[str, tuple[int | None, str, str]]:
+def _impact_series(casefile: Casefile, cache: RunCache) -> dict[str, tuple[int | None, str, str]]:
     """Each event's step in the contemporaneous series (AACE RP 29R-03, MIP 3.7)."""
-    series = time_impact_series(casefile)
+    series = time_impact_series(casefile, cache=cache)
     out: dict[str, tuple[int | None, str, str]] = {}
     for st in series.steps:
         if st.represented_as == "not-represented":
@@ -315,9 +315,9 @@ def delay_summary(
     delay = delay or analyse_delay(casefile, casefile.windows or None, cache=cache)
     own, shared, rest = windows_by_event(delay)
     step("time impact of each event")
-    impacts, into = _impact_alone(casefile)
+    impacts, into = _impact_alone(casefile, cache)
     step("time impact series")
-    in_series = _impact_series(casefile)
+    in_series = _impact_series(casefile, cache)
     step("but-for case of each event")
     butfor = _but_for_each(casefile, cache)
     events = []
