@@ -88,3 +88,8 @@ def test_time_impacts_and_the_series_with_the_cache_equal_them_afresh(demo):
     ids = [e.id for e in demo.events]
     assert time_impacts(demo, ids, cache=cache) == time_impacts(demo, ids)
     assert time_impact_series(demo, cache=cache) == time_impact_series(demo)
+
+
+def test_auto_windows_asked_for_by_name_with_the_cache_equal_them_afresh(demo):
+    cache = RunCache()
+    assert _text(analyse_delay(demo, ["auto"], cache=cache)) == _text(analyse_delay(demo, ["auto"]))

@@ -220,16 +220,18 @@ class WindowsAnalysis:
         return tuple(r.window for r in self.runs)
 
 
-def window_boundaries(casefile: Casefile, ids: Sequence[str] | None = None) -> tuple[str, ...]:
+def window_boundaries(casefile: Casefile, ids: Sequence[str] | None = None, *,
+                      cache: RunCache | None = None) -> tuple[str, ...]:
     """The snapshot ids that bound the windows, oldest first.
 
     With no ``ids`` (and no manifest ``windows``) every snapshot is a
     boundary. Otherwise the given ids are used, with the baseline and the
     last update added at the ends so the windows cover the whole record.
+    ``["auto"]`` asks for :func:`auto_boundaries` (``cache``: one call's window runs).
     """
     order = [s.id for s in casefile.snapshots]
     if ids is not None and list(ids) == ["auto"]:
-        return auto_boundaries(casefile)
+        return auto_boundaries(casefile, cache=cache)
     chosen = list(ids) if ids else list(casefile.windows)
     if not chosen:
         return tuple(order)
@@ -426,7 +428,7 @@ def analyse_windows(casefile: Casefile, windows: Sequence[str] | None = None, *,
     ----------
     AACE RP 29R-03, protocols 3.3 and 3.4; SCL Protocol 2nd ed., Appendix A.
     """
-    ids = window_boundaries(casefile, windows)
+    ids = window_boundaries(casefile, windows, cache=cache)
     if len(ids) < 2:
         msg = "a windows analysis needs a baseline and at least one update"
         raise WindowSpecError(msg)
