@@ -9,8 +9,10 @@ attributed to activities, events and parties, concurrency and the ledger),
 trade-off, Kelley 1961 and Fulkerson 1961), ``asbuilt`` and
 ``asbuilt_path`` (as-planned versus as-built, MIP 3.1/3.2), ``trend`` and
 ``nearcritical`` (completion trend, float erosion), ``eot`` and
-``sensitivity`` (the delay summary per event across the methods). They
-import only the core and the casefile layer.
+``sensitivity`` (the delay summary per event across the methods);
+``runcache`` (what one call computed, handed out again to its later steps,
+passed explicitly, never global). They import only the core and the
+casefile layer.
 """
 
 from forensic.core.faces import lazy_face

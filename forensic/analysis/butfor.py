@@ -84,6 +84,7 @@ from forensic.analysis.impact import (
     planned_duration,
     record_span,
 )
+from forensic.analysis.runcache import RunCache, cached_schedule
 from forensic.core.calendars import is_workday, next_workday, workdays_between
 from forensic.core.engine import ScheduleResult, schedule
 from forensic.core.errors import NotFoundError
@@ -201,8 +202,8 @@ def _start_pass_day(a: Activity, start: date) -> date:
     return start + _DAY if a.kind == "closing-milestone" else start
 
 
-def as_built(casefile: Casefile, snapshot_id: str | None = None) -> AsBuilt:
-    """Build the as-built schedule from the last update (or ``snapshot_id``).
+def as_built(casefile: Casefile, snapshot_id: str | None = None, *, cache: RunCache | None = None) -> AsBuilt:
+    """Build the as-built schedule from the last update (or ``snapshot_id``); ``cache``: one call's schedules.
 
     Returns
     -------
@@ -215,7 +216,7 @@ def as_built(casefile: Casefile, snapshot_id: str | None = None) -> AsBuilt:
     """
     src = casefile.snapshot(snapshot_id) if snapshot_id else casefile.snapshots[-1]
     cals, project = casefile.calendars, casefile.project
-    forecast = schedule(src, cals, project)
+    forecast = cached_schedule(cache, casefile, src)
     acts: dict[str, Activity] = {}
     target: dict[str, date] = {}
     for aid, a in src.activities.items():
@@ -369,14 +370,15 @@ def bridge_links(links: Sequence[Link], removed: set[str]) -> list[Link]:
     return current
 
 
-def remove_events(casefile: Casefile, built: AsBuilt, event_ids: Iterable[str]) -> tuple[Snapshot, tuple[str, ...]]:
+def remove_events(casefile: Casefile, built: AsBuilt, event_ids: Iterable[str], *,
+                  cache: RunCache | None = None) -> tuple[Snapshot, tuple[str, ...]]:
     """The as-built network with these events' delays taken out, and the ids not represented.
 
     A fragnet's activities are deleted and their links bridged; a task an
     event cost days (stated or estimated) is shortened by them, at least to
     one day. Estimated days of several events on one task are capped
     together (:func:`_estimate_cap`); no event is removed as a total
-    stoppage of the work it names.
+    stoppage of the work it names. ``cache``: one call's schedules.
 
     References
     ----------
@@ -407,7 +409,7 @@ def remove_events(casefile: Casefile, built: AsBuilt, event_ids: Iterable[str]) 
                 estimated_by.setdefault(aid, []).append(ev)
         else:
             missing.append(ev.id)
-    record = schedule(src, casefile.calendars, casefile.project) if estimated else None
+    record = cached_schedule(cache, casefile, src) if estimated else None
     for aid in set(stated) | set(estimated):
         if aid not in acts or aid in drop:
             continue
@@ -426,9 +428,9 @@ def remove_events(casefile: Casefile, built: AsBuilt, event_ids: Iterable[str]) 
 
 
 def _case(casefile: Casefile, built: AsBuilt, label: str, events: Sequence[str],
-          baseline_completion: date | None = None) -> ButForCase:
+          baseline_completion: date | None = None, cache: RunCache | None = None) -> ButForCase:
     cals, project = casefile.calendars, casefile.project
-    net, missing = remove_events(casefile, built, events)
+    net, missing = remove_events(casefile, built, events, cache=cache)
     r = schedule(net, cals, project)
     comp = built.schedule.completion_id
     after = r[comp].early_finish if comp in r.activities else r.completion
@@ -475,6 +477,7 @@ def but_for(
     party: str | None = None,
     event: str | None = None,
     snapshot_id: str | None = None,
+    cache: RunCache | None = None,
 ) -> ButForReport:
     """Collapse the as-built schedule: without one party's delays, one event's, or each in turn.
 
@@ -487,6 +490,9 @@ def but_for(
         Remove this one event (one case).
     snapshot_id : str, optional
         Build the as-built from this snapshot instead of the last.
+    cache : RunCache, optional
+        One call's cache (:mod:`forensic.analysis.runcache`): a caller that
+        asks for one case at a time builds the as-built schedule once.
 
     Returns
     -------
@@ -511,15 +517,17 @@ def but_for(
     if party is not None and event is not None:
         msg = "choose one of a party and an event to remove, not both"
         raise ValueError(msg)
-    built = as_built(casefile, snapshot_id)
-    cals, project = casefile.calendars, casefile.project
-    planned = schedule(casefile.baseline, cals, project).completion
+    if cache is None:
+        built = as_built(casefile, snapshot_id)
+    else:
+        built = cache.get(casefile, "as-built", (), lambda: as_built(casefile, snapshot_id, cache=cache), extra=snapshot_id)
+    planned = cached_schedule(cache, casefile, casefile.baseline).completion
     cases = []
     overlap = None
     note = ""
     if event is not None:
         ev = casefile.event(event)
-        cases.append(_case(casefile, built, f"event {ev.id}", [ev.id], planned))
+        cases.append(_case(casefile, built, f"event {ev.id}", [ev.id], planned, cache))
     elif party is not None:
         if party not in casefile.parties:
             known = ", ".join(casefile.parties) or "none"

@@ -41,6 +41,7 @@ from forensic.analysis.attribution.contributors import UNASSIGNED
 from forensic.analysis.attribution.delay import DelayAnalysis, analyse_delay
 from forensic.analysis.butfor import but_for
 from forensic.analysis.impact import time_impact_series, time_impacts
+from forensic.analysis.runcache import RunCache
 from forensic.analysis.sensitivity import SensitivityRow, sensitivity_rows
 from forensic.core.errors import NotFoundError
 from forensic.core.model import Casefile, frozen_mapping
@@ -168,9 +169,9 @@ def windows_by_event(delay: DelayAnalysis) -> tuple[dict[str, int], dict[str, in
     return own, shared, rest
 
 
-def _impact_alone(casefile: Casefile) -> tuple[dict[str, tuple[int | None, str, str]], dict[str, str]]:
+def _impact_alone(casefile: Casefile, cache: RunCache) -> tuple[dict[str, tuple[int | None, str, str]], dict[str, str]]:
     """Each event's time impact alone: (days, represented as, reason), and the update each went into."""
-    series = time_impacts(casefile, [e.id for e in casefile.events])
+    series = time_impacts(casefile, [e.id for e in casefile.events], cache=cache)
     out: dict[str, tuple[int | None, str, str]] = {}
     into = {r.event: r.into for r in series.individual if r.represented_as != "not-represented"}
     for r in series.individual:
@@ -183,9 +184,9 @@ def _impact_alone(casefile: Casefile) -> tuple[dict[str, tuple[int | None, str, 
     return out, into
 
 
-def _impact_series(casefile: Casefile) -> dict[str, tuple[int | None, str, str]]:
+def _impact_series(casefile: Casefile, cache: RunCache) -> dict[str, tuple[int | None, str, str]]:
     """Each event's step in the contemporaneous series (AACE RP 29R-03, MIP 3.7)."""
-    series = time_impact_series(casefile)
+    series = time_impact_series(casefile, cache=cache)
     out: dict[str, tuple[int | None, str, str]] = {}
     for st in series.steps:
         if st.represented_as == "not-represented":
@@ -196,11 +197,14 @@ def _impact_series(casefile: Casefile) -> dict[str, tuple[int | None, str, str]]
     return out
 
 
-def _but_for_each(casefile: Casefile) -> dict[str, tuple[int | None, str, str]]:
-    """Each event's own but-for case, removed from the latest as-built schedule: (days, represented as, reason)."""
+def _but_for_each(casefile: Casefile, cache: RunCache) -> dict[str, tuple[int | None, str, str]]:
+    """Each event's own but-for case, removed from the latest as-built schedule: (days, represented as, reason).
+
+    The as-built schedule is built once for all the events (``cache``).
+    """
     out: dict[str, tuple[int | None, str, str]] = {}
     for e in casefile.events:
-        report = but_for(casefile, event=e.id)
+        report = but_for(casefile, event=e.id, cache=cache)
         case = report.cases[0]
         rep = next((d for d in report.as_built.events if d.event == e.id), None)
         how = rep.how if rep is not None else "not-represented"
@@ -306,15 +310,16 @@ def delay_summary(
     if not casefile.events:
         msg = "the casefile records no event; there is nothing to summarise per event"
         raise NotFoundError(msg)
+    cache = RunCache()  # this call's: the methods and sensitivity rows share their schedules
     step("windows analysis")
-    delay = delay or analyse_delay(casefile, casefile.windows or None)
+    delay = delay or analyse_delay(casefile, casefile.windows or None, cache=cache)
     own, shared, rest = windows_by_event(delay)
     step("time impact of each event")
-    impacts, into = _impact_alone(casefile)
+    impacts, into = _impact_alone(casefile, cache)
     step("time impact series")
-    in_series = _impact_series(casefile)
+    in_series = _impact_series(casefile, cache)
     step("but-for case of each event")
-    butfor = _but_for_each(casefile)
+    butfor = _but_for_each(casefile, cache)
     events = []
     for e in casefile.events:
         w = own.get(e.id, 0)
@@ -350,7 +355,7 @@ def delay_summary(
              ("impact", "but_for")]
     recon = tuple(_reconcile(events, a, b, into, rest["concurrent"]) for a, b in pairs)
     tolerance = max(2, round(abs(slip) * 0.1))
-    sens = sensitivity_rows(casefile, delay, tolerance, step) if sensitivity else ()
+    sens = sensitivity_rows(casefile, delay, tolerance, step, cache=cache) if sensitivity else ()
     comp = {
         "baseline": delay.ledger.baseline_completion,
         "latest": delay.ledger.last_completion,

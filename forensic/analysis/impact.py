@@ -62,6 +62,7 @@ from datetime import date, timedelta
 
 import networkx as nx
 
+from forensic.analysis.runcache import RunCache, cached_schedule
 from forensic.core.calendars import workdays_between
 from forensic.core.engine import ScheduleResult, schedule, topological_order
 from forensic.core.errors import FragnetError, NotFoundError
@@ -648,10 +649,11 @@ def _compare(
     holds: Sequence[HoldUp],
     warnings: Sequence[str],
     reps: Sequence[Representation] = (),
+    cache: RunCache | None = None,
 ) -> ImpactResult:
     cals, project = casefile.calendars, casefile.project
-    before = schedule(before_snap, cals, project)
-    after = schedule(after_snap, cals, project)
+    before = cached_schedule(cache, casefile, before_snap)
+    after = cached_schedule(cache, casefile, after_snap)
     comp = before.completion_id
     comp_after = after[comp].early_finish
     milestones = []
@@ -702,6 +704,7 @@ def time_impact(
     into: str | None = None,
     progress_to_event: bool = False,
     record: ScheduleResult | None = None,
+    cache: RunCache | None = None,
 ) -> ImpactResult:
     """The time impact of one event (or several, inserted together in date order).
 
@@ -717,6 +720,10 @@ def time_impact(
     progress_to_event : bool
         Bring the unimpacted schedule to the event's start first, assuming
         work proceeds as planned in it (:func:`progress_to`).
+    record : ScheduleResult, optional
+        The last update's schedule, when the caller has it.
+    cache : RunCache, optional
+        One call's schedules (:mod:`forensic.analysis.runcache`).
 
     Returns
     -------
@@ -744,7 +751,7 @@ def time_impact(
         base = progress_to(snap, cals, project, events[-1].start)
     label = "+".join(e.id for e in events)
     when = events[-1].start if progress_to_event and events[-1].start > snap.data_date else None
-    return _compare(casefile, label, snap, when, base, after, inserted, holds, warnings, reps)
+    return _compare(casefile, label, snap, when, base, after, inserted, holds, warnings, reps, cache)
 
 
 def time_impacts(
@@ -753,6 +760,7 @@ def time_impacts(
     *,
     into: str | None = None,
     progress_to_event: bool = False,
+    cache: RunCache | None = None,
 ) -> ImpactSeries:
     """Several events, each alone and cumulatively in date order (AACE RP 29R-03, MIP 3.6/3.7).
 
@@ -771,6 +779,7 @@ def time_impacts(
     practice; SCL Protocol 2nd ed.). When the individual analyses use
     different snapshots, the difference also holds the change of schedule
     between those snapshots; name one with ``into`` to keep only the first.
+    ``cache``: one call's schedules (:mod:`forensic.analysis.runcache`).
     """
     if event_ids is None:
         event_ids = [e.id for e in casefile.events if e.fragnet or e.activities]
@@ -779,9 +788,10 @@ def time_impacts(
         raise NotFoundError(msg)
     events = sorted((casefile.event(e) for e in event_ids), key=lambda e: (e.start, e.id))
     cals, project = casefile.calendars, casefile.project
-    record = schedule(casefile.snapshots[-1], cals, project)
+    record = cached_schedule(cache, casefile, casefile.snapshots[-1])
     individual = tuple(
-        time_impact(casefile, e.id, into=into, progress_to_event=progress_to_event, record=record) for e in events
+        time_impact(casefile, e.id, into=into, progress_to_event=progress_to_event, record=record, cache=cache)
+        for e in events
     )
     snap = casefile.snapshot(into) if into else unimpacted_snapshot(casefile, events[0])
     steps = []
@@ -789,14 +799,14 @@ def time_impacts(
     for ev in events:
         if progress_to_event:
             current = progress_to(current, cals, project, ev.start)
-        before = schedule(current, cals, project)
+        before = cached_schedule(cache, casefile, current)
         current, _, _, _, _ = _impose(casefile, current, [ev], False, record)
-        after = schedule(current, cals, project)
+        after = cached_schedule(cache, casefile, current)
         done = after[before.completion_id].early_finish
         steps.append(CumulativeStep(ev.id, ev.start, before.completion, done,
                                     delay_between(project, cals, before.completion, done)))
     cumulative = time_impact(casefile, [e.id for e in events], into=snap.id, progress_to_event=progress_to_event,
-                             record=record)
+                             record=record, cache=cache)
     total = sum(r.impact for r in individual)
     # The cumulative run puts every event into one update; an event that
     # starts after a later update exists is then inserted into a schedule
@@ -823,6 +833,7 @@ def time_impact_series(
     event_ids: Sequence[str] | None = None,
     *,
     progress_to_event: bool = False,
+    cache: RunCache | None = None,
 ) -> ContemporaneousSeries:
     """The contemporaneous time impact series (AACE RP 29R-03, MIP 3.7, modelled / additive / multiple base).
 
@@ -838,6 +849,7 @@ def time_impact_series(
 
     ``event_ids`` defaults to every event. With ``progress_to_event`` each
     step first brings its schedule to the event's start, as planned.
+    ``cache``: one call's schedules (:mod:`forensic.analysis.runcache`).
 
     References
     ----------
@@ -851,7 +863,7 @@ def time_impact_series(
         raise NotFoundError(msg)
     events = sorted((casefile.event(e) for e in ids), key=lambda e: (e.start, e.id))
     cals, project = casefile.calendars, casefile.project
-    record = schedule(casefile.snapshots[-1], cals, project)
+    record = cached_schedule(cache, casefile, casefile.snapshots[-1])
     steps: list[SeriesStep] = []
     warnings: list[str] = []
     current: Snapshot | None = None
@@ -863,9 +875,9 @@ def time_impact_series(
         base = current if carried else snap
         if progress_to_event:
             base = progress_to(base, cals, project, ev.start)
-        before = schedule(base, cals, project)
+        before = cached_schedule(cache, casefile, base)
         current, _, _, w, reps = _impose(casefile, base, [ev], False, record)
-        after = schedule(current, cals, project)
+        after = cached_schedule(cache, casefile, current)
         done = after[before.completion_id].early_finish
         impact = delay_between(project, cals, before.completion, done)
         total += impact
@@ -875,7 +887,7 @@ def time_impact_series(
         steps.append(SeriesStep(ev.id, snap.id, before.completion, done, impact,
                                 "+".join(r.how for r in reps), total, carried))
         into = snap.id
-    first = schedule(casefile.baseline, cals, project)
+    first = cached_schedule(cache, casefile, casefile.baseline)
     windows_total = delay_between(project, cals, first.completion, record[first.completion_id].early_finish
                                   if first.completion_id in record.activities else record.completion)
     return ContemporaneousSeries(_unit(project), tuple(steps), total, windows_total, total - windows_total,

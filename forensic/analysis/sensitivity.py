@@ -15,6 +15,7 @@ from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, replace
 
 from forensic.analysis.attribution.delay import DelayAnalysis, analyse_delay
+from forensic.analysis.runcache import RunCache
 from forensic.analysis.windows import auto_boundaries
 from forensic.core.model import Casefile, frozen_mapping
 
@@ -60,8 +61,15 @@ def _row(setting: str, value: str, delay: DelayAnalysis, base: Mapping[str, int]
 
 
 def sensitivity_rows(casefile: Casefile, base: DelayAnalysis, tolerance: int,
-                     progress: Callable[[str], None]) -> tuple[SensitivityRow, ...]:
-    """The ``as analysed`` row of ``base``, then one row per alternative setting (see the module notes)."""
+                     progress: Callable[[str], None], *, cache: RunCache | None = None) -> tuple[SensitivityRow, ...]:
+    """The ``as analysed`` row of ``base``, then one row per alternative setting (see the module notes).
+
+    ``cache`` (the caller's :class:`~forensic.analysis.runcache.RunCache`)
+    lets the rows share what they have in common: the schedules of the
+    same updates under the same settings, the windows a grouping shares
+    with another, and everything but the treatment of the concurrent days
+    for a row that changes only the concurrency rule.
+    """
     runs = base.windows.runs
     bounds = [r.window.from_id for r in runs] + [runs[-1].window.to_id]
     first = _row("as analysed", "windows at " + ", ".join(bounds), base, None, tolerance)
@@ -73,7 +81,7 @@ def sensitivity_rows(casefile: Casefile, base: DelayAnalysis, tolerance: int,
         variants.append(("window grouping", "every update", casefile, monthly))
     if _quarterly(casefile) != tuple(bounds) and len(monthly) > 3:
         variants.append(("window grouping", "quarterly (every third update)", casefile, _quarterly(casefile)))
-    auto = auto_boundaries(casefile)
+    auto = auto_boundaries(casefile, cache=cache)
     if tuple(auto) != tuple(bounds):
         variants.append(("window grouping", "auto (at the updates where the driving path changes)", casefile, auto))
     other = "override" if casefile.project.progress_logic == "retained" else "retained"
@@ -89,6 +97,6 @@ def sensitivity_rows(casefile: Casefile, base: DelayAnalysis, tolerance: int,
                              replace(casefile, project=replace(casefile.project, concurrency=rule)), None))
     for setting, value, cf, bounds in variants:
         progress(f"sensitivity: {setting} {value}")
-        delay = analyse_delay(cf, bounds)
+        delay = analyse_delay(cf, bounds, cache=cache)
         rows.append(_row(setting, value, delay, ref, tolerance))
     return tuple(rows)

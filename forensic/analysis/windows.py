@@ -52,6 +52,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass, replace
 from datetime import date, timedelta
 
+from forensic.analysis.runcache import RunCache
 from forensic.core.calendars import workdays_between
 from forensic.core.engine import ScheduleResult, schedule
 from forensic.core.errors import NotFoundError, WindowSpecError
@@ -219,16 +220,18 @@ class WindowsAnalysis:
         return tuple(r.window for r in self.runs)
 
 
-def window_boundaries(casefile: Casefile, ids: Sequence[str] | None = None) -> tuple[str, ...]:
+def window_boundaries(casefile: Casefile, ids: Sequence[str] | None = None, *,
+                      cache: RunCache | None = None) -> tuple[str, ...]:
     """The snapshot ids that bound the windows, oldest first.
 
     With no ``ids`` (and no manifest ``windows``) every snapshot is a
     boundary. Otherwise the given ids are used, with the baseline and the
     last update added at the ends so the windows cover the whole record.
+    ``["auto"]`` asks for :func:`auto_boundaries` (``cache``: one call's window runs).
     """
     order = [s.id for s in casefile.snapshots]
     if ids is not None and list(ids) == ["auto"]:
-        return auto_boundaries(casefile)
+        return auto_boundaries(casefile, cache=cache)
     chosen = list(ids) if ids else list(casefile.windows)
     if not chosen:
         return tuple(order)
@@ -247,16 +250,18 @@ def window_boundaries(casefile: Casefile, ids: Sequence[str] | None = None) -> t
     return tuple(chosen)
 
 
-def auto_boundaries(casefile: Casefile) -> tuple[str, ...]:
+def auto_boundaries(casefile: Casefile, *, cache: RunCache | None = None) -> tuple[str, ...]:
     """Window boundaries at the updates where the driving path changes (``--windows auto``).
 
     Every monthly window is run; an update closes a window when the monthly
     window ending there has its critical path switched (:attr:`Window.path_switched`),
     so each grouped window keeps one driving path (AACE RP 29R-03 protocol
     3.3, windows drawn at changes of the critical path; from memory).
+    ``cache`` (one call's :class:`~forensic.analysis.runcache.RunCache`)
+    hands out the monthly windows already run.
     """
     order = [s.id for s in casefile.snapshots]
-    an = analyse_windows(casefile, order)
+    an = analyse_windows(casefile, order, cache=cache)
     cut = [w.to_id for w in an.windows if w.path_switched]
     chosen = [order[0], *(c for c in cut if c != order[0])]
     if chosen[-1] != order[-1]:
@@ -395,7 +400,8 @@ def window_run(casefile: Casefile, earlier: Snapshot, later: Snapshot, sched=Non
     return WindowRun(w, earlier, later, hs.snapshot, before, mid, after)
 
 
-def analyse_windows(casefile: Casefile, windows: Sequence[str] | None = None) -> WindowsAnalysis:
+def analyse_windows(casefile: Casefile, windows: Sequence[str] | None = None, *,
+                    cache: RunCache | None = None) -> WindowsAnalysis:
     """Run the windows analysis with the half-step split over a casefile.
 
     Parameters
@@ -405,6 +411,9 @@ def analyse_windows(casefile: Casefile, windows: Sequence[str] | None = None) ->
     windows : sequence of snapshot ids, optional
         Window boundaries (see :func:`window_boundaries`); default: one
         window per pair of consecutive snapshots.
+    cache : RunCache, optional
+        One call's cache (:mod:`forensic.analysis.runcache`): each window
+        run, and each snapshot's schedule, is computed once for the call.
 
     Returns
     -------
@@ -419,21 +428,27 @@ def analyse_windows(casefile: Casefile, windows: Sequence[str] | None = None) ->
     ----------
     AACE RP 29R-03, protocols 3.3 and 3.4; SCL Protocol 2nd ed., Appendix A.
     """
-    ids = window_boundaries(casefile, windows)
+    ids = window_boundaries(casefile, windows, cache=cache)
     if len(ids) < 2:
         msg = "a windows analysis needs a baseline and at least one update"
         raise WindowSpecError(msg)
     count = unit_counter(casefile)
-    cache: dict[str, ScheduleResult] = {}
+    done: dict[str, ScheduleResult] = {}
 
     def sched(snap: Snapshot) -> ScheduleResult:
-        if snap.id not in cache:
-            cache[snap.id] = schedule(snap, casefile.calendars, casefile.project)
-        return cache[snap.id]
+        if cache is not None:
+            return cache.schedule(casefile, snap)
+        if snap.id not in done:
+            done[snap.id] = schedule(snap, casefile.calendars, casefile.project)
+        return done[snap.id]
 
     runs = []
     for a_id, b_id in zip(ids, ids[1:], strict=False):
-        runs.append(window_run(casefile, casefile.snapshot(a_id), casefile.snapshot(b_id), sched))
+        a, b = casefile.snapshot(a_id), casefile.snapshot(b_id)
+        if cache is None:
+            runs.append(window_run(casefile, a, b, sched))
+        else:
+            runs.append(cache.get(casefile, "window run", (a, b), lambda a=a, b=b: window_run(casefile, a, b, sched)))
     first, last = runs[0].before, runs[-1].after
     return WindowsAnalysis(
         unit=casefile.project.delay_unit,

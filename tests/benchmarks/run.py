@@ -5,6 +5,7 @@ the repository root::
 
     python tests/benchmarks/run.py                      # the whole ladder
     python tests/benchmarks/run.py --sizes 1000,5000 --skip-windows --out /tmp/b.json
+    python tests/benchmarks/run.py --sizes "" --skip-end-to-end --skip-windows --skip-report   # start-up, eot/windows
 
 Each case runs in a fresh subprocess, so its peak memory (``ru_maxrss``) is
 its own. Times are medians of ``--runs`` runs. The CPM figure is a full
@@ -144,6 +145,34 @@ def case_startup(runs: int) -> dict:
     return {"forensic_help_s": forensic_s, "import_click_s": click_s, "ratio": forensic_s / click_s}
 
 
+def case_eot_ratio(runs: int) -> dict:
+    """``forensic eot --json`` against ``forensic windows --json`` on the demo casefile (issue 18 target: <= 3x).
+
+    The two commands run in turn, ``runs`` times each, so a change of load
+    on the machine falls on both; the medians of wall time, and of the CPU
+    time (user + system) of each child, are quoted.
+    """
+    py, demo = sys.executable, str(ROOT / "casefiles" / "riverside")
+    cmds = {"eot": [py, "-m", "forensic", "eot", demo, "--json"],
+            "windows": [py, "-m", "forensic", "windows", demo, "--json"]}
+    env = {**os.environ, "PYTHONPATH": str(ROOT)}  # this checkout's package, not an installed copy
+    wall: dict[str, list[float]] = {k: [] for k in cmds}
+    cpu: dict[str, list[float]] = {k: [] for k in cmds}
+    for _ in range(runs):
+        for name, cmd in cmds.items():
+            before = resource.getrusage(resource.RUSAGE_CHILDREN)
+            t = time.perf_counter()
+            subprocess.run(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, check=True, cwd=ROOT, env=env)
+            wall[name].append(time.perf_counter() - t)
+            after = resource.getrusage(resource.RUSAGE_CHILDREN)
+            cpu[name].append(after.ru_utime - before.ru_utime + after.ru_stime - before.ru_stime)
+    med = {k: statistics.median(v) for k, v in wall.items()}
+    med_cpu = {k: statistics.median(v) for k, v in cpu.items()}
+    return {"eot_s": med["eot"], "windows_s": med["windows"], "ratio": med["eot"] / med["windows"],
+            "eot_cpu_s": med_cpu["eot"], "windows_cpu_s": med_cpu["windows"],
+            "cpu_ratio": med_cpu["eot"] / med_cpu["windows"], "eot_runs_s": wall["eot"], "windows_runs_s": wall["windows"]}
+
+
 def case_end_to_end(n: int, runs: int) -> dict:
     """``forensic schedule --json`` end to end on n activities, against csv + networkx dag_longest_path in one run.
 
@@ -207,6 +236,7 @@ def main() -> None:
     ap.add_argument("--arg", help=argparse.SUPPRESS)
     ap.add_argument("--end-to-end-size", type=int, default=50000)
     ap.add_argument("--skip-end-to-end", action="store_true")
+    ap.add_argument("--skip-eot", action="store_true", help="skip the eot / windows ratio on the demo")
     a = ap.parse_args()
     if a.case == "cpm":
         print(json.dumps(case_cpm(int(a.arg), a.runs)))
@@ -235,6 +265,12 @@ def main() -> None:
         results["end_to_end"] = r
         print(f"end to end: forensic schedule --json on {r['activities']} activities {r['forensic_schedule_json_s']:.2f} s, "
               f"csv + networkx dag_longest_path {r['csv_networkx_s']:.2f} s: {r['ratio']:.2f}x")
+    if not a.skip_eot:
+        r = case_eot_ratio(max(3, min(a.runs, 5)))
+        results["eot_ratio"] = r
+        print(f"demo eot / windows: forensic eot --json {r['eot_s']:.2f} s, forensic windows --json "
+              f"{r['windows_s']:.2f} s: {r['ratio']:.2f}x (CPU {r['eot_cpu_s']:.2f} s / {r['windows_cpu_s']:.2f} s: "
+              f"{r['cpu_ratio']:.2f}x)")
     if not a.skip_windows:
         from forensic.casefile.synthetic import generate_casefile
         from forensic.casefile.writing import write_casefile

@@ -28,7 +28,7 @@ core principles 10 and paras. 10-11.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import replace
+from dataclasses import dataclass, replace
 from datetime import timedelta
 from typing import Any
 
@@ -72,6 +72,7 @@ from forensic.analysis.attribution.results import (
     WindowAttribution,
 )
 from forensic.analysis.attribution.revision import revision_shares
+from forensic.analysis.runcache import RunCache
 from forensic.analysis.windows import (
     WindowRun,
     analyse_windows,
@@ -149,7 +150,7 @@ def _pacing(ctx, chain, revision) -> tuple[Pacing, ...]:
 # --- one window, all windows ---------------------------------------------------------
 
 
-def attribute_window(casefile: Casefile, run: WindowRun) -> WindowAttribution:
+def attribute_window(casefile: Casefile, run: WindowRun, *, cache: RunCache | None = None) -> WindowAttribution:
     """Attribute every day of one window's slip.
 
     The rules are in the module notes of :mod:`forensic.analysis.attribution.contributors`
@@ -170,6 +171,10 @@ def attribute_window(casefile: Casefile, run: WindowRun) -> WindowAttribution:
         Supplies events, parties, fragnets, calendars and the delay unit.
     run : WindowRun
         One window of :func:`forensic.analysis.windows.analyse_windows`.
+    cache : RunCache, optional
+        One call's cache (:mod:`forensic.analysis.runcache`): the attribution
+        before the concurrency rule is computed once per window and
+        settings, so a second rule only re-treats the concurrent days.
 
     Returns
     -------
@@ -180,16 +185,17 @@ def attribute_window(casefile: Casefile, run: WindowRun) -> WindowAttribution:
     AACE RP 29R-03, protocol 3.4 and sec. 4; SCL Protocol 2nd ed., core
     principle 10 and para. 11.
     """
-    float_used = window_float_use(casefile, run)
-    cuts = slice_cuts(casefile, run.window.start, run.window.end)
-    if not cuts:
-        return replace(_attribute_slice(casefile, run, run.window.label), float_used=float_used)
-    snaps = [run.earlier, *(slice_snapshot(casefile, run.earlier, run.later, t) for t in cuts), run.later]
-    runs = [window_run(casefile, a, b) for a, b in zip(snaps, snaps[1:], strict=False)]
-    # the revisions are all in the last slice (the later update's plan): an
-    # event of any slice of the window may have brought them in
-    runs[-1] = replace(runs[-1], revision_start=run.window.start)
-    parts = [_attribute_slice(casefile, r, run.window.label) for r in runs]
+    if cache is None:
+        found = _window_found(casefile, run, None)
+        float_used = window_float_use(casefile, run)
+    else:
+        found = cache.get(casefile, "attribution before the rule", (run.earlier, run.later),
+                          lambda: _window_found(casefile, run, cache), extra=run.revision_start)
+        float_used = cache.get(casefile, "float used", (run.earlier, run.later),
+                               lambda: window_float_use(casefile, run), extra=run.revision_start)
+    parts = [_attribute_slice(casefile, f, run.window.label) for f in found]
+    if len(parts) == 1:
+        return replace(parts[0], float_used=float_used)
     by_party: dict[str, int] = {}
     for part in parts:
         for k, d in part.by_party.items():
@@ -232,21 +238,54 @@ def _sum_maps(maps) -> dict[str, int]:
     return out
 
 
-def _attribute_slice(casefile: Casefile, run: WindowRun, label: str) -> WindowAttribution:
-    """Attribute one slice (or a whole window with no cut) by the rules of the module notes."""
+@dataclass(frozen=True, slots=True)
+class _Found:
+    """One slice's attribution before the concurrency rule: it does not depend on the rule."""
+
+    run: WindowRun
+    chain: tuple[Contributor, ...]
+    revision: tuple[RevisionShare, ...]
+    unattributed: int
+    pacing: tuple[Pacing, ...]
+    concurrency: Concurrency
+
+
+def _window_found(casefile: Casefile, run: WindowRun, cache: RunCache | None) -> tuple[_Found, ...]:
+    """Each slice of a window (the whole window when there is no cut), attributed up to the rule."""
+    cuts = slice_cuts(casefile, run.window.start, run.window.end)
+    if not cuts:
+        return (_find_slice(casefile, run),)
+    snaps = [run.earlier, *(slice_snapshot(casefile, run.earlier, run.later, t) for t in cuts), run.later]
+    sched = None if cache is None else (lambda snap: cache.schedule(casefile, snap))
+    runs = [window_run(casefile, a, b, sched) for a, b in zip(snaps, snaps[1:], strict=False)]
+    # the revisions are all in the last slice (the later update's plan): an
+    # event of any slice of the window may have brought them in
+    runs[-1] = replace(runs[-1], revision_start=run.window.start)
+    return tuple(_find_slice(casefile, r) for r in runs)
+
+
+def _find_slice(casefile: Casefile, run: WindowRun) -> _Found:
+    """The contributors, revision shares, pacing and concurrency test of one slice (module notes)."""
     ctx = window_context(casefile, run)
-    w = run.window
-    steps = split_slip(ctx, run.half_result.completion_id, w.progress_slip, local=False)
+    steps = split_slip(ctx, run.half_result.completion_id, run.window.progress_slip, local=False)
     chain = [c for aid, d in reversed(steps) if d for c in attribute_days(ctx, aid, d)]
     revision, unattributed = revision_shares(ctx)
     pacing = _pacing(ctx, chain, revision)
     conc = find_concurrency(ctx, chain, revision)
+    return _Found(run, tuple(chain), revision, unattributed, pacing, conc)
+
+
+def _attribute_slice(casefile: Casefile, found: _Found, label: str) -> WindowAttribution:
+    """One slice attributed: its concurrent days treated by the casefile's rule (module notes)."""
+    run, w = found.run, found.run.window
+    revision = found.revision
+    conc = replace(found.concurrency, rule=casefile.project.concurrency)
     if conc.days:
-        contributors, shares = take_concurrent(chain, revision, conc)
+        contributors, shares = take_concurrent(list(found.chain), revision, conc)
         contributors, shares, conc = resolve_concurrency(casefile, contributors, shares, conc)
         revision = tuple(shares)
     else:
-        contributors = chain
+        contributors = list(found.chain)
     by_party: dict[str, int] = {}
     for c in contributors:
         if c.category != CONCURRENT:
@@ -254,6 +293,7 @@ def _attribute_slice(casefile: Casefile, run: WindowRun, label: str) -> WindowAt
     for s in revision:
         if s.category != CONCURRENT:
             by_party[s.party] = by_party.get(s.party, 0) + s.days
+    unattributed = found.unattributed
     if unattributed:
         by_party[UNATTRIBUTED_REVISION] = unattributed
     by_party = {k: d for k, d in by_party.items() if d}
@@ -263,7 +303,7 @@ def _attribute_slice(casefile: Casefile, run: WindowRun, label: str) -> WindowAt
         + [SliceDelay(" ".join(s.activities), s.event, s.party, s.days) for s in revision if s.days]
     )
     return WindowAttribution(
-        pacing=pacing,
+        pacing=found.pacing,
         window_label=label,
         slices=(Slice(w.start, w.end, run.half_result.longest_path, delays),),
         contributors=tuple(contributors),
@@ -275,7 +315,8 @@ def _attribute_slice(casefile: Casefile, run: WindowRun, label: str) -> WindowAt
     )
 
 
-def analyse_delay(casefile: Casefile, windows: Sequence[str] | None = None) -> DelayAnalysis:
+def analyse_delay(casefile: Casefile, windows: Sequence[str] | None = None, *,
+                  cache: RunCache | None = None) -> DelayAnalysis:
     """The windows analysis with the half-step split, attribution, concurrency and the ledger.
 
     Parameters
@@ -283,6 +324,9 @@ def analyse_delay(casefile: Casefile, windows: Sequence[str] | None = None) -> D
     casefile : Casefile
     windows : sequence of snapshot ids, optional
         Window boundaries (see :func:`forensic.analysis.windows.window_boundaries`).
+    cache : RunCache, optional
+        One call's cache (:mod:`forensic.analysis.runcache`), for a caller
+        that runs the analysis more than once (the sensitivity rows).
 
     Returns
     -------
@@ -294,8 +338,8 @@ def analyse_delay(casefile: Casefile, windows: Sequence[str] | None = None) -> D
     ----------
     AACE RP 29R-03, protocols 3.3 and 3.4; SCL Protocol 2nd ed.
     """
-    an = analyse_windows(casefile, windows)
-    atts = tuple(attribute_window(casefile, run) for run in an.runs)
+    an = analyse_windows(casefile, windows, cache=cache)
+    atts = tuple(attribute_window(casefile, run, cache=cache) for run in an.runs)
     return DelayAnalysis(an.unit, an, atts, build_ledger(atts, an), casefile.project.concurrency)
 
 
