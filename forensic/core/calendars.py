@@ -75,6 +75,7 @@ class WorkdayIndex:
     days: list[int]
     first_at: list[int]
     days_array: np.ndarray
+    first_at_array: np.ndarray | None = None  # ``first_at`` as an array, for the engine's grid
 
     @property
     def size(self) -> int:
@@ -123,6 +124,7 @@ def _build_index(cal: Calendar, lo: int, hi: int) -> WorkdayIndex:
     days_array = span[working]
     # first_at has hi - lo + 1 entries so that count_on_or_before(hi - 1) works.
     first_at = np.searchsorted(days_array, np.arange(lo, hi + 1, dtype="int64"), side="left")
+    first_at.flags.writeable = False
     return WorkdayIndex(
         calendar=cal,
         lo=lo,
@@ -130,6 +132,7 @@ def _build_index(cal: Calendar, lo: int, hi: int) -> WorkdayIndex:
         days=days_array.tolist(),
         first_at=first_at.tolist(),
         days_array=days_array,
+        first_at_array=first_at,
     )
 
 

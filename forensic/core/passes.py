@@ -99,7 +99,7 @@ def horizon_grid(net: Network, lo: int, hi: int) -> Grid:
     first_at = np.empty((len(indices), hi - lo + 1), dtype=np.int64)
     for c, ix in enumerate(indices):
         days[c, : ix.size] = ix.days_array
-        first_at[c] = ix.first_at
+        first_at[c] = ix.first_at if ix.first_at_array is None else ix.first_at_array
     return Grid(lo, indices, days, first_at, width, sentinel)
 
 
