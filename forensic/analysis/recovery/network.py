@@ -227,9 +227,13 @@ class Network:
                 if moves(link) and link.pred not in relevant:
                     relevant.add(link.pred)
                     stack.append(link.pred)
-        outs: dict[str, list] = {aid: [] for aid in relevant}
-        indeg = dict.fromkeys(relevant, 0)
-        for j in relevant:
+        # File order, never the set's (string hashing varies between runs):
+        # the order of the links out of each activity orders the program.
+        ordered = [aid for aid in self.nodes if aid in relevant]
+        ordered += sorted(relevant.difference(ordered))
+        outs: dict[str, list] = {aid: [] for aid in ordered}
+        indeg = dict.fromkeys(ordered, 0)
+        for j in ordered:
             for link in into[j]:
                 if moves(link):
                     outs[link.pred].append(link)
