@@ -35,7 +35,8 @@ def test_windows_impact_and_eot_return_the_cli_results():
     """The front door's windows, impact and eot equal the analysis functions the commands call."""
     from forensic.analysis.attribution.delay import analyse_delay, delay_json
     from forensic.analysis.eot import delay_summary, eot_json
-    from forensic.analysis.impact import impact_json, series_json, time_impact, time_impacts
+    from forensic.analysis.impact import time_impact, time_impacts
+    from forensic.analysis.impact_tables import impact_json, series_json
 
     cf = forensic.load(DEMO)
     assert delay_json(forensic.windows(cf)) == delay_json(analyse_delay(cf))

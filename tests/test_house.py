@@ -151,7 +151,6 @@ def _sources() -> list[Path]:
 # while the house is split (issue "The house"); an entry that is no longer
 # over the limit fails the test too, so the list can only get shorter.
 STILL_OVER: set[str] = {
-    "forensic/analysis/impact.py",
     "forensic/analysis/trend.py::completion_trend",
     "forensic/report/__init__.py::build_report",
 }

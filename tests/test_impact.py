@@ -8,16 +8,18 @@ from hypothesis import strategies as st
 
 from forensic.analysis.impact import (
     delay_between,
-    float_table,
-    impact_json,
     insert_fragnet,
-    milestones_table,
     progress_to,
-    series_json,
-    series_table,
     time_impact,
     time_impacts,
     unimpacted_snapshot,
+)
+from forensic.analysis.impact_tables import (
+    float_table,
+    impact_json,
+    milestones_table,
+    series_json,
+    series_table,
 )
 from forensic.core.calendars import DAY_NAMES
 from forensic.core.engine import schedule
@@ -478,7 +480,8 @@ def test_series_inserts_each_event_into_its_own_update_and_carries_the_result_fo
     19 to U1's day 23: 4, so the series models 2 days more than the record
     shows.
     """
-    from forensic.analysis.impact import contemporaneous_json, time_impact_series
+    from forensic.analysis.impact import time_impact_series
+    from forensic.analysis.impact_tables import contemporaneous_json
     from forensic.analysis.windows import analyse_windows
 
     cf = series_case()

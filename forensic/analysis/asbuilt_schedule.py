@@ -57,7 +57,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass, replace
 from datetime import date, timedelta
 
-from forensic.analysis.impact import (
+from forensic.analysis.event_cost import (
     Representation,
     calendars_of,
     estimate_days,

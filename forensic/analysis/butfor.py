@@ -45,7 +45,7 @@ from dataclasses import dataclass, replace
 from datetime import date
 
 from forensic.analysis.asbuilt_schedule import DAY, AsBuilt, EventDelay, as_built
-from forensic.analysis.impact import (
+from forensic.analysis.event_cost import (
     calendars_of,
     delay_between,
     planned_duration,

@@ -7,8 +7,8 @@ from pathlib import Path
 import click
 
 from forensic.analysis.butfor import as_built_table, but_for, but_for_json, but_for_table
-from forensic.analysis.impact import (
-    ImpactResult,
+from forensic.analysis.impact import ImpactResult, time_impact, time_impact_series, time_impacts
+from forensic.analysis.impact_tables import (
     contemporaneous_json,
     contemporaneous_table,
     float_table,
@@ -16,9 +16,6 @@ from forensic.analysis.impact import (
     milestones_table,
     series_json,
     series_table,
-    time_impact,
-    time_impact_series,
-    time_impacts,
 )
 from forensic.core.tables import Table
 from forensic.exchange.writers import to_csv

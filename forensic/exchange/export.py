@@ -148,13 +148,8 @@ def casefile_tables(
     from forensic.analysis.attribution.delay import analyse_delay, contributors_table, ledger_table
     from forensic.analysis.butfor import as_built_table, but_for, but_for_table
     from forensic.analysis.compare import compare_snapshots, compare_table
-    from forensic.analysis.impact import (
-        float_table,
-        milestones_table,
-        series_table,
-        time_impact,
-        time_impacts,
-    )
+    from forensic.analysis.impact import time_impact, time_impacts
+    from forensic.analysis.impact_tables import float_table, milestones_table, series_table
     from forensic.analysis.quality.assessment import assess_casefile
     from forensic.analysis.quality.tables import quality_table
     from forensic.analysis.recovery.acceleration import recover
