@@ -104,7 +104,7 @@ def as_planned_vs_as_built(casefile: Casefile) -> tuple[AsBuiltRow, ...]:
                 x.early_finish,
                 ad,
                 not finished,
-                None if ps is None else count(x.early_start) - count(ps),  # ps, pf: None only if p is
+                None if ps is None else count(x.early_start) - count(ps),  # ps, pf are None exactly when p is
                 None if pf is None else count(x.early_finish) - count(pf),
                 None if (p is None or ad is None) else ad - p.duration,
             )
