@@ -13,15 +13,20 @@ import signal
 import sys
 
 
-def _interrupted_early(signum, frame):  # pragma: no cover - timing dependent
-    sys.stderr.write("Interrupted; nothing was written.\n")
-    sys.stderr.flush()
-    import os
+class _EarlyInterruptHandler:
+    """The SIGINT handler until a command starts: one line, then exit with status 130."""
 
-    os._exit(130)
+    forensic_early = True  # the group puts the default handler back (forensic.cli._base)
+
+    def __call__(self, signum, frame):  # pragma: no cover - timing dependent
+        sys.stderr.write("Interrupted; nothing was written.\n")
+        sys.stderr.flush()
+        import os
+
+        os._exit(130)
 
 
-_interrupted_early.forensic_early = True  # the group puts the default handler back (forensic.cli._base)
+_interrupted_early = _EarlyInterruptHandler()
 
 
 PROGRAM = False  # true once run() starts: the command line may then leave with os._exit on Ctrl-C

@@ -81,6 +81,7 @@ def as_planned_vs_as_built(casefile: Casefile) -> tuple[AsBuiltRow, ...]:
         pf = rb[aid].early_finish if p else None
         pd = p.duration if p else None
         if a is None:
+            assert p is not None  # every id is in the baseline or the last update
             rows.append(AsBuiltRow(aid, p.name, "deleted", ps, pf, pd, None, None, None, False, None, None, None))
             continue
         x = rl[aid]
@@ -88,7 +89,7 @@ def as_planned_vs_as_built(casefile: Casefile) -> tuple[AsBuiltRow, ...]:
         finished = a.is_finished
         ad = None
         if a.actual_start is not None:
-            end = a.actual_finish if finished else x.early_finish
+            end = a.actual_finish if a.actual_finish is not None else x.early_finish
             ad = 0 if a.is_milestone else workdays_between(cal, a.actual_start, end + timedelta(days=1))
         status = "added" if p is None else x.status
         rows.append(
@@ -103,8 +104,8 @@ def as_planned_vs_as_built(casefile: Casefile) -> tuple[AsBuiltRow, ...]:
                 x.early_finish,
                 ad,
                 not finished,
-                None if p is None else count(x.early_start) - count(ps),
-                None if p is None else count(x.early_finish) - count(pf),
+                None if ps is None else count(x.early_start) - count(ps),  # ps, pf are None exactly when p is
+                None if pf is None else count(x.early_finish) - count(pf),
                 None if (p is None or ad is None) else ad - p.duration,
             )
         )

@@ -241,20 +241,20 @@ def completion_trend(
                     break
         cfloats: dict[str, int | None] = {}
         for k, (kind, cdate) in cdates.items():
-            x = res.activities.get(k)
+            scheduled = res.activities.get(k)
             act = snap.activities.get(k)
-            if x is None or act is None:
+            if scheduled is None or act is None:
                 cfloats[k] = None
                 continue
             cal = casefile.calendars[act.calendar or casefile.project.default_calendar]
-            forecast = x.early_start if kind == "start" else x.early_finish
+            forecast = scheduled.early_start if kind == "start" else scheduled.early_finish
             cfloats[k] = contract_float(cal, forecast, cdate)
         mdates = {}
         mfloats = {}
         for k in keys:
-            x = res.activities.get(k)
-            mdates[k] = None if x is None else x.early_finish
-            mfloats[k] = None if x is None else x.total_float
+            scheduled = res.activities.get(k)
+            mdates[k] = None if scheduled is None else scheduled.early_finish
+            mfloats[k] = None if scheduled is None else scheduled.total_float
         rows.append(
             SnapshotTrend(
                 snapshot_id=snap.id,

@@ -278,12 +278,13 @@ def _revise(net: _Net, data_date: date, rng: random.Random, opts: dict) -> None:
         lk = links[rng.randrange(len(links))]
         if lk.type != "FS" or acts[lk.pred].kind != "task" or acts[lk.succ].actual_start is not None:
             continue
-        p = acts[lk.pred]
+        before = acts[lk.pred]
         xid = f"{lk.pred}-X{data_date:%y%m}{j + 1}"
         if xid in acts:
             continue
         net.act(
-            Activity(xid, f"Added work after {lk.pred}", rng.randint(1, 8), calendar=p.calendar, party="CON", area=p.area),
+            Activity(xid, f"Added work after {lk.pred}", rng.randint(1, 8), calendar=before.calendar, party="CON",
+                     area=before.area),
             (net.rank[lk.pred] + net.rank[lk.succ]) / 2,
         )
         net.link(lk.pred, xid)

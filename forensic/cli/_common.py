@@ -65,7 +65,9 @@ def emit_xlsx(tables, casefile: Casefile | None = None, protected: Iterable[Path
     (``batch``, which loads its casefiles in worker processes).
     """
     ctx = click.get_current_context(silent=True)
-    out = None if ctx is None else ctx.meta.get(_XLSX_KEY)
+    if ctx is None:
+        return
+    out = ctx.meta.get(_XLSX_KEY)
     if out is None:
         return
     casefile = casefile if casefile is not None else ctx.meta.get(_CASEFILE)

@@ -56,7 +56,7 @@ def export_command(casefile: Path, xlsx: Path | None, csv_dir: Path | None, json
     protected = [cf.root / rel for rel in cf.inputs] if cf.root is not None else []
     # Every refusal is decided before any analysis runs and before anything is written.
     files = [f for f in (xlsx, json_file) if f]
-    if len(files) == 2 and check_output(xlsx) == check_output(json_file):
+    if len(files) == 2 and check_output(files[0]) == check_output(files[1]):
         raise click.UsageError("--xlsx and --json name the same file")
     for f in files:
         check_output(f, protected)

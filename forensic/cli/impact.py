@@ -137,25 +137,25 @@ def impact_command(
                    f"record: a difference of {run.difference_from_windows:+d}.")
         return
     if cumulative:
-        series = time_impacts(cf, ids, into=into, progress_to_event=progress_to_event)
-        _warn([*(w for r in series.individual for w in r.warnings), *series.warnings])
-        emit_xlsx([series_table(series)], cf)
+        impacts = time_impacts(cf, ids, into=into, progress_to_event=progress_to_event)
+        _warn([*(w for r in impacts.individual for w in r.warnings), *impacts.warnings])
+        emit_xlsx([series_table(impacts)], cf)
         if as_json:
-            emit_json(series_json(series))
+            emit_json(series_json(impacts))
             return
         if as_csv:
-            emit(to_csv(series_table(series)))
+            emit(to_csv(series_table(impacts)))
             return
-        c = series.cumulative
-        say(f"{cf.project.name}: {len(series.individual)} events, impacts in {series.unit}")
+        c = impacts.cumulative
+        say(f"{cf.project.name}: {len(impacts.individual)} events, impacts in {impacts.unit}")
         if progress_to_event:
             say(_PROGRESS_NOTE)
-        emit(table_text(series_table(series)))
+        emit(table_text(series_table(impacts)))
         say(
             f"\nCumulative into {c.into} (data date {cf.snapshot(c.into).data_date.isoformat()}): "
             f"{c.completion_before.isoformat()} -> {c.completion_after.isoformat()}, "
-            f"{c.impact} {series.unit}. Sum of impacts alone: {series.sum_of_individual}; "
-            f"difference (non-additivity): {series.non_additivity}."
+            f"{c.impact} {impacts.unit}. Sum of impacts alone: {impacts.sum_of_individual}; "
+            f"difference (non-additivity): {impacts.non_additivity}."
         )
         return
     if ids is None:

@@ -131,15 +131,15 @@ def _activity_columns(acts: list, ids: list[str], calendars: Mapping[str, Calend
     key = (id(calendars), default)
     hit = _ACT_CACHE.get(key)
     if hit is not None and hit[0] is calendars and len(hit[1]) == len(acts) and hit[2] == ids:
-        _, old_acts, _, numbers, cols, cal_list = hit
+        _, old_acts, _, cached_numbers, cached_cols, cached_cals = hit
         changed = [i for i, (a, b) in enumerate(zip(acts, old_acts, strict=True)) if a is not b]
-        if len(changed) * 4 < len(acts) and all((acts[i].calendar or default) in numbers for i in changed):
-            out = {k: v.copy() for k, v in cols.items()}
+        if len(changed) * 4 < len(acts) and all((acts[i].calendar or default) in cached_numbers for i in changed):
+            out = {k: v.copy() for k, v in cached_cols.items()}
             if changed:
-                fresh = _read_rows([acts[i] for i in changed], numbers, default)
+                fresh = _read_rows([acts[i] for i in changed], cached_numbers, default)
                 for k in _COLUMN_NAMES:
                     out[k][changed] = fresh[k]
-            out["calendars"] = cal_list
+            out["calendars"] = cached_cals
             return out
     numbers: dict[str, int] = {}
     cal_list: list[Calendar] = []

@@ -17,14 +17,16 @@ import math
 import re
 import textwrap
 from datetime import date
+from types import ModuleType
 from typing import Any
 
 from forensic.core.tables import Table, is_number
 
 try:  # a fast, well-kept encoder; the standard library's is the fallback with the same text
-    import orjson as _orjson
+    import orjson
 
-    _ORJSON_OPTIONS = _orjson.OPT_INDENT_2 | _orjson.OPT_NON_STR_KEYS
+    _orjson: ModuleType | None = orjson
+    _ORJSON_OPTIONS = orjson.OPT_INDENT_2 | orjson.OPT_NON_STR_KEYS
 except ImportError:  # pragma: no cover - orjson is a declared dependency
     _orjson = None
 

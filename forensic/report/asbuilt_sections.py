@@ -144,10 +144,11 @@ def but_for(ctx: ReportContext, section: Section) -> list[Flowable]:
         out += paragraphs(text_or_none(ctx, section, "overlap" if rep.overlap > 0 else "no_overlap", fields))
     if section.options["table"]:
         unit = rep.cases[0].unit
-        cols = (_col(section, "case", "Delays removed"), _col(section, "events", "Events"),
-                _col(section, "not_represented", "Not represented"), _col(section, "as_built", "As-built completion"),
-                _col(section, "but_for", "But-for completion"), _col(section, "difference", f"Difference ({unit})"))
-        body = [(_case_words(ctx, c), ", ".join(c.removed), ", ".join(c.not_represented) or "—",
+        cols: tuple[str, ...] = (
+            _col(section, "case", "Delays removed"), _col(section, "events", "Events"),
+            _col(section, "not_represented", "Not represented"), _col(section, "as_built", "As-built completion"),
+            _col(section, "but_for", "But-for completion"), _col(section, "difference", f"Difference ({unit})"))
+        body: list[tuple[object, ...]] = [(_case_words(ctx, c), ", ".join(c.removed), ", ".join(c.not_represented) or "—",
                  short_date(c.as_built_completion), short_date(c.but_for_completion), _signed(c.difference))
                 for c in rep.cases]
         out += [Spacer(1, 4), data_table(cols, body, (2.6, 1.8, 1.2, 1.3, 1.3, 1.1), numeric=(5,), small_head=True)]

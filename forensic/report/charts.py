@@ -13,7 +13,7 @@ The charts only draw what they are given; no figure is computed here.
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from datetime import date
 
@@ -55,6 +55,8 @@ TO_DO = colors.HexColor("#e0a458")
 
 MONTHS = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec")
 FONT_SIZE = 7
+# A legend sample: draws its shapes with the key's left end at ``(x, y)``.
+LegendSample = Callable[[float, float], Sequence[object]]
 
 
 @dataclass(frozen=True, slots=True)
@@ -173,7 +175,7 @@ def chart_text(x: float, y: float, s: str, anchor: str = "start", size: float = 
     return String(x, y, s, fontName=f.bold if bold else f.regular, fontSize=size, fillColor=colour, textAnchor=anchor)
 
 
-def legend(items: Sequence[tuple[str, object]], x: float, y_top: float, width: float) -> tuple[Group, float]:
+def legend(items: Sequence[tuple[str, LegendSample]], x: float, y_top: float, width: float) -> tuple[Group, float]:
     """Legend entries ``(label, draw(x, y) -> shapes)`` in rows; returns the group and its height."""
     f = font_family().regular
     g = Group()
@@ -263,12 +265,12 @@ def line_chart(
     def py(v: float) -> float:
         return bottom + (v - ylo) / ((yhi - ylo) or 1) * (top - bottom)
 
-    for t, s in yticks:
+    for t, tick_label in yticks:
         d.add(Line(left, py(t), right, py(t), strokeColor=GRID, strokeWidth=0.4))
-        d.add(chart_text(left - 4, py(t) - 2.4, s, "end"))
-    for t, s in xticks:
+        d.add(chart_text(left - 4, py(t) - 2.4, tick_label, "end"))
+    for t, tick_label in xticks:
         d.add(Line(px(t), bottom, px(t), bottom - 3, strokeColor=AXIS, strokeWidth=0.5))
-        d.add(chart_text(px(t), bottom - 11, s, "middle"))
+        d.add(chart_text(px(t), bottom - 11, tick_label, "middle"))
     d.add(Line(left, bottom, right, bottom, strokeColor=AXIS, strokeWidth=0.7))
     d.add(Line(left, bottom, left, top, strokeColor=AXIS, strokeWidth=0.7))
     d.add(chart_text(left, top + 5, y_title, "start", bold=True))

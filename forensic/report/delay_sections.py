@@ -143,13 +143,13 @@ def windows(ctx: ReportContext, section: Section) -> list[Flowable]:
     shown = runs[-1:] if scope == "latest" else runs[-2:] if scope == "last-two" else runs
     out = _paras(text_or_none(ctx, section, "intro"))
     if section.options["table"]:
-        cols = (
+        cols: tuple[str, ...] = (
             _col(section, "window", "Window"), _col(section, "start", "From"), _col(section, "end", "To"),
             _col(section, "before", "Completion before"), _col(section, "after", "Completion after"),
             _col(section, "slip", f"Slip ({unit})"), _col(section, "progress", "Progress"),
             _col(section, "revision", "Revision"), _col(section, "concurrent", "Concurrent"),
         )
-        body = [
+        body: list[tuple[object, ...]] = [
             (r.window.label, short_date(r.window.start), short_date(window_last_day(r.window)), short_date(r.window.completion_before),
              short_date(r.window.completion_after), _signed(r.window.slip), _signed(r.window.progress_slip),
              _signed(r.window.revision_slip), a.concurrent.days)
@@ -317,10 +317,11 @@ def time_impact(ctx: ReportContext, section: Section) -> list[Flowable]:
             key = "no_cost" if "no_cost" in section.texts else key
         out += _paras(fill(section.texts[key], fields, _where(ctx, section, key)))
     if section.options["table"]:
-        cols = (_col(section, "event", "Event"), _col(section, "title", "Title"), _col(section, "into", "Into"),
-                _col(section, "before", "Completion before"), _col(section, "after", "Completion after"),
-                _col(section, "impact", f"Impact ({unit_words(unit)})"))
-        body = [(r.event, events[r.event].title if r.event in events else "", r.into, short_date(r.completion_before),
+        cols: tuple[str, ...] = (
+            _col(section, "event", "Event"), _col(section, "title", "Title"), _col(section, "into", "Into"),
+            _col(section, "before", "Completion before"), _col(section, "after", "Completion after"),
+            _col(section, "impact", f"Impact ({unit_words(unit)})"))
+        body: list[tuple[object, ...]] = [(r.event, events[r.event].title if r.event in events else "", r.into, short_date(r.completion_before),
                  short_date(r.completion_after), _signed(r.impact)) for r in series.individual]
         out += [data_table(cols, body, (0.8, 3, 0.7, 1.2, 1.2, 1), numeric=(5,)), Spacer(1, 6)]
     c = series.cumulative

@@ -35,6 +35,8 @@ def delay_summary(ctx: ReportContext, section: Section) -> list[Flowable] | None
     out = paragraphs(ctx_text(ctx, section, "intro", {"slip": s.completion["slip"], "slip_unit": unit}))
     short = bool(section.options["short"])
     events = [e for e in s.events if not short or any(e.days[m] for m in ("windows", "impact", "but_for")) or e.concurrent]
+    cols: tuple[str, ...]
+    body: list[tuple[object, ...]]
     if short:
         cols = (_col(section, "event", "Event"), _col(section, "party", "Party"), _col(section, "windows", "Windows"),
                 _col(section, "concurrent", "Concurrent"), _col(section, "impact", "Impact"),
@@ -82,9 +84,9 @@ def reconciliation(ctx: ReportContext, section: Section) -> list[Flowable] | Non
         out += paragraphs(ctx_text(ctx, section, "pair", {
             "first": a, "second": b, "difference": r.difference, "unit": unit, "causes": words,
         }))
-    cols = (_col(section, "methods", "Methods"), _col(section, "cause", "Cause"), _col(section, "days", "Days"),
-            _col(section, "explanation", "Explanation"))
-    body = [(" / ".join(METHOD_WORDS[m] for m in r.methods), c.cause, "—" if c.days is None else f"{c.days:+d}" if c.days else "0",
+    cols: tuple[str, ...] = (_col(section, "methods", "Methods"), _col(section, "cause", "Cause"),
+                             _col(section, "days", "Days"), _col(section, "explanation", "Explanation"))
+    body: list[tuple[object, ...]] = [(" / ".join(METHOD_WORDS[m] for m in r.methods), c.cause, "—" if c.days is None else f"{c.days:+d}" if c.days else "0",
              c.explanation) for r in s.reconciliation for c in r.causes]
     out += [data_table(cols, body, (1.4, 1.6, 0.6, 4), numeric=(2,), small_head=True), Spacer(1, 8)]
     if s.sensitivity:

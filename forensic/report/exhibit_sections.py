@@ -242,13 +242,14 @@ def near_critical(ctx: ReportContext, section: Section) -> list[Flowable]:
     if flat:
         out.append(Spacer(1, 6))
         out += paragraphs(text_or_none(ctx, section, "key_dates_intro"))
-        cols = (_col(section, "snapshot", "Snapshot"), _col(section, "milestone", "Milestone"), _col(section, "name", "Name"),
-                _col(section, "key_date", "Key date"), _col(section, "forecast", "Forecast"),
-                _col(section, "float_to_date", "Float to key date (wd)"))
-        body = [(k.snapshot_id, k.milestone, k.name, short_date(k.key_date),
+        key_cols = (_col(section, "snapshot", "Snapshot"), _col(section, "milestone", "Milestone"),
+                    _col(section, "name", "Name"), _col(section, "key_date", "Key date"),
+                    _col(section, "forecast", "Forecast"), _col(section, "float_to_date", "Float to key date (wd)"))
+        key_body = [(k.snapshot_id, k.milestone, k.name, short_date(k.key_date),
                  "finished " + short_date(k.forecast) if k.finished else short_date(k.forecast),
                  "—" if k.float_to_date is None else k.float_to_date) for k in flat]
-        out.append(data_table(cols, body, (0.9, 1.2, 2.4, 1.1, 1.3, 1.2), numeric=(5,), fit=(0, 1), small_head=True))
+        out.append(data_table(key_cols, key_body, (0.9, 1.2, 2.4, 1.1, 1.3, 1.2), numeric=(5,), fit=(0, 1),
+                              small_head=True))
         late = [k for k in rows[-1] if k.float_to_date is not None and k.float_to_date < 0]
         if late:
             out += paragraphs(text_or_none(ctx, section, "late", {

@@ -268,6 +268,7 @@ def milestone_sentence(ctx: ReportContext, section: Section, milestone: str, row
         return fill(text, fields, f"{where}, text.missing")
     a, b = have[0], have[-1]
     fa, fb = a.milestone_floats[milestone], b.milestone_floats[milestone]
+    assert fa is not None and fb is not None  # ``have`` keeps only rows with a float
     change = fb - fa
     fields.update(
         first_snapshot=a.snapshot_id,

@@ -158,7 +158,7 @@ def font_family() -> FontFamily:
         if not all(p.is_file() for p in paths):
             continue
         base = Path(faces[0]).stem
-        names = [f"Forensic-{base}", f"Forensic-{base}-Bold", f"Forensic-{base}-Italic", f"Forensic-{base}-BoldItalic"]
+        names = (f"Forensic-{base}", f"Forensic-{base}-Bold", f"Forensic-{base}-Italic", f"Forensic-{base}-BoldItalic")
         try:
             for name, path in zip(names, paths, strict=True):
                 pdfmetrics.registerFont(TTFont(name, str(path)))

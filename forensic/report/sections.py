@@ -370,6 +370,7 @@ def _completion_float_sentence(ctx: ReportContext, section: Section, rows: Seque
     if not have:
         return None
     a, b = have[0], have[-1]
+    assert a.completion_float is not None and b.completion_float is not None  # ``have`` keeps only rows with one
     change = b.completion_float - a.completion_float
     fields = common_fields(ctx)
     fields.update(

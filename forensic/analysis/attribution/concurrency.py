@@ -225,7 +225,7 @@ def resolve_concurrency(
     if not quota:
         return chain, revision, conc
 
-    def category(x) -> str | None:
+    def category(x: Contributor) -> str | None:
         if x.event is not None:
             return cf.event(x.event).category
         party = cf.parties.get(x.party)
@@ -242,7 +242,10 @@ def resolve_concurrency(
             give = min(x.days, left.get(x.party, 0))
             if give:
                 left[x.party] -= give
-                out[kind].append(replace(x, days=give, category=category(x)))
+                if isinstance(x, RevisionShare):  # a revision share always names its event
+                    out[kind].append(replace(x, days=give, category=cf.event(x.event).category))
+                else:
+                    out[kind].append(replace(x, days=give, category=category(x)))
             if x.days - give:
                 spare[kind].append(replace(x, days=x.days - give))
     # A party whose quota is larger than its own concurrent pieces takes the
@@ -266,8 +269,8 @@ def resolve_concurrency(
                     out[kind][i] = replace(out[kind][i], days=out[kind][i].days + take)
                     continue
                 ev = next((cf.event(e) for e in conc.events if cf.event(e).party == party), None)
-                role = cf.parties[party].role if party in cf.parties else None
-                cat = ev.category if ev else DEFAULT_CATEGORY.get(role)
+                known = cf.parties.get(party)
+                cat = ev.category if ev else DEFAULT_CATEGORY.get(known.role) if known is not None else None
                 if kind == 0:
                     act = ev.activities[0] if ev is not None and ev.activities else piece.activity
                     out[0].append(Contributor(act, take, ev.id if ev else None, party, cat))

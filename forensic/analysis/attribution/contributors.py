@@ -220,7 +220,7 @@ def _brought_in(ctx: WindowContext, a: str) -> dict[str, int]:
     """
     if not ctx.later_preds or ctx.half[a].status == "not-started":
         return {}
-    out = {}
+    out: dict[str, int] = {}
     for p, typ, new_link in ctx.later_preds.get(a, ()):
         if p in ctx.v and not new_link:
             continue
@@ -396,7 +396,7 @@ def attribute_days(ctx: WindowContext, aid: str, days: int) -> list[Contributor]
 
 def contributors_table(analysis: DelayAnalysis) -> Table:
     """One row per contributor (and per revision share) of every window."""
-    rows = []
+    rows: list[tuple[object, ...]] = []
     for att in analysis.attributions:
         for c in att.contributors:
             rows.append((att.window_label, "progress", c.activity, c.days, c.event, c.party, c.category))

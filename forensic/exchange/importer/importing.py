@@ -41,7 +41,7 @@ from forensic.casefile.records import read_activities, read_events, read_links
 from forensic.casefile.validation import ValidationResult, validate_casefile
 from forensic.casefile.writing import write_casefile
 from forensic.core.errors import CasefileError, ImportMappingError, LimitExceeded, OutputError
-from forensic.core.model import Casefile, Fragnet, Snapshot, frozen_mapping
+from forensic.core.model import Casefile, Event, Fragnet, Snapshot, frozen_mapping
 from forensic.exchange.importer.conversion import Converter, conversion_notes
 from forensic.exchange.importer.mapping import FIELDS, FORMAT, ImportMapping, import_settings
 from forensic.exchange.importer.origins import Origins, find_origins
@@ -172,10 +172,11 @@ def _read_all(m: ImportMapping, conv: Converter, project, parties, calendars, ca
                            problems=problems, warnings=warnings,
                            unknown_hint="no activity with this id in the fragnet or in any snapshot")
         fragnets[spec["id"]] = Fragnet(spec["id"], frozen_mapping(acts.activities), tuple(links))
-    events = ()
-    erows = table(m.events, "events") if m.events is not None else None
-    if erows is not None and complete:
-        events = tuple(read_events(erows, m.events[2], parties=parties, snapshot_ids=all_ids, problems=problems,
+    events: tuple[Event, ...] = ()
+    event_spec = m.events
+    erows = table(event_spec, "events") if event_spec is not None else None
+    if event_spec is not None and erows is not None and complete:
+        events = tuple(read_events(erows, event_spec[2], parties=parties, snapshot_ids=all_ids, problems=problems,
                                    fragnets={k: tuple(f.activities) for k, f in fragnets.items()}))
     conv.drop_echoes()
     if problems:

@@ -30,7 +30,7 @@ import tomllib
 from dataclasses import dataclass
 from datetime import date, datetime
 from pathlib import Path
-from typing import Any
+from typing import Any, cast
 
 from forensic.casefile.csvread import Problems, find_unsafe_char
 from forensic.casefile.limits import Limits
@@ -393,7 +393,10 @@ def import_settings(m: ImportMapping, problems: Problems) -> tuple[Project | Non
     for k in p:
         if k not in PROJECT_KEYS:
             m._bad(f"project.{k}", k, f"unknown key; expected only {', '.join(PROJECT_KEYS)}")
-    project = Project(p.get("name"), p.get("default_calendar"), p.get("completion"), p.get("contract_completion"),
+    # Taken as given (an absent name or calendar as None): the loader checks every value of the written
+    # casefile and names what is missing or wrong, so the Project's types hold from then on.
+    project = Project(cast(str, p.get("name")), cast(str, p.get("default_calendar")), p.get("completion"),
+                      p.get("contract_completion"),
                       p.get("delay_unit", "calendar-days"), p.get("progress_logic", "retained"),
                       p.get("critical_float", 0))
     return project, parties, calendars

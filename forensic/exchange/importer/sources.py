@@ -330,11 +330,11 @@ def _hidden_rows_and_merges(wb, ws) -> tuple[tuple[int, ...], tuple[str, ...]]:
             for _event, el in iterparse(fh):
                 tag = el.tag.rsplit("}", 1)[-1]
                 if tag == "row":
-                    if el.get("hidden") in ("1", "true") and el.get("r", "").isdigit():
-                        hidden.append(int(el.get("r")))
+                    if el.get("hidden") in ("1", "true") and (number := el.get("r", "")).isdigit():
+                        hidden.append(int(number))
                     el.clear()
-                elif tag == "mergeCell" and el.get("ref"):
-                    merged.append(el.get("ref"))
+                elif tag == "mergeCell" and (ref := el.get("ref")):
+                    merged.append(ref)
                 elif tag == "c":
                     el.clear()
     except (KeyError, OSError, SyntaxError, ValueError):
