@@ -13,6 +13,8 @@ from forensic.casefile.limits import Limits
 from forensic.core.errors import ForensicError, printable
 from forensic.core.version import __version__
 
+from ._progress import PROGRESS_KEY
+
 __all__ = ["main"]
 
 
@@ -114,7 +116,7 @@ class _Group(click.Group):
             raise click.ClickException(printable(msg)) from None
 
 
-_GROUP_OPTIONS = ("--max-activities", "--max-links", "--max-file-mb")
+_GROUP_OPTIONS = ("--max-activities", "--max-links", "--max-file-mb", "--progress")
 _DEFAULT = Limits()
 _MB = 1024 * 1024
 
@@ -130,8 +132,11 @@ _MB = 1024 * 1024
 @click.option("--max-file-mb", type=click.IntRange(min=1), default=_DEFAULT.max_file_bytes // _MB,
               envvar="FORENSIC_MAX_FILE_MB", show_default=True, show_envvar=True,
               help="Largest casefile file read, in MiB (checked before it is read).")
+@click.option("--progress", is_flag=True, envvar="FORENSIC_PROGRESS", show_envvar=True,
+              help="Status lines on stderr even when it is not a terminal (by default they show only at a "
+              "terminal, for work of more than about a second).")
 @click.pass_context
-def main(ctx: click.Context, max_activities: int, max_links: int, max_file_mb: int) -> None:
+def main(ctx: click.Context, max_activities: int, max_links: int, max_file_mb: int, progress: bool) -> None:
     """Delay and forensic schedule analysis from a casefile folder.
 
     A casefile holds the baseline programme, the monthly updates, calendars,
@@ -151,3 +156,4 @@ def main(ctx: click.Context, max_activities: int, max_links: int, max_file_mb: i
     Example: forensic --max-activities 5000 check forensic-demo/riverside
     """
     ctx.obj = Limits(max_file_bytes=max_file_mb * _MB, max_activities=max_activities, max_links=max_links)
+    ctx.meta[PROGRESS_KEY] = progress

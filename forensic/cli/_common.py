@@ -17,6 +17,8 @@ from forensic.core.model import Casefile
 from forensic.core.version import __version__
 from forensic.exchange.writers import dumps_json
 
+from ._progress import progress_wanted
+
 __all__ = ["casefile_argument", "emit", "emit_json", "emit_xlsx", "format_options", "limit_hint", "load",
            "fit", "pick_format", "provenance", "say", "status", "table_text", "terminal_width", "xlsx_option"]
 
@@ -257,7 +259,6 @@ def emit_json(obj: object, out: Path | None = None, casefile: Casefile | None = 
 
 
 def status(message: str) -> None:
-    """A status line on stderr for long work, shown only at a terminal (pipes and tests stay clean)."""
-    stream = sys.stderr
-    if stream.isatty():
+    """A status line on stderr for long work, shown only at a terminal or under ``forensic --progress``."""
+    if sys.stderr.isatty() or progress_wanted():
         click.echo(message, err=True)

@@ -19,6 +19,7 @@ from forensic.exchange.writers import dumps_json
 
 from ._base import main
 from ._common import casefile_argument, load, provenance
+from ._progress import status_printer
 
 
 @main.command("export")
@@ -65,7 +66,7 @@ def export_command(casefile: Path, xlsx: Path | None, csv_dir: Path | None, json
         if any(check_output(f).is_relative_to(folder) for f in files):
             raise click.UsageError("--xlsx and --json go outside the --csv-dir folder (it is replaced whole)")
     result = casefile_tables(cf, recover_days=recover_days, recover_snapshot=recover_snapshot,
-                             inputs=not no_inputs)
+                             inputs=not no_inputs, progress=status_printer("export"))
     for line in result.skipped:
         click.echo(f"skipped: {line}", err=True)
     if xlsx:

@@ -30,6 +30,7 @@ from ._common import (
     format_options,
     load,
     say,
+    status,
     table_text,
 )
 
@@ -118,6 +119,8 @@ def impact_command(
         raise click.UsageError("--series inserts each event into its own update: not with --cumulative or --into")
     cf = load(casefile)
     ids = list(events) if events else None
+    n = len(ids) if ids else len(cf.events)
+    status(f"Inserting {n} event{'s' if n != 1 else ''} into the unimpacted updates (Ctrl-C stops) ...")
     if series:
         run = time_impact_series(cf, ids, progress_to_event=progress_to_event)
         _warn(run.warnings)
@@ -201,6 +204,7 @@ def but_for_command(
     if party and event:
         raise click.UsageError("choose --party or --event, not both")
     cf = load(casefile)
+    status("Building the as-built schedule and collapsing it (Ctrl-C stops) ...")
     report = but_for(cf, party=party, event=event, snapshot_id=snapshot_id)
     _warn([*report.as_built.warnings, *(w for c in report.cases for w in c.warnings)])
     emit_xlsx([but_for_table(report), as_built_table(report)], cf)

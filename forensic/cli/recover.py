@@ -25,6 +25,7 @@ from ._common import (
     format_options,
     load,
     say,
+    status,
     table_text,
 )
 
@@ -65,6 +66,7 @@ def recover_command(
         raise click.UsageError("give one of --target DATE and --days N")
     cf = load(casefile)
     wanted: date | None = target.date() if target is not None else None
+    status(f"Planning the recovery on {snapshot_id} (time limit {time_limit:g} s; Ctrl-C stops) ...")
     result = recover(cf, snapshot_id, target=wanted, days=days, objective=objective, time_limit=time_limit)
     emit_xlsx([recovery_plan_table(result), recovery_curve_table(result)], cf)
     if as_json:

@@ -27,7 +27,7 @@ from __future__ import annotations
 import io
 import re
 import zipfile
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from datetime import date, datetime
 from pathlib import Path
@@ -36,7 +36,7 @@ from typing import Any
 from forensic.casefile.outputs import check_folder, staged_folder, write_new_file
 from forensic.casefile.writing import ACTIVITY_COLUMNS, EVENT_COLUMNS, LINK_COLUMNS
 from forensic.core.errors import ForensicError
-from forensic.core.model import Activity, Casefile
+from forensic.core.model import Activity, Casefile, Snapshot
 from forensic.core.tables import Table, schedule_table
 from forensic.exchange.writers import dumps_json, neutralise, to_csv
 
@@ -114,6 +114,7 @@ def casefile_tables(
     recover_days: int | None = None,
     recover_snapshot: str | None = None,
     inputs: bool = True,
+    progress: Callable[[str], None] | None = None,
 ) -> Export:
     """Run every analysis over ``cf`` and return all their tables, in a fixed order.
 
@@ -126,6 +127,8 @@ def casefile_tables(
     recover_snapshot : str, optional
     inputs : bool
         Include the input tables (:func:`input_tables`) first.
+    progress : callable, optional
+        Called with the name of each analysis as it starts (status lines).
 
     Returns
     -------
@@ -144,8 +147,29 @@ def casefile_tables(
     Analysis (protocols 3.1-3.8: the analyses whose results are exported);
     DCMA-EA PAM 200.1 (the quality scorecard).
     """
+    from forensic.core.engine import schedule_snapshot
+
+    tables: list[Table] = list(input_tables(cf)) if inputs else []
+    skipped: list[str] = []
+    step = progress or (lambda what: None)
+    step(f"scheduling {len(cf.snapshots)} snapshots")
+    for snap in cf.snapshots:
+        tables.append(schedule_table(schedule_snapshot(cf, snap.id), snap))
+    for what, build in _analysis_steps(cf, recover_days, recover_snapshot):
+        step(what)
+        try:
+            tables.extend(build())
+        except (ForensicError, ValueError) as exc:
+            skipped.append(f"{what}: {exc}")
+    return Export(tuple(tables), tuple(skipped))
+
+
+def _analysis_steps(cf: Casefile, recover_days: int | None,
+                    recover_snapshot: str | None) -> list[tuple[str, Callable[[], list[Table]]]]:
+    """Each analysis of :func:`casefile_tables` as (what, build its tables), in the export's order."""
     from forensic.analysis.asbuilt import as_planned_vs_as_built, asbuilt_table
     from forensic.analysis.attribution.delay import analyse_delay, contributors_table, ledger_table
+    from forensic.analysis.attribution.floatuse import float_used_table
     from forensic.analysis.butfor import as_built_table, but_for, but_for_table
     from forensic.analysis.compare import compare_snapshots, compare_table
     from forensic.analysis.impact import time_impact, time_impacts
@@ -155,53 +179,47 @@ def casefile_tables(
     from forensic.analysis.recovery.acceleration import recover
     from forensic.analysis.recovery.tables import recovery_curve_table, recovery_plan_table
     from forensic.analysis.windows import windows_table
-    from forensic.core.engine import schedule_snapshot
 
-    tables: list[Table] = list(input_tables(cf)) if inputs else []
-    skipped: list[str] = []
-
-    def attempt(what: str, build) -> None:
-        try:
-            tables.extend(build())
-        except (ForensicError, ValueError) as exc:
-            skipped.append(f"{what}: {exc}")
-
-    for snap in cf.snapshots:
-        tables.append(schedule_table(schedule_snapshot(cf, snap.id), snap))
-    attempt("schedule quality", lambda: [quality_table(assess_casefile(cf))])
+    steps: list[tuple[str, Callable[[], list[Table]]]] = [
+        ("schedule quality", lambda: [quality_table(assess_casefile(cf))]),
+    ]
     for old, new in zip(cf.snapshots, cf.snapshots[1:], strict=False):
-        attempt(f"comparison {old.id} -> {new.id}",
-                lambda old=old, new=new: [compare_table(compare_snapshots(cf, old.id, new.id))])
+        def comparison(old: Snapshot = old, new: Snapshot = new) -> list[Table]:
+            return [compare_table(compare_snapshots(cf, old.id, new.id))]
+        steps.append((f"comparison {old.id} -> {new.id}", comparison))
     if len(cf.snapshots) >= 2:
         def delay() -> list[Table]:
             an = analyse_delay(cf)
             return [windows_table(an.windows), contributors_table(an), ledger_table(an),
-                    ledger_table(an, cumulative=True)]
-        attempt("windows analysis", delay)
+                    ledger_table(an, cumulative=True), float_used_table(an)]
+        steps.append(("windows analysis", delay))
     else:
-        skipped.append("windows analysis: needs a baseline and at least one update")
-    attempt("as-planned vs as-built", lambda: [asbuilt_table(as_planned_vs_as_built(cf))])
+        def no_windows() -> list[Table]:
+            msg = "needs a baseline and at least one update"
+            raise ValueError(msg)
+        steps.append(("windows analysis", no_windows))
+    steps.append(("as-planned vs as-built", lambda: [asbuilt_table(as_planned_vs_as_built(cf))]))
     impacted = [e.id for e in cf.events if e.fragnet or e.activities]
     for eid in impacted:
         def one(eid: str = eid) -> list[Table]:
             r = time_impact(cf, eid)
             return [milestones_table(r), float_table(r)]
-        attempt(f"time impact of {eid}", one)
+        steps.append((f"time impact of {eid}", one))
     if len(impacted) > 1:
-        attempt("cumulative time impact", lambda: [series_table(time_impacts(cf, impacted))])
+        steps.append(("cumulative time impact", lambda: [series_table(time_impacts(cf, impacted))]))
     if cf.events:
         def bf() -> list[Table]:
             report = but_for(cf)
             return [but_for_table(report), as_built_table(report)]
-        attempt("but-for", bf)
+        steps.append(("but-for", bf))
     if recover_days is not None:
         sid = recover_snapshot or cf.snapshots[-1].id
 
         def rec() -> list[Table]:
             r = recover(cf, sid, days=recover_days)
             return [recovery_plan_table(r), recovery_curve_table(r)]
-        attempt(f"recovery of {recover_days} days on {sid}", rec)
-    return Export(tuple(tables), tuple(skipped))
+        steps.append((f"recovery of {recover_days} days on {sid}", rec))
+    return steps
 
 
 # --- writers -----------------------------------------------------------------
