@@ -176,3 +176,20 @@ def test_riverside_windows_json_has_a_float_ledger():
     assert all("float_used" in w for w in data["windows"])
     total = sum(w["total"] for w in data["float_ledger"]["windows"])
     assert data["float_ledger"]["cumulative"]["total"] == total
+
+
+def test_the_report_prints_the_float_ledger_of_the_hand_worked_case():
+    """The full report's float-ledger section states the owner's 4 and the contractor's 6 float-days
+    of the first-come case above, and lists each delay (text read back with pypdf)."""
+    import io
+
+    from pypdf import PdfReader
+
+    from forensic.report import build_report
+
+    cf = casefile([_baseline(), _update(12)], [OWNER_HOLDS_B])
+    text = " ".join(" ".join(p.extract_text().split()) for p in PdfReader(io.BytesIO(build_report(cf, "full"))).pages)
+    assert "Float used before delay became critical" in text
+    # parties largest first, by name (tests/delay_cases.py: OWN "Owner", CON "Contractor")
+    assert ("10 calendar days of float were used on near-critical paths in 1 window: "
+            "Contractor 6 calendar days and Owner 4 calendar days.") in text

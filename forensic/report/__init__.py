@@ -35,7 +35,7 @@ from .templates import Template, builtin_templates, load_template
 __all__ = ["DEFAULT_TEMPLATE", "build_report", "builtin_templates", "load_template"]
 
 DEFAULT_TEMPLATE = "full"
-_NEEDS_DELAY = {"windows", "slip-by-party", "ledger", "window-charts"}
+_NEEDS_DELAY = {"windows", "slip-by-party", "ledger", "float-ledger", "window-charts"}
 
 
 def build_report(
@@ -91,7 +91,7 @@ def build_report(
             command += f" --recover-days {recover_days}"
     kinds = set(tpl.kinds())
     delay = impacts = recovery = None
-    if kinds & {"windows", "slip-by-party", "ledger", "summary", "window-charts"} and len(casefile.snapshots) > 1:
+    if kinds & {"windows", "slip-by-party", "ledger", "float-ledger", "summary", "window-charts"} and len(casefile.snapshots) > 1:
         step("windows analysis")
         delay = analyse_delay(casefile, casefile.windows or None)
     if "time-impact" in kinds and any(e.fragnet or e.activities for e in casefile.events):

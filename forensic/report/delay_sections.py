@@ -15,6 +15,8 @@ from xml.sax.saxutils import escape
 
 from reportlab.platypus import CondPageBreak, Flowable, KeepTogether, Spacer
 
+from forensic.analysis.attribution.floatuse import float_ledger as float_ledger_of
+
 from . import charts
 from .narrative import (
     CATEGORY_WORDS,
@@ -274,6 +276,37 @@ def ledger(ctx: ReportContext, section: Section) -> list[Flowable]:
     return out
 
 
+def float_ledger(ctx: ReportContext, section: Section) -> list[Flowable]:
+    """Float used on paths near the critical path, by party (:mod:`forensic.analysis.attribution.floatuse`)."""
+    led = float_ledger_of(ctx.delay)
+    unit = ctx.delay.unit
+    fields = common_fields(ctx)
+    fields.update(
+        total=led.total, total_unit=unit_words(unit, led.total), margin=led.margin,
+        parties=parties_words(ctx, dict(led.cumulative)),
+        windows=count_words(sum(1 for r in led.windows if r.total), "window"),
+    )
+    out = _paras(text_or_none(ctx, section, "intro", fields))
+    key = "used" if led.total else "none"
+    out += _paras(fill(section.texts[key], fields, _where(ctx, section, key)))
+    if not led.total:
+        return out
+    cols = (
+        _col(section, "window", "Window"), _col(section, "path", "Path (read at)"),
+        _col(section, "float_before", "Float before"), _col(section, "used", "Used"),
+        _col(section, "activity", "Delayed activity"), _col(section, "event", "Event"),
+        _col(section, "party", "Party"), _col(section, "days", "Days"),
+    )
+    rows = [
+        (run.window.label, u.activity, u.float_before, u.used, d.activity, d.event or "", d.party, d.days)
+        for run, att in zip(ctx.delay.windows.runs, ctx.delay.attributions, strict=True)
+        for u in att.float_used
+        for d in u.delays
+    ]
+    out.append(data_table(cols, rows, (1.1, 1.6, 0.8, 0.6, 1.6, 0.7, 0.7, 0.6), numeric=(2, 3, 7), small_head=True))
+    return out
+
+
 def represented_words(reps: Any) -> str:
     """How events are represented, in words: their fragnet, or the working days stated or estimated."""
     out = []
@@ -393,6 +426,7 @@ DELAY_RENDERERS = {
     "windows": windows,
     "slip-by-party": slip_by_party,
     "ledger": ledger,
+    "float-ledger": float_ledger,
     "time-impact": time_impact,
     "acceleration": acceleration,
 }

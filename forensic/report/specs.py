@@ -79,6 +79,7 @@ _RECOVERY = (
 _CRITICAL_NOTE = (*COMMON, "snapshot", "critical", "critical_float", "path_count", "off_path", "off_path_reasons",
                   "path_not_critical", "path_float")
 
+_FLOAT_LEDGER = (*COMMON, "total", "total_unit", "margin", "parties", "windows")
 _AS_BUILT = (*COMMON, "source", "data_date", "completion", "pins", "pin_list", "relinked", "relinked_list", "warnings")
 _BUTFOR = (
     *COMMON, "case", "events", "events_words", "event_titles", "count", "as_built_completion", "but_for_completion", "days", "days_unit",
@@ -273,6 +274,15 @@ SPECS: dict[str, SectionSpec] = {
             texts={"balanced": _LEDGER, "unbalanced": _LEDGER},
             optional_texts={"intro": COMMON, "unexplained": _LEDGER},
             options={"cumulative": OptionSpec(bool, True)},
+        ),
+        SectionSpec(
+            "float-ledger",
+            texts={"used": _FLOAT_LEDGER, "none": _FLOAT_LEDGER},
+            optional_texts={"intro": _FLOAT_LEDGER},
+            protocol=(
+                "Float used on paths near the critical path, by party, first come first served (GAO-16-89G best "
+                "practice 6; SCL Delay and Disruption Protocol 2nd ed., core principle 8 on float)"
+            ),
         ),
         SectionSpec(
             "time-impact",
