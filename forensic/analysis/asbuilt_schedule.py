@@ -143,13 +143,12 @@ def as_built(casefile: Casefile, snapshot_id: str | None = None, *, cache: RunCa
     for aid, a in src.activities.items():
         cal = calendars_of(casefile, a)
         milestone = a.is_milestone or a.duration == 0
-        if a.is_finished or (milestone and a.is_started):
+        if milestone and (done_on := a.actual_finish or a.actual_start) is not None:  # finished or started
+            dur, target[aid] = 0, done_on
+        elif a.actual_finish is not None:  # a finished task
             start = a.actual_start or a.actual_finish
-            if milestone:
-                dur, target[aid] = 0, a.actual_finish or a.actual_start
-            else:
-                dur, target[aid] = max(1, workdays_between(cal, start, a.actual_finish + DAY)), start
-        elif a.is_started:
+            dur, target[aid] = max(1, workdays_between(cal, start, a.actual_finish + DAY)), start
+        elif a.actual_start is not None:  # a task in progress
             dur = workdays_between(cal, a.actual_start, src.data_date) + a.remaining_duration
             dur, target[aid] = max(1, dur), a.actual_start
         else:

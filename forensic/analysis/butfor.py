@@ -212,6 +212,7 @@ def remove_events(casefile: Casefile, built: AsBuilt, event_ids: Iterable[str], 
             continue
         take = stated.get(aid, 0)
         if aid in estimated:
+            assert record is not None  # scheduled above whenever an event is estimated
             take += min(estimated[aid], _estimate_cap(casefile, src, record, aid, estimated_by[aid]))
         if take:
             acts[aid] = replace(a, duration=max(1, a.duration - take))

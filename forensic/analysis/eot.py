@@ -243,7 +243,7 @@ def _reconcile(events: Sequence[EventSummary], a: str, b: str, impact_into: Mapp
     only_b = [e for e in events if e.days[b] is not None and e.days[a] is None]
     counted = 0
     if only_a or only_b:
-        days = sum(e.days[a] for e in only_a) - sum(e.days[b] for e in only_b)
+        days = _total(only_a, a) - _total(only_b, b)
         names = ", ".join(f"{e.event} ({b if e in only_a else a})" for e in [*only_a, *only_b])
         causes.append(Cause("events not represented", days,
                             f"events one method cannot represent, with the method that cannot: {names}"))

@@ -88,10 +88,10 @@ def record_span(a: Activity, x, data_date: date, cal: Calendar) -> tuple[date, d
     days to the data date plus its remaining duration); one not started as
     forecast. The duration is in working days of its calendar.
     """
-    if a.is_finished:
+    if a.actual_finish is not None:  # finished
         start = a.actual_start or a.actual_finish
         return start, a.actual_finish, workdays_between(cal, start, a.actual_finish + _DAY)
-    if a.is_started:
+    if a.actual_start is not None:  # in progress
         return a.actual_start, x.early_finish, workdays_between(cal, a.actual_start, data_date) + a.remaining_duration
     return x.early_start, x.early_finish, a.remaining_duration
 

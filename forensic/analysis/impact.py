@@ -153,6 +153,7 @@ def _impose(
         w: tuple[str, ...] = ()
         if rep.how == "fragnet":
             frag = fragnet_of(casefile, ev)
+            assert frag is not None  # represent() says "fragnet" only for an event that names one
             snapshot, w = insert_fragnet(snapshot, frag)
             inserted.extend(frag.activities)
         elif rep.how == "not-represented":
@@ -410,7 +411,7 @@ def time_impact_series(
     for ev in events:
         snap = unimpacted_snapshot(casefile, ev)
         carried = snap.id == into and current is not None
-        base = current if carried else snap
+        base = current if carried and current is not None else snap
         if progress_to_event:
             base = progress_to(base, cals, project, ev.start)
         before = cached_schedule(cache, casefile, base)

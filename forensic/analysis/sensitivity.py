@@ -95,8 +95,8 @@ def sensitivity_rows(casefile: Casefile, base: DelayAnalysis, tolerance: int,
         if rule != casefile.project.concurrency:
             variants.append(("concurrency rule", rule,
                              replace(casefile, project=replace(casefile.project, concurrency=rule)), None))
-    for setting, value, cf, bounds in variants:
+    for setting, value, variant_casefile, variant_bounds in variants:
         progress(f"sensitivity: {setting} {value}")
-        delay = analyse_delay(cf, bounds, cache=cache)
+        delay = analyse_delay(variant_casefile, variant_bounds, cache=cache)
         rows.append(_row(setting, value, delay, ref, tolerance))
     return tuple(rows)

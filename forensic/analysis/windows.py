@@ -51,6 +51,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
 from datetime import date, timedelta
+from functools import partial
 
 from forensic.analysis.runcache import RunCache
 from forensic.core.calendars import workdays_between
@@ -448,7 +449,7 @@ def analyse_windows(casefile: Casefile, windows: Sequence[str] | None = None, *,
         if cache is None:
             runs.append(window_run(casefile, a, b, sched))
         else:
-            runs.append(cache.get(casefile, "window run", (a, b), lambda a=a, b=b: window_run(casefile, a, b, sched)))
+            runs.append(cache.get(casefile, "window run", (a, b), partial(window_run, casefile, a, b, sched)))
     first, last = runs[0].before, runs[-1].after
     return WindowsAnalysis(
         unit=casefile.project.delay_unit,

@@ -77,7 +77,7 @@ def dcma_checks(casefile: Casefile, snap: Snapshot, result: ScheduleResult, base
     has_succ = {link.pred for link in snap.links}
     live = live_links(snap)
     n_links = len(live)
-    tf = {a: result[a].total_float for a in task_ids}
+    known_tf = {a: tf for a in task_ids if (tf := result[a].total_float) is not None}
 
     checks: list[QualityCheck] = []
     add = checks.append
@@ -99,10 +99,10 @@ def dcma_checks(casefile: Casefile, snap: Snapshot, result: ScheduleResult, base
     add(ratio_check(5, "hard-constraints", "Hard constraints on tasks",
                     [a.id for a in tasks if a.constraint in HARD_CONSTRAINTS], n_tasks, "<=", HARD_LIMIT))
     add(ratio_check(6, "high-float", f"High float: total float above {HIGH_FLOAT_DAYS} working days",
-                    [a for a in task_ids if tf[a] is not None and tf[a] > HIGH_FLOAT_DAYS],
+                    [a for a in task_ids if a in known_tf and known_tf[a] > HIGH_FLOAT_DAYS],
                     n_tasks, "<=", HIGH_FLOAT_LIMIT))
     add(ratio_check(7, "negative-float", "Negative float",
-                    [a for a in task_ids if tf[a] is not None and tf[a] < 0], n_tasks, "<=",
+                    [a for a in task_ids if a in known_tf and known_tf[a] < 0], n_tasks, "<=",
                     NEGATIVE_FLOAT_LIMIT))
     add(ratio_check(8, "high-duration", f"High duration: above {HIGH_DURATION_DAYS} working days",
                     [a.id for a in tasks if a.duration > HIGH_DURATION_DAYS], n_tasks, "<=",

@@ -54,12 +54,12 @@ def practitioners_checks(
     hub_links = [link for link in live_links if link.pred in hubs or link.succ in hubs]
     tasks = [a for a in open_acts if is_task(a)]
     over = [a.id for a in tasks if a.remaining_duration > a.duration]
-    with_pct = [a for a in acts.values() if a.percent_complete is not None]
+    with_pct = [(a, pct) for a in acts.values() if (pct := a.percent_complete) is not None]
     pct_bad = [
-        a.id for a in with_pct
-        if (a.status == "not-started" and a.percent_complete > 0)
-        or (a.status == "finished" and a.percent_complete < 100)
-        or (a.status == "in-progress" and a.percent_complete >= 100)
+        a.id for a, pct in with_pct
+        if (a.status == "not-started" and pct > 0)
+        or (a.status == "finished" and pct < 100)
+        or (a.status == "in-progress" and pct >= 100)
     ]
     return [
         ratio_check(None, "open-ends", "Open ends: unfinished activities without a predecessor or a successor",

@@ -43,11 +43,12 @@ class Crashable:
 class NetworkNode:
     """One unfinished activity as the program sees it (the engine's quantities, module notes)."""
 
-    __slots__ = ("act", "ix", "status", "dur", "fl", "lim", "lbe", "ube", "lbf", "ubf", "var", "crash")
+    __slots__ = ("act", "ix", "status", "dur", "fl", "lim", "cost", "lbe", "ube", "lbf", "ubf", "var", "crash")
 
     def __init__(self, act: Activity, ix: WorkdayIndex, status: int, dur: int, fl: bool):
         self.act, self.ix, self.status, self.dur, self.fl = act, ix, status, dur, fl
         self.lim = 0
+        self.cost = 0.0  # the crash cost a day, set with a limit above 0
         self.crash: int | None = None  # position in the crashable list
         self.var = -1
         self.lbe = self.lbf = 0
@@ -69,7 +70,9 @@ class NetworkNode:
     def day(self, end: str, k: int) -> int:
         kd = self.kind(end)
         if kd == "c":
-            return day_number(self.act.actual_start)
+            started = self.act.actual_start
+            assert started is not None  # kind "c" is the start of work in progress (status 1)
+            return day_number(started)
         days = self.ix.days
         return days[k] if kd == "d" else days[k - 1] + 1
 
@@ -166,10 +169,13 @@ class Network:
         for a in snapshot.activities.values():
             zero = a.kind != "task" or a.duration == 0
             start_ms = a.kind == "opening-milestone"
-            if a.actual_finish is not None or (zero and a.actual_start is not None):
+            first = a.actual_start or a.actual_finish  # None when neither actual date is given
+            last = a.actual_finish or a.actual_start
+            # Done: an actual finish, or a milestone (zero) with an actual date.
+            if first is not None and last is not None and (a.actual_finish is not None or zero):
                 status[a.id] = 2
-                s_day = day_number(a.actual_start or a.actual_finish)
-                f_day = day_number(a.actual_finish or a.actual_start)
+                s_day = day_number(first)
+                f_day = day_number(last)
                 self.done_s[a.id] = s_day if start_ms or not zero else f_day + 1
                 self.done_f[a.id] = s_day if start_ms else f_day + 1
                 done_finish_day[a.id] = f_day
@@ -190,7 +196,7 @@ class Network:
                 )
                 continue
             if limit > 0:
-                node.lim = limit
+                node.lim, node.cost = limit, float(a.crash_cost)
         return done_finish_day
 
     def _links_into(self) -> dict[str, list]:

@@ -47,6 +47,7 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from datetime import date
+from itertools import pairwise
 
 import numpy as np
 
@@ -124,7 +125,7 @@ class Program:
             nd = net.nodes[aid]
             if nd.lim > 0:
                 nd.crash = len(self.crashable)
-                self.crashable.append(Crashable(nd.act, nd.lim, float(nd.act.crash_cost), nd.dur))
+                self.crashable.append(Crashable(nd.act, nd.lim, nd.cost, nd.dur))
                 x_vars.append(self._new_var(0.0, float(nd.lim), 1))
         y_vars = [self._new_var(0.0, 1.0, 1) for _ in self.crashable]
         self.x_vars, self.y_vars = x_vars, y_vars
@@ -212,11 +213,9 @@ class Program:
     def _add_tightening_rows(self) -> None:
         """Valid cuts: the steps of an end in order, and ``x <= limit * y``."""
         # At or past a later step of an end means at or past every earlier one.
-        prev_key, prev_u = None, None
-        for (aid, end, _a), u in sorted(self._steps.items()):
-            if prev_key == (aid, end):
-                self._rows.append(({prev_u: 1.0, u: -1.0}, 0.0, math.inf))
-            prev_key, prev_u = (aid, end), u
+        for ((aid, end, _a), u), ((next_aid, next_end, _b), next_u) in pairwise(sorted(self._steps.items())):
+            if (aid, end) == (next_aid, next_end):
+                self._rows.append(({u: 1.0, next_u: -1.0}, 0.0, math.inf))
         for c, xv, yv in zip(self.crashable, self.x_vars, self.y_vars, strict=True):  # x <= limit * y
             self._rows.append(({xv: 1.0, yv: -float(c.limit)}, -math.inf, 0.0))
 
