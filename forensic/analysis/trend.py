@@ -215,40 +215,14 @@ def completion_trend(
     schedules = tuple(schedules)
     bands = make_bands(band_edges)
     keys = _key_milestones(casefile, milestones, milestone_limit)
-    names = {}
-    for k in keys:
-        for snap in casefile.snapshots:
-            if k in snap.activities:
-                names[k] = snap.activities[k].name
-                break
-        else:
-            names[k] = k
+    names = {k: _milestone_name(casefile, k) for k in keys}
     base_completion = schedules[0].completion
     contract = casefile.project.contract_completion
     cdates = _contract_dates(casefile, keys, schedules[0].completion_id)
     rows = []
     previous: date | None = None
     for snap, res in zip(casefile.snapshots, schedules, strict=True):
-        counts = [0] * len(bands)
-        finished = 0
-        for x in res.activities.values():
-            if x.total_float is None:
-                finished += 1
-                continue
-            for b, band in enumerate(bands):
-                if band.holds(x.total_float):
-                    counts[b] += 1
-                    break
-        cfloats: dict[str, int | None] = {}
-        for k, (kind, cdate) in cdates.items():
-            scheduled = res.activities.get(k)
-            act = snap.activities.get(k)
-            if scheduled is None or act is None:
-                cfloats[k] = None
-                continue
-            cal = casefile.calendars[act.calendar or casefile.project.default_calendar]
-            forecast = scheduled.early_start if kind == "start" else scheduled.early_finish
-            cfloats[k] = contract_float(cal, forecast, cdate)
+        counts, finished = _band_counts(res, bands)
         mdates = {}
         mfloats = {}
         for k in keys:
@@ -268,11 +242,11 @@ def completion_trend(
                 variance=None if contract is None else delay_between(casefile, contract, res.completion),
                 milestone_dates=frozen_mapping(mdates),
                 milestone_floats=frozen_mapping(mfloats),
-                band_counts=tuple(counts),
+                band_counts=counts,
                 finished=finished,
                 critical=len(res.critical_ids),
                 longest_path=res.longest_path,
-                contract_floats=frozen_mapping(cfloats),
+                contract_floats=frozen_mapping(_contract_floats(casefile, snap, res, cdates)),
             )
         )
         previous = res.completion
@@ -287,3 +261,41 @@ def completion_trend(
         schedules=schedules,
         contract_dates=frozen_mapping({k: d for k, (_, d) in cdates.items()}),
     )
+
+
+def _milestone_name(casefile: Casefile, k: str) -> str:
+    """The name of a followed milestone in the first snapshot that has it (its id when none does)."""
+    for snap in casefile.snapshots:
+        if k in snap.activities:
+            return snap.activities[k].name
+    return k
+
+
+def _band_counts(res: ScheduleResult, bands) -> tuple[tuple[int, ...], int]:
+    """Unfinished activities per float band, and the finished ones (no float)."""
+    counts = [0] * len(bands)
+    finished = 0
+    for x in res.activities.values():
+        if x.total_float is None:
+            finished += 1
+            continue
+        for b, band in enumerate(bands):
+            if band.holds(x.total_float):
+                counts[b] += 1
+                break
+    return tuple(counts), finished
+
+
+def _contract_floats(casefile: Casefile, snap, res: ScheduleResult, cdates) -> dict[str, int | None]:
+    """Each followed date's float to its contractual date in this snapshot (None when it is not there)."""
+    out: dict[str, int | None] = {}
+    for k, (kind, cdate) in cdates.items():
+        scheduled = res.activities.get(k)
+        act = snap.activities.get(k)
+        if scheduled is None or act is None:
+            out[k] = None
+            continue
+        cal = casefile.calendars[act.calendar or casefile.project.default_calendar]
+        forecast = scheduled.early_start if kind == "start" else scheduled.early_finish
+        out[k] = contract_float(cal, forecast, cdate)
+    return out

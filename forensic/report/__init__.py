@@ -75,6 +75,24 @@ def build_report(
     """
     step = progress or (lambda _name: None)
     tpl = template if isinstance(template, Template) else load_template(template)
+    ctx = _gather(casefile, tpl, command, recover_days, step)
+    step("writing the pages")
+    story = _story(ctx, tpl)
+    last = casefile.snapshots[-1]
+    footer = f"{tpl.title} · {casefile.project.name} · data date {long_date(last.data_date)}"
+    return build_pdf(
+        story,
+        title=f"{tpl.title}: {casefile.project.name}",
+        subject=f"{casefile.project.name}, snapshots {casefile.snapshots[0].id} to {last.id}",
+        footer=footer,
+        author=f"forensic {__version__}",
+        creator=f"forensic {__version__}",
+    )
+
+
+def _gather(casefile: Casefile, tpl: Template, command: str, recover_days: int | None,
+            step: Callable[[str], None]) -> ReportContext:
+    """Run the analyses the template's sections need, once each, and name the sections left out."""
     s = tpl.settings
     step(f"scheduling {len(casefile.snapshots)} snapshots")
     trend = completion_trend(
@@ -90,8 +108,9 @@ def build_report(
         if recover_days is not None:
             command += f" --recover-days {recover_days}"
     kinds = set(tpl.kinds())
+    many = len(casefile.snapshots) > 1
     delay = impacts = recovery = None
-    if kinds & {"windows", "slip-by-party", "ledger", "float-ledger", "summary", "window-charts"} and len(casefile.snapshots) > 1:
+    if kinds & {"windows", "slip-by-party", "ledger", "float-ledger", "summary", "window-charts"} and many:
         step("windows analysis")
         delay = analyse_delay(casefile, casefile.windows or None)
     if "time-impact" in kinds and any(e.fragnet or e.activities for e in casefile.events):
@@ -101,15 +120,15 @@ def build_report(
         step("schedule quality")
     quality = assess_casefile(casefile) if "quality" in kinds else None
     comparisons = None
-    if "changes" in kinds and len(casefile.snapshots) > 1:
+    if "changes" in kinds and many:
         snaps = casefile.snapshots
         comparisons = tuple(compare_snapshots(casefile, a.id, b.id) for a, b in zip(snaps, snaps[1:], strict=False))
-    if "but-for" in kinds and len(casefile.snapshots) > 1:
+    if "but-for" in kinds and many:
         step("but-for analysis")
-    butfor = but_for(casefile) if "but-for" in kinds and len(casefile.snapshots) > 1 else None
-    asbuilt = as_planned_vs_as_built(casefile) if "as-built" in kinds and len(casefile.snapshots) > 1 else None
+    butfor = but_for(casefile) if "but-for" in kinds and many else None
+    asbuilt = as_planned_vs_as_built(casefile) if "as-built" in kinds and many else None
     eot = None
-    if kinds & {"delay-summary", "reconciliation"} and len(casefile.snapshots) > 1 and casefile.events:
+    if kinds & {"delay-summary", "reconciliation"} and many and casefile.events:
         from forensic.analysis.eot import delay_summary
 
         if delay is None:
@@ -119,30 +138,25 @@ def build_report(
     if "acceleration" in kinds and recover_days is not None:
         step("acceleration analysis")
         recovery = recover(casefile, casefile.snapshots[-1].id, days=recover_days)
-    left_out = set()
-    if delay is None:
-        left_out |= _NEEDS_DELAY
-    if recovery is None:
-        left_out.add("acceleration")
-    if comparisons is None:
-        left_out.add("changes")
-    if butfor is None:
-        left_out.add("but-for")
-    if asbuilt is None:
-        left_out.add("as-built")
-    if eot is None:
-        left_out |= {"delay-summary", "reconciliation"}
-    ctx = ReportContext(
+    left_out: set[str] = set()
+    for result, needs in ((delay, _NEEDS_DELAY), (recovery, {"acceleration"}), (comparisons, {"changes"}),
+                          (butfor, {"but-for"}), (asbuilt, {"as-built"}), (eot, {"delay-summary", "reconciliation"})):
+        if result is None:
+            left_out |= needs
+    return ReportContext(
         casefile=casefile, template=tpl, trend=trend, command=command, font=family.source,
         delay=delay, impacts=impacts, recovery=recovery, recover_days=recover_days,
         quality=quality, comparisons=comparisons, butfor=butfor, asbuilt=asbuilt, eot=eot, left_out=frozenset(left_out),
     )
-    step("writing the pages")
-    story = []
+
+
+def _story(ctx: ReportContext, tpl: Template) -> list:
+    """Every section of the template, numbered, then the appendix of shortened texts."""
+    story: list = []
     number = 0
     with collect_long_texts() as long_texts:
         for section in tpl.sections:
-            if section.kind in left_out:
+            if section.kind in ctx.left_out:
                 continue  # one snapshot (no window to analyse), or acceleration not asked for
             numbered = section.kind != "cover" and tpl.settings["numbered_headings"]
             flowables = render_section(ctx, section, number + 1 if numbered else None)
@@ -151,16 +165,7 @@ def build_report(
             number += numbered
             story += flowables
     story += _long_text_appendix(long_texts)
-    last = casefile.snapshots[-1]
-    footer = f"{tpl.title} · {casefile.project.name} · data date {long_date(last.data_date)}"
-    return build_pdf(
-        story,
-        title=f"{tpl.title}: {casefile.project.name}",
-        subject=f"{casefile.project.name}, snapshots {casefile.snapshots[0].id} to {last.id}",
-        footer=footer,
-        author=f"forensic {__version__}",
-        creator=f"forensic {__version__}",
-    )
+    return story
 
 
 def _long_text_appendix(long_texts: dict[str, int]) -> list:
