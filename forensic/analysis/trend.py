@@ -118,12 +118,14 @@ class TrendResult:
 def delay_between(casefile: Casefile, earlier: date, later: date) -> int:
     """Days from ``earlier`` to ``later`` in the project's delay unit (negative when earlier).
 
-    Calendar days, or working days of the project's default calendar counted
-    as ``[earlier, later)`` (numpy ``busday_count``).
+    Calendar days, or working days of the project's default calendar in
+    ``(earlier, later]``: the count of :func:`forensic.core.units.unit_counter`
+    that the windows ledger uses, so a Friday-to-Sunday move on a five-day
+    week is 0 and Friday-to-Monday 1 (common practice; tests/test_delay_units.py).
     """
     if casefile.project.delay_unit == "working-days":
         cal = casefile.calendars[casefile.project.default_calendar]
-        return workdays_between(cal, earlier, later)
+        return workdays_between(cal, earlier + timedelta(days=1), later + timedelta(days=1))
     return (later - earlier).days
 
 
