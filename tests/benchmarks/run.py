@@ -145,6 +145,25 @@ def case_startup(runs: int) -> dict:
     return {"forensic_help_s": forensic_s, "import_click_s": click_s, "ratio": forensic_s / click_s}
 
 
+def case_xlsx(n: int, runs: int) -> dict:
+    """One sheet of ``n`` rows (the schedule table of a synthetic casefile) written as XLSX (issue 20: <= 4 s)."""
+    from forensic.casefile.synthetic import generate_casefile
+    from forensic.core.engine import schedule
+    from forensic.core.tables import schedule_table
+    from forensic.exchange.export import to_xlsx
+
+    cf = generate_casefile(n, updates=0, seed=1)
+    snap = cf.snapshots[-1]
+    table = schedule_table(schedule(snap, cf.calendars, cf.project), snap)
+    times = []
+    for _ in range(runs):
+        t = time.perf_counter()
+        data = to_xlsx([table])
+        times.append(time.perf_counter() - t)
+    return {"rows": len(table.rows), "columns": len(table.columns), "xlsx_s": statistics.median(times),
+            "bytes": len(data), "peak_mb": _peak_mb()}
+
+
 def case_eot_ratio(runs: int) -> dict:
     """``forensic eot --json`` against ``forensic windows --json`` on the demo casefile (issue 18 target: <= 3x).
 
@@ -237,12 +256,16 @@ def main() -> None:
     ap.add_argument("--end-to-end-size", type=int, default=50000)
     ap.add_argument("--skip-end-to-end", action="store_true")
     ap.add_argument("--skip-eot", action="store_true", help="skip the eot / windows ratio on the demo")
+    ap.add_argument("--xlsx-rows", type=int, default=50000, help="rows of the XLSX sheet case (0 skips it)")
     a = ap.parse_args()
     if a.case == "cpm":
         print(json.dumps(case_cpm(int(a.arg), a.runs)))
         return
     if a.case == "windows":
         print(json.dumps(case_windows(a.arg)))
+        return
+    if a.case == "xlsx":
+        print(json.dumps(case_xlsx(int(a.arg), a.runs)))
         return
     if a.case == "report":
         print(json.dumps(case_report(a.runs)))
@@ -271,6 +294,11 @@ def main() -> None:
         print(f"demo eot / windows: forensic eot --json {r['eot_s']:.2f} s, forensic windows --json "
               f"{r['windows_s']:.2f} s: {r['ratio']:.2f}x (CPU {r['eot_cpu_s']:.2f} s / {r['windows_cpu_s']:.2f} s: "
               f"{r['cpu_ratio']:.2f}x)")
+    if a.xlsx_rows:
+        r = _sub(["--case", "xlsx", "--arg", str(a.xlsx_rows), "--runs", str(max(1, min(a.runs, 3)))])
+        results["xlsx"] = r
+        print(f"XLSX: one sheet of {r['rows']} rows x {r['columns']} columns in {r['xlsx_s']:.2f} s "
+              f"({r['bytes'] / 1e6:.1f} MB), peak {r['peak_mb']:.0f} MB")
     if not a.skip_windows:
         from forensic.casefile.synthetic import generate_casefile
         from forensic.casefile.writing import write_casefile
