@@ -49,31 +49,10 @@ def assess_quality(
 
     Notes
     -----
-    The measures (DCMA-EA PAM 200.1, Oct 2012; thresholds as recalled, see
-    forensic.analysis.quality.checks):
-
-    1. logic = tasks missing a predecessor or a successor / tasks <= 5 %
-    2. leads = links with negative lag / links = 0 %
-    3. lags = links with positive lag / links <= 5 %
-    4. relationship types = FS links / links >= 90 %
-    5. hard constraints = tasks with a hard constraint / tasks <= 5 %
-    6. high float = tasks with total float > 44 wd / tasks <= 5 %
-    7. negative float = tasks with total float < 0 / tasks = 0 %
-    8. high duration = tasks with duration > 44 wd / tasks <= 5 %
-    9. invalid dates = actual dates on or after the data date, or forecast
-       dates before it / activities = 0 %
-    10. resources: not assessed (the casefile format carries no resources)
-    11. missed tasks = tasks baselined to finish before the data date that
-        finished later than baselined or not at all / those tasks <= 5 %
-    12. critical path test: a delay of ``CP_TEST_DELAY`` wd on the first
-        unfinished task of the longest path moves the completion by as much,
-        in working days of that task's calendar (within 2 % when the path
-        crosses calendars, whose holidays differ)
-    13. CPLI = (CPL + TF) / CPL >= 0.95, CPL the working days from the data
-        date to the forecast completion, TF the completion's float to the
-        contract completion (else the baseline's completion)
-    14. BEI = tasks finished / tasks baselined to finish before the data
-        date >= 0.95
+    The fourteen measures and their thresholds (DCMA-EA PAM 200.1, Oct 2012,
+    as recalled) are listed in the notes of
+    :mod:`forensic.analysis.quality.dcma`, the practitioners' checks in
+    :mod:`forensic.analysis.quality.practice`.
 
     References
     ----------
