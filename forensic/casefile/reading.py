@@ -33,6 +33,7 @@ import tomllib
 from pathlib import Path
 
 from forensic.casefile.csvread import Problems, read_table, read_text, resolve_inside
+from forensic.casefile.fastread import fast_activities, fast_links, frame_table
 from forensic.casefile.fragnets import read_fragnets
 from forensic.casefile.limits import Limits
 from forensic.casefile.loops import check_loops
@@ -62,7 +63,7 @@ from forensic.core.model import Casefile, Snapshot, frozen_mapping
 __all__ = ["CALENDAR_KEYS", "FORMAT", "MANIFEST", "PARTY_KEYS", "PROJECT_KEYS", "Limits", "load_casefile"]
 
 
-def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None) -> Casefile:
+def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None, vectorised: bool = True) -> Casefile:
     """Load a casefile folder (or its ``casefile.toml``) into a :class:`~forensic.core.model.Casefile`.
 
     Parameters
@@ -71,6 +72,9 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None)
         The casefile folder, or the path of its manifest ``casefile.toml``.
     limits : Limits, optional
         Ceilings on file size and on activities and links per table.
+    vectorised : bool, default True
+        Internal: ``False`` reads every table row by row, without the fast
+        path of :mod:`forensic.casefile.fastread` (the same casefile either way).
 
     Returns
     -------
@@ -128,7 +132,7 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None)
         _raise(problems)
     m = Manifest(doc, root, problems)
     ctx = {"calendars": tuple(m.calendars), "parties": tuple(m.parties),
-           "problems": problems, "warnings": warnings, "memo": {},
+           "problems": problems, "warnings": warnings, "memo": {}, "vectorised": vectorised,
            "calendar_objs": m.calendars, "default_calendar": m.project.default_calendar if m.project else None}
 
     snapshots: list[Snapshot] = []
@@ -179,22 +183,30 @@ def _read_snapshot(spec, root: Path, limits: Limits, hashes, ctx) -> tuple[Snaps
     if "activities" in sources:
         rel, full = paths["activities"]
         text = read_text(full, rel, limits.max_file_bytes, problems, hashes)
-        rows = None if text is None else read_table(text, rel, *ACTIVITY_COLUMNS, limits.max_activities, problems)
+        table = None if text is None else _fast_activities(text, rel, data_date, limits, ctx)
+        rows = None if text is None or table is not None else read_table(
+            text, rel, *ACTIVITY_COLUMNS, limits.max_activities, problems)
         if rows is not None:
             table = read_activities(rows, rel, data_date=data_date, calendars=ctx["calendars"],
                                     parties=ctx["parties"], problems=problems, warnings=ctx["warnings"],
                                     memo=ctx["memo"].setdefault("activities", {}))
+        if table is not None:
             if not table.ids:
                 problems.add(rel, None, None, None, f"snapshot {sid} has no activities")
     if "links" in sources:
         rel, full = paths["links"]
         text = read_text(full, rel, limits.max_file_bytes, problems, hashes)
-        rows = None if text is None else read_table(text, rel, *LINK_COLUMNS, limits.max_links, problems)
-        if rows is not None and table is not None:
-            finished = {a.id for a in table.activities.values() if a.actual_finish is not None}
+        finished = set() if table is None else {a.id for a in table.activities.values() if a.actual_finish is not None}
+        fast = None if text is None or table is None else _fast_links(text, rel, table.ids, finished, limits, ctx)
+        rows = None if text is None or fast is not None else read_table(
+            text, rel, *LINK_COLUMNS, limits.max_links, problems)
+        if fast is not None:
+            links = fast
+        elif rows is not None and table is not None:
             links = read_links(rows, rel, known=table.ids, finished=finished,
                                problems=problems, warnings=ctx["warnings"],
                                memo=ctx["memo"].setdefault("links", {}))
+        if fast is not None or (rows is not None and table is not None):
             before = len(problems)
             check_loops(list(table.ids), links, rel, problems)
             if len(problems) == before:
@@ -207,3 +219,24 @@ def _read_snapshot(spec, root: Path, limits: Limits, hashes, ctx) -> tuple[Snaps
                     role, frozen_mapping(sources))
     return snap, ids
 
+
+def _fast_activities(text: str, rel: str, data_date, limits: Limits, ctx):
+    """The activities table by the vectorised fast path, or ``None`` to read it row by row."""
+    if not ctx["vectorised"]:
+        return None
+    frame = frame_table(text, *ACTIVITY_COLUMNS, limits.max_activities)
+    if frame is None:
+        return None
+    return fast_activities(frame, rel, calendars=ctx["calendars"], parties=ctx["parties"], data_date=data_date,
+                           warnings=ctx["warnings"], memo=ctx["memo"].setdefault("activities", {}))
+
+
+def _fast_links(text: str, rel: str, known, finished, limits: Limits, ctx):
+    """The links table by the vectorised fast path, or ``None`` to read it row by row."""
+    if not ctx["vectorised"]:
+        return None
+    frame = frame_table(text, *LINK_COLUMNS, limits.max_links)
+    if frame is None:
+        return None
+    return fast_links(frame, rel, known=known, finished=finished, warnings=ctx["warnings"],
+                      memo=ctx["memo"].setdefault("links", {}))

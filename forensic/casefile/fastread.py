@@ -1,0 +1,332 @@
+"""The loader's vectorised fast path: a snapshot's activities.csv and links.csv read with pandas.
+
+A table is read with :func:`pandas.read_csv` (the C engine, every cell a
+string, no type guessing, no missing-value markers) and checked column by
+column. The fast path only ever *proves a table clean*: each function
+returns ``None`` as soon as a vectorised screen says that any rule of the
+row-wise reader (:mod:`forensic.casefile.csvread`, :mod:`forensic.casefile.records`)
+might fire (a quote, a lone carriage return, a row of another width, a
+blank row, a padded cell it cannot strip the same way, a non-ASCII id, a
+duplicate, an unknown reference, a value a parser refuses, a date rule),
+and the loader then reads that table row by row, so every problem is
+worded by the existing code, exactly as before. Distinct values of a
+column (durations, dates, lags, percentages) are parsed once, by the
+row-wise parsers themselves, so a value means the same on both paths.
+
+Records are built from the columns and share the row-wise reader's
+``memo`` (a row's cells -> its record), so an activity or link unchanged
+from an earlier snapshot is one record, whichever path read it.
+
+References
+----------
+AACE International Recommended Practice 29R-03, Forensic Schedule
+Analysis, sec. 2 (source validation: the schedules must be identified and
+checked before any analysis); the checks themselves are those of the
+row-wise reader.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import re
+from collections.abc import Callable, Collection
+from datetime import date
+
+import numpy as np
+import pandas as pd
+
+from forensic.casefile.csvread import (
+    MAX_DURATION,
+    MAX_ID_CHARS,
+    MAX_TEXT_CHARS,
+    Problems,
+    parse_date,
+    parse_int,
+    parse_number,
+)
+from forensic.casefile.records import ActivityTable
+from forensic.core.model import ACTIVITY_KINDS, CONSTRAINT_KINDS, LINK_TYPES, Activity, Link
+
+__all__ = ["Frame", "fast_activities", "fast_links", "frame_table"]
+
+# A cell with blanks at either end (other than the line ending itself).
+_PADDED = re.compile(r"(?:^|,)[^\S\r\n]|[^\S\r\n](?:,|\r?$)", re.M)
+# An id the fast path takes: printable ASCII without blanks, so it holds no
+# invisible character, no blank and no letters of two scripts.
+_PLAIN_ID = rf"[\x21-\x7e]{{1,{MAX_ID_CHARS}}}"
+_NEWLINE, _COMMA, _CR = 10, 44, 13
+
+Frame = tuple[tuple[str, ...], dict[str, list[str]], list[int]]
+"""A table read by :func:`frame_table`: its header, its columns (stripped cells) and each row's line."""
+
+
+def frame_table(text: str, required: tuple[str, ...], optional: tuple[str, ...], max_rows: int) -> Frame | None:
+    """Read a CSV table into columns, or ``None`` when the row-wise reader must read it.
+
+    ``None`` whenever reading it row by row could record a problem or read
+    it otherwise: quotes, a lone carriage return, a header not on line 1 or
+    with any problem, a non-blank row of another width, a wholly blank row,
+    a line over the ``csv`` field limit, no row, or more than ``max_rows``.
+    """
+    if '"' in text or text.count("\r") != text.count("\r\n"):
+        return None
+    first = text.partition("\n")[0]
+    header = tuple(cell.strip() for cell in first.split(","))
+    allowed = required + optional
+    if (not all(header) or len(set(header)) != len(header) or any(h not in allowed for h in header)
+            or any(c not in header for c in required)):
+        return None
+    screened = _data_lines(text, len(header))
+    if screened is None:
+        return None
+    lines, padded = screened
+    if not lines.size or lines.size > max_rows:
+        return None
+    try:
+        df = pd.read_csv(io.StringIO(text), header=None, skiprows=1, names=list(header), index_col=False,
+                         dtype=str, keep_default_na=False, na_filter=False, engine="c",
+                         quoting=csv.QUOTE_NONE, skip_blank_lines=True)
+    except (ValueError, pd.errors.ParserError):
+        return None
+    if len(df) != lines.size:
+        return None
+    cols = {}
+    for name in header:
+        values = df[name].tolist()
+        cols[name] = [cell.strip() for cell in values] if padded else values
+    if padded and any(not any(row) for row in zip(*cols.values(), strict=True)):
+        return None
+    return header, cols, lines.tolist()
+
+
+def _data_lines(text: str, width: int) -> tuple[np.ndarray, bool] | None:
+    """The 1-based line of each data row, and whether a cell may need stripping.
+
+    ``None`` if a non-empty line has another width than the header, a line
+    is over the ``csv`` field limit, or a row is wholly blank (commas only).
+    """
+    data = np.frombuffer(text.encode("utf-8"), dtype=np.uint8)
+    ends = np.flatnonzero(data == _NEWLINE)
+    if not data.size or data[-1] != _NEWLINE:
+        ends = np.append(ends, data.size)
+    starts = np.concatenate(([0], ends[:-1] + 1))
+    length = ends - starts
+    cr = (length > 0) & (data[np.maximum(ends - 1, 0)] == _CR)
+    length = length - cr
+    if length.size and length.max() >= csv.field_size_limit():
+        return None
+    commas = np.flatnonzero(data == _COMMA)
+    counts = np.searchsorted(commas, ends) - np.searchsorted(commas, starts)
+    full = length > 0
+    if not full[0] or (counts[full] != width - 1).any() or (full & (length == counts)).any():
+        return None
+    number = np.arange(1, length.size + 1)
+    return number[full][1:], _padded(data, text)
+
+
+def _padded(data: np.ndarray, text: str) -> bool:
+    """Whether a cell may start or end with a blank (then every cell is stripped as ``str.strip`` does)."""
+    if not text.isascii():
+        return _PADDED.search(text) is not None
+    blank = (data == 32) | (data == 9) | (data == 11) | (data == 12) | ((data >= 28) & (data <= 31))
+    if blank[0] or blank[-1]:
+        return True
+    sep = np.flatnonzero((data == _COMMA) | (data == _NEWLINE) | (data == _CR))
+    before, after = sep - 1, sep + 1
+    return bool(blank[before[before >= 0]].any() or blank[after[after < data.size]].any())
+
+
+def _by_value(values: list[str], parse: Callable[[str, Problems], object]) -> list | None:
+    """Each cell parsed, distinct values once (blank -> ``None``); ``None`` if the parser refuses one."""
+    codes, uniques = pd.factorize(pd.Series(values, dtype=object), sort=False)
+    scratch = Problems()
+    parsed = np.empty(len(uniques), dtype=object)
+    for i, raw in enumerate(uniques):
+        parsed[i] = parse(raw, scratch) if raw else None
+    if len(scratch):
+        return None
+    return parsed[codes].tolist() if len(uniques) else [None] * len(values)
+
+
+def _column(cols: dict[str, list[str]], name: str, n: int) -> list[str]:
+    return cols[name] if name in cols else [""] * n
+
+
+def _allowed(values: list[str], choices: Collection[str]) -> bool:
+    """Every cell blank or one of ``choices``."""
+    return bool(pd.Series(values, dtype=object).isin(["", *choices]).all())
+
+
+def _parse_activity_columns(cols, n, rel, calendars, parties) -> dict | None:
+    """The parsed columns of a clean activities table (before the rules across columns), or ``None``."""
+    col = {name: _column(cols, name, n) for name in (
+        "id", "name", "kind", "duration", "remaining", "actual_start", "actual_finish", "calendar",
+        "constraint", "constraint_date", "party", "area", "percent_complete", "crash_days", "crash_cost")}
+    ids = pd.Series(col["id"], dtype=object)
+    if not ids.str.fullmatch(_PLAIN_ID).all() or ids.duplicated().any():
+        return None
+    names = pd.Series(col["name"], dtype=object).str.len()
+    area = pd.Series(col["area"], dtype=object).str.len()
+    if (names == 0).any() or (names > MAX_TEXT_CHARS).any() or (area > MAX_TEXT_CHARS).any():
+        return None
+    if "" in col["duration"] or not _allowed(col["kind"], ACTIVITY_KINDS):
+        return None
+    if not (_allowed(col["calendar"], calendars) and _allowed(col["party"], parties)
+            and _allowed(col["constraint"], CONSTRAINT_KINDS)):
+        return None
+    whole = lambda raw, p: parse_int(raw, rel, None, "", p)  # noqa: E731
+    out = {"duration": _by_value(col["duration"], whole), "remaining": _by_value(col["remaining"], whole),
+           "crash_days": _by_value(col["crash_days"], whole),
+           "percent_complete": _by_value(col["percent_complete"],
+                                         lambda raw, p: parse_number(raw, rel, None, "", p, maximum=100.0)),
+           "crash_cost": _by_value(col["crash_cost"], lambda raw, p: parse_number(raw, rel, None, "", p))}
+    for name in ("actual_start", "actual_finish", "constraint_date"):
+        out[name] = _by_value(col[name], lambda raw, p: parse_date(raw, rel, None, "", p))
+    if any(v is None for v in out.values()):
+        return None
+    return {**col, **{f"parsed_{k}": v for k, v in out.items()}}
+
+
+def _as_array(values: list) -> np.ndarray:
+    arr = np.empty(len(values), dtype=object)
+    arr[:] = values
+    return arr
+
+
+def _resolve_activity_rules(p: dict, n: int, data_date: date | None):
+    """The rules across columns; returns (start, finish, remaining, warned rows) or ``None``."""
+    dur, rem, crash = (_as_array(p[f"parsed_{k}"]) for k in ("duration", "remaining", "crash_days"))
+    start, finish = _as_array(p["parsed_actual_start"]), _as_array(p["parsed_actual_finish"])
+    has_rem, has_start, has_finish = rem != None, start != None, finish != None  # noqa: E711
+    has_crash = crash != None  # noqa: E711
+    if (crash[has_crash] > dur[has_crash]).any():
+        return None
+    constraint = np.array(p["constraint"], dtype=object) != ""
+    cdate = np.array(p["constraint_date"], dtype=object) != ""
+    if (constraint != cdate).any():
+        return None
+    task = np.array(p["kind"], dtype=object)
+    task = (task == "") | (task == "task")
+    mile = ~task
+    both = has_start & has_finish
+    if ((mile & (dur != 0)).any() or (mile & has_rem & (rem != 0)).any()
+            or (mile & both & (start != finish)).any()):
+        return None
+    ordered = task & both
+    if (task & has_finish & ~has_start).any() or (finish[ordered] < start[ordered]).any():
+        return None
+    if data_date is not None and ((start[has_start] >= data_date).any() or (finish[has_finish] >= data_date).any()):
+        return None
+    merged = np.where(has_start, start, finish)
+    start = np.where(mile, merged, start)
+    finish = np.where(mile, merged, finish)
+    if (task & has_finish & has_rem & (rem != 0)).any():
+        return None
+    in_progress = task & ~has_finish & has_start
+    if (in_progress & ~has_rem).any():
+        return None
+    warned = in_progress & has_rem & (rem == 0)
+    rem = np.where(mile | (task & has_finish), 0, rem)
+    rem = np.where(task & ~has_finish & ~has_start & ~has_rem, dur, rem)
+    return start.tolist(), finish.tolist(), rem.tolist(), warned
+
+
+def fast_activities(
+    frame: Frame,
+    rel: str,
+    *,
+    calendars: Collection[str],
+    parties: Collection[str],
+    data_date: date | None,
+    warnings: list[str],
+    memo: dict | None = None,
+) -> ActivityTable | None:
+    """A snapshot's activities from a clean table, as :func:`~forensic.casefile.records.read_activities` reads them.
+
+    ``None`` (and nothing recorded) when any row might hold a problem or a
+    warning other than "in progress with remaining 0": the caller then
+    reads the table row by row.
+    """
+    header, cols, lines = frame
+    n = len(lines)
+    p = _parse_activity_columns(cols, n, rel, calendars, parties)
+    if p is None:
+        return None
+    rules = _resolve_activity_rules(p, n, data_date)
+    if rules is None:
+        return None
+    start, finish, rem, warned = rules
+    bucket = {} if memo is None else memo.setdefault(header, {})
+    table = ActivityTable(rel)
+    acts, seen = table.activities, table.ids
+    ids, kinds = p["id"], p["kind"]
+    dur, cdate = p["parsed_duration"], p["parsed_constraint_date"]
+    pct, crash, cost = p["parsed_percent_complete"], p["parsed_crash_days"], p["parsed_crash_cost"]
+    cal, con, party, area, name = p["calendar"], p["constraint"], p["party"], p["area"], p["name"]
+    warn_rows = set(np.flatnonzero(warned).tolist())
+    for i, key in enumerate(zip(*(cols[h] for h in header), strict=True)):
+        line = lines[i]
+        act = bucket.get(key)
+        if act is None:
+            act = Activity(ids[i], name[i], dur[i], kinds[i] or "task", rem[i], start[i], finish[i], cal[i] or None,
+                           con[i] or None, cdate[i], party[i] or None, area[i] or None, pct[i], crash[i], cost[i], line)
+            if i not in warn_rows:
+                bucket[key] = act
+        elif act.line != line:
+            act = bucket[key] = Activity(
+                act.id, act.name, act.duration, act.kind, act.remaining, act.actual_start, act.actual_finish,
+                act.calendar, act.constraint, act.constraint_date, act.party, act.area, act.percent_complete,
+                act.crash_days, act.crash_cost, line)
+        seen[act.id] = line
+        acts[act.id] = act
+    warnings.extend(f"{rel}, line {lines[i]}: activity {ids[i]} is in progress with remaining 0 "
+                    "and no actual_finish" for i in sorted(warn_rows))
+    return table
+
+
+def fast_links(
+    frame: Frame,
+    rel: str,
+    *,
+    known: Collection[str],
+    finished: Collection[str],
+    warnings: list[str],
+    memo: dict | None = None,
+) -> list[Link] | None:
+    """A snapshot's links from a clean table, as :func:`~forensic.casefile.records.read_links` reads them.
+
+    ``None`` (and nothing recorded) when any row might hold a problem: a
+    blank or unknown end, a link to itself, an unknown type, a lag the
+    parser refuses, a duplicate. The warnings of links into finished work
+    from unfinished work are the row-wise reader's, in line order.
+    """
+    header, cols, lines = frame
+    n = len(lines)
+    pred, succ = cols["pred"], cols["succ"]
+    ltype = [t or "FS" for t in _column(cols, "type", n)]
+    ps, ss = pd.Series(pred, dtype=object), pd.Series(succ, dtype=object)
+    known_list = list(known)
+    if not (ps.isin(known_list).all() and ss.isin(known_list).all()) or (ps == ss).any():
+        return None
+    if not _allowed(ltype, LINK_TYPES):
+        return None
+    lags = _by_value(_column(cols, "lag", n), lambda raw, p: parse_int(
+        raw, rel, None, "lag", p, minimum=None, maximum=MAX_DURATION,
+        what="a lag in whole working days (negative for a lead)"))
+    if lags is None or pd.DataFrame({"p": pred, "s": succ, "t": ltype}).duplicated().any():
+        return None
+    done = list(finished)
+    warn = (ss.isin(done) & ~ps.isin(done)).to_numpy()
+    bucket = {} if memo is None else memo.setdefault(header, {})
+    links = []
+    for i, key in enumerate(zip(*(cols[h] for h in header), strict=True)):
+        line = lines[i]
+        hit = bucket.get(key)
+        if hit is None or hit.line != line:
+            lag = lags[i]
+            hit = bucket[key] = Link(pred[i], succ[i], ltype[i], 0 if lag is None else lag, line)
+        links.append(hit)
+    warnings.extend(f"{rel}, line {lines[i]}: link {pred[i]} -> {succ[i]} has no effect, "
+                    f"because {succ[i]} is finished and {pred[i]} is not" for i in np.flatnonzero(warn).tolist())
+    return links
