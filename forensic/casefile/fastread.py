@@ -13,9 +13,10 @@ worded by the existing code, exactly as before. Distinct values of a
 column (durations, dates, lags, percentages) are parsed once, by the
 row-wise parsers themselves, so a value means the same on both paths.
 
-Records are built from the columns and share the row-wise reader's
-``memo`` (a row's cells -> its record), so an activity or link unchanged
-from an earlier snapshot is one record, whichever path read it.
+Records are built from the columns. Like the row-wise reader, the fast
+path keeps a ``memo`` shared by the snapshots of a casefile (here a row's
+text -> its record), so a row unchanged from an earlier snapshot is built
+once and its record shared (or, moved to another line, rebuilt from it).
 
 References
 ----------
@@ -57,8 +58,8 @@ _PADDED = re.compile(r"(?:^|,)[^\S\r\n]|[^\S\r\n](?:,|\r?$)", re.M)
 _PLAIN_ID = rf"[\x21-\x7e]{{1,{MAX_ID_CHARS}}}"
 _NEWLINE, _COMMA, _CR = 10, 44, 13
 
-Frame = tuple[tuple[str, ...], dict[str, list[str]], list[int]]
-"""A table read by :func:`frame_table`: its header, its columns (stripped cells) and each row's line."""
+Frame = tuple[tuple[str, ...], dict[str, list[str]], list[int], list[str]]
+"""A table read by :func:`frame_table`: its header, its columns (stripped cells), each row's line and text."""
 
 
 def frame_table(text: str, required: tuple[str, ...], optional: tuple[str, ...], max_rows: int) -> Frame | None:
@@ -97,7 +98,9 @@ def frame_table(text: str, required: tuple[str, ...], optional: tuple[str, ...],
         cols[name] = [cell.strip() for cell in values] if padded else values
     if padded and any(not any(row) for row in zip(*cols.values(), strict=True)):
         return None
-    return header, cols, lines.tolist()
+    lines = lines.tolist()
+    every = text.split("\n")
+    return header, cols, lines, [every[k - 1] for k in lines]
 
 
 def _data_lines(text: str, width: int) -> tuple[np.ndarray, bool] | None:
@@ -122,19 +125,20 @@ def _data_lines(text: str, width: int) -> tuple[np.ndarray, bool] | None:
     if not full[0] or (counts[full] != width - 1).any() or (full & (length == counts)).any():
         return None
     number = np.arange(1, length.size + 1)
-    return number[full][1:], _padded(data, text)
+    return number[full][1:], _padded(data, text, commas, starts, ends)
 
 
-def _padded(data: np.ndarray, text: str) -> bool:
+_BLANK_BYTE = np.zeros(256, dtype=bool)
+_BLANK_BYTE[[9, 11, 12, 28, 29, 30, 31, 32]] = True
+
+
+def _padded(data: np.ndarray, text: str, commas: np.ndarray, starts: np.ndarray, ends: np.ndarray) -> bool:
     """Whether a cell may start or end with a blank (then every cell is stripped as ``str.strip`` does)."""
     if not text.isascii():
         return _PADDED.search(text) is not None
-    blank = (data == 32) | (data == 9) | (data == 11) | (data == 12) | ((data >= 28) & (data <= 31))
-    if blank[0] or blank[-1]:
-        return True
-    sep = np.flatnonzero((data == _COMMA) | (data == _NEWLINE) | (data == _CR))
-    before, after = sep - 1, sep + 1
-    return bool(blank[before[before >= 0]].any() or blank[after[after < data.size]].any())
+    edges = np.concatenate((commas - 1, commas + 1, starts, ends - 1, ends - 2))
+    edges = edges[(edges >= 0) & (edges < data.size)]
+    return bool(_BLANK_BYTE[data[edges]].any())
 
 
 def _by_value(values: list[str], parse: Callable[[str, Problems], object]) -> list | None:
@@ -248,7 +252,7 @@ def fast_activities(
     warning other than "in progress with remaining 0": the caller then
     reads the table row by row.
     """
-    header, cols, lines = frame
+    header, cols, lines, texts = frame
     n = len(lines)
     p = _parse_activity_columns(cols, n, rel, calendars, parties)
     if p is None:
@@ -257,7 +261,7 @@ def fast_activities(
     if rules is None:
         return None
     start, finish, rem, warned = rules
-    bucket = {} if memo is None else memo.setdefault(header, {})
+    bucket = {} if memo is None else memo.setdefault(("line", header), {})
     table = ActivityTable(rel)
     acts, seen = table.activities, table.ids
     ids, kinds = p["id"], p["kind"]
@@ -265,7 +269,7 @@ def fast_activities(
     pct, crash, cost = p["parsed_percent_complete"], p["parsed_crash_days"], p["parsed_crash_cost"]
     cal, con, party, area, name = p["calendar"], p["constraint"], p["party"], p["area"], p["name"]
     warn_rows = set(np.flatnonzero(warned).tolist())
-    for i, key in enumerate(zip(*(cols[h] for h in header), strict=True)):
+    for i, key in enumerate(texts):
         line = lines[i]
         act = bucket.get(key)
         if act is None:
@@ -301,7 +305,7 @@ def fast_links(
     parser refuses, a duplicate. The warnings of links into finished work
     from unfinished work are the row-wise reader's, in line order.
     """
-    header, cols, lines = frame
+    _, cols, lines, texts = frame
     n = len(lines)
     pred, succ = cols["pred"], cols["succ"]
     ltype = [t or "FS" for t in _column(cols, "type", n)]
@@ -318,14 +322,16 @@ def fast_links(
         return None
     done = list(finished)
     warn = (ss.isin(done) & ~ps.isin(done)).to_numpy()
-    bucket = {} if memo is None else memo.setdefault(header, {})
+    bucket = {} if memo is None else memo.setdefault(("line", frame[0]), {})
     links = []
-    for i, key in enumerate(zip(*(cols[h] for h in header), strict=True)):
+    for i, key in enumerate(texts):
         line = lines[i]
         hit = bucket.get(key)
-        if hit is None or hit.line != line:
+        if hit is None:
             lag = lags[i]
             hit = bucket[key] = Link(pred[i], succ[i], ltype[i], 0 if lag is None else lag, line)
+        elif hit.line != line:
+            hit = bucket[key] = Link(hit.pred, hit.succ, hit.type, hit.lag, line)
         links.append(hit)
     warnings.extend(f"{rel}, line {lines[i]}: link {pred[i]} -> {succ[i]} has no effect, "
                     f"because {succ[i]} is finished and {pred[i]} is not" for i in np.flatnonzero(warn).tolist())
