@@ -116,6 +116,7 @@ LINK_EDITS = {
     "bad lag": lambda t: t.replace(",FS,0", ",FS,1.5", 1),
     "bad type": lambda t: t.replace(",FS,", ",XX,", 1),
     "padded lag": lambda t: t.replace(",FS,0", ",FS, 0 ", 1),
+    "logic loop": lambda t: t + t.splitlines()[1].split(",")[1] + ",START,FS,0\n",
 }
 
 

@@ -49,7 +49,7 @@ from forensic.casefile.csvread import (
 from forensic.casefile.records import ActivityTable
 from forensic.core.model import ACTIVITY_KINDS, CONSTRAINT_KINDS, LINK_TYPES, Activity, Link
 
-__all__ = ["Frame", "fast_activities", "fast_links", "frame_table"]
+__all__ = ["Frame", "fast_activities", "fast_links", "frame_table", "has_no_loop"]
 
 # A cell with blanks at either end (other than the line ending itself).
 _PADDED = re.compile(r"(?:^|,)[^\S\r\n]|[^\S\r\n](?:,|\r?$)", re.M)
@@ -268,24 +268,26 @@ def fast_activities(
     dur, cdate = p["parsed_duration"], p["parsed_constraint_date"]
     pct, crash, cost = p["parsed_percent_complete"], p["parsed_crash_days"], p["parsed_crash_cost"]
     cal, con, party, area, name = p["calendar"], p["constraint"], p["party"], p["area"], p["name"]
-    warn_rows = set(np.flatnonzero(warned).tolist())
-    for i, key in enumerate(texts):
-        line = lines[i]
-        act = bucket.get(key)
+    warn_rows = np.flatnonzero(warned).tolist()
+    get = bucket.get
+    for key, line, aid, nm, d, k, r, s, f, c, cn, cd, pa, ar, pc, cr, co, w in zip(
+            texts, lines, ids, name, dur, kinds, rem, start, finish, cal, con, cdate, party, area, pct, crash, cost,
+            warned.tolist(), strict=True):
+        act = get(key)
         if act is None:
-            act = Activity(ids[i], name[i], dur[i], kinds[i] or "task", rem[i], start[i], finish[i], cal[i] or None,
-                           con[i] or None, cdate[i], party[i] or None, area[i] or None, pct[i], crash[i], cost[i], line)
-            if i not in warn_rows:
+            act = Activity(aid, nm, d, k or "task", r, s, f, c or None, cn or None, cd, pa or None, ar or None,
+                           pc, cr, co, line)
+            if not w:
                 bucket[key] = act
         elif act.line != line:
             act = bucket[key] = Activity(
                 act.id, act.name, act.duration, act.kind, act.remaining, act.actual_start, act.actual_finish,
                 act.calendar, act.constraint, act.constraint_date, act.party, act.area, act.percent_complete,
                 act.crash_days, act.crash_cost, line)
-        seen[act.id] = line
-        acts[act.id] = act
+        seen[aid] = line
+        acts[aid] = act
     warnings.extend(f"{rel}, line {lines[i]}: activity {ids[i]} is in progress with remaining 0 "
-                    "and no actual_finish" for i in sorted(warn_rows))
+                    "and no actual_finish" for i in warn_rows)
     return table
 
 
@@ -297,8 +299,11 @@ def fast_links(
     finished: Collection[str],
     warnings: list[str],
     memo: dict | None = None,
-) -> list[Link] | None:
+) -> tuple[list[Link], np.ndarray, np.ndarray] | None:
     """A snapshot's links from a clean table, as :func:`~forensic.casefile.records.read_links` reads them.
+
+    Returns the links and the position in ``known`` of each one's
+    predecessor and successor (for :func:`has_no_loop`).
 
     ``None`` (and nothing recorded) when any row might hold a problem: a
     blank or unknown end, a link to itself, an unknown type, a lag the
@@ -308,31 +313,61 @@ def fast_links(
     _, cols, lines, texts = frame
     n = len(lines)
     pred, succ = cols["pred"], cols["succ"]
-    ltype = [t or "FS" for t in _column(cols, "type", n)]
-    ps, ss = pd.Series(pred, dtype=object), pd.Series(succ, dtype=object)
-    known_list = list(known)
-    if not (ps.isin(known_list).all() and ss.isin(known_list).all()) or (ps == ss).any():
+    index = pd.Index(list(known), dtype=object)
+    lp, ls = index.get_indexer(pred), index.get_indexer(succ)
+    if (lp < 0).any() or (ls < 0).any() or (lp == ls).any():
         return None
-    if not _allowed(ltype, LINK_TYPES):
+    code = pd.Index(["", *LINK_TYPES], dtype=object).get_indexer(_column(cols, "type", n))
+    if (code < 0).any():
         return None
+    code = np.where(code == 0, 0, code - 1)  # blank is FS
+    ltype = np.array(LINK_TYPES, dtype=object)[code].tolist()
     lags = _by_value(_column(cols, "lag", n), lambda raw, p: parse_int(
         raw, rel, None, "lag", p, minimum=None, maximum=MAX_DURATION,
         what="a lag in whole working days (negative for a lead)"))
-    if lags is None or pd.DataFrame({"p": pred, "s": succ, "t": ltype}).duplicated().any():
+    if lags is None or np.unique((lp * len(index) + ls) * len(LINK_TYPES) + code).size != n:
         return None
-    done = list(finished)
-    warn = (ss.isin(done) & ~ps.isin(done)).to_numpy()
+    done = np.zeros(len(index), dtype=bool)
+    at = index.get_indexer(list(finished))
+    done[at[at >= 0]] = True
+    warn = done[ls] & ~done[lp]
     bucket = {} if memo is None else memo.setdefault(("line", frame[0]), {})
-    links = []
-    for i, key in enumerate(texts):
-        line = lines[i]
-        hit = bucket.get(key)
+    links: list[Link] = []
+    append, get = links.append, bucket.get
+    for key, line, p_, s_, t_, lag in zip(texts, lines, pred, succ, ltype, lags, strict=True):
+        hit = get(key)
         if hit is None:
-            lag = lags[i]
-            hit = bucket[key] = Link(pred[i], succ[i], ltype[i], 0 if lag is None else lag, line)
+            hit = bucket[key] = Link(p_, s_, t_, lag or 0, line)
         elif hit.line != line:
             hit = bucket[key] = Link(hit.pred, hit.succ, hit.type, hit.lag, line)
-        links.append(hit)
+        append(hit)
     warnings.extend(f"{rel}, line {lines[i]}: link {pred[i]} -> {succ[i]} has no effect, "
                     f"because {succ[i]} is finished and {pred[i]} is not" for i in np.flatnonzero(warn).tolist())
-    return links
+    return links, lp, ls
+
+
+def has_no_loop(n: int, lp: np.ndarray, ls: np.ndarray) -> bool:
+    """Whether a network of ``n`` activities has no logic loop (Kahn's algorithm, a frontier at a time).
+
+    ``lp`` and ``ls`` are the positions of each link's ends. ``True`` proves
+    that :func:`~forensic.casefile.loops.check_loops` would find nothing; on
+    ``False`` the loader runs it to name the loops.
+    """
+    indeg = np.bincount(ls, minlength=n)
+    order = np.argsort(lp, kind="stable")
+    succ_sorted = ls[order]
+    starts = np.searchsorted(lp[order], np.arange(n + 1))
+    frontier = np.flatnonzero(indeg == 0)
+    placed = 0
+    while frontier.size:
+        placed += frontier.size
+        lo, hi = starts[frontier], starts[frontier + 1]
+        counts = hi - lo
+        total = int(counts.sum())
+        if not total:
+            break
+        succ = succ_sorted[np.repeat(hi - counts.cumsum(), counts) + np.arange(total)]
+        hit, times = np.unique(succ, return_counts=True)
+        indeg[hit] -= times
+        frontier = hit[indeg[hit] == 0]
+    return placed == n

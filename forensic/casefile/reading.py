@@ -33,7 +33,7 @@ import tomllib
 from pathlib import Path
 
 from forensic.casefile.csvread import Problems, read_table, read_text, resolve_inside
-from forensic.casefile.fastread import fast_activities, fast_links, frame_table
+from forensic.casefile.fastread import fast_activities, fast_links, frame_table, has_no_loop
 from forensic.casefile.fragnets import read_fragnets
 from forensic.casefile.limits import Limits
 from forensic.casefile.loops import check_loops
@@ -201,14 +201,15 @@ def _read_snapshot(spec, root: Path, limits: Limits, hashes, ctx) -> tuple[Snaps
         rows = None if text is None or fast is not None else read_table(
             text, rel, *LINK_COLUMNS, limits.max_links, problems)
         if fast is not None:
-            links = fast
+            links, lp, ls = fast
         elif rows is not None and table is not None:
             links = read_links(rows, rel, known=table.ids, finished=finished,
                                problems=problems, warnings=ctx["warnings"],
                                memo=ctx["memo"].setdefault("links", {}))
         if fast is not None or (rows is not None and table is not None):
             before = len(problems)
-            check_loops(list(table.ids), links, rel, problems)
+            if fast is None or not has_no_loop(len(table.ids), lp, ls):
+                check_loops(list(table.ids), links, rel, problems)
             if len(problems) == before:
                 check_span(table.activities, links, ctx["calendar_objs"], ctx["default_calendar"],
                            paths["activities"][0], problems)
