@@ -1,6 +1,7 @@
 """The loader's vectorised fast path reads the same casefile, and the same problems, as the row-wise reader."""
 
 import dataclasses
+import re
 import shutil
 from pathlib import Path
 
@@ -91,6 +92,7 @@ EDITS = {
     "unknown calendar": lambda t: t.replace(",5d,", ",9d,", 1),
     "non-ascii id": lambda t: t.replace("\n", "\n\u0420", 2),
     "late actual": lambda t: t.replace("2027-", "2199-", 1),
+    "over the span ceiling": lambda t: re.sub(r",task,[0-9]+,,,,", ",task,36500,,,,", t),
 }
 
 

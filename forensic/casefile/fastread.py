@@ -299,11 +299,12 @@ def fast_links(
     finished: Collection[str],
     warnings: list[str],
     memo: dict | None = None,
-) -> tuple[list[Link], np.ndarray, np.ndarray] | None:
+) -> tuple[list[Link], tuple[np.ndarray, ...]] | None:
     """A snapshot's links from a clean table, as :func:`~forensic.casefile.records.read_links` reads them.
 
-    Returns the links and the position in ``known`` of each one's
-    predecessor and successor (for :func:`has_no_loop`).
+    Returns the links and their columns ``(pred, succ, type, lag)``: the
+    positions in ``known`` of the ends (for :func:`has_no_loop`), the type
+    as an index of ``LINK_TYPES`` and the lag (for the span check).
 
     ``None`` (and nothing recorded) when any row might hold a problem: a
     blank or unknown end, a link to itself, an unknown type, a lag the
@@ -343,7 +344,7 @@ def fast_links(
         append(hit)
     warnings.extend(f"{rel}, line {lines[i]}: link {pred[i]} -> {succ[i]} has no effect, "
                     f"because {succ[i]} is finished and {pred[i]} is not" for i in np.flatnonzero(warn).tolist())
-    return links, lp, ls
+    return links, (lp, ls, code, np.array([x.lag for x in links], dtype=np.int64))
 
 
 def has_no_loop(n: int, lp: np.ndarray, ls: np.ndarray) -> bool:

@@ -200,19 +200,21 @@ def _read_snapshot(spec, root: Path, limits: Limits, hashes, ctx) -> tuple[Snaps
         fast = None if text is None or table is None else _fast_links(text, rel, table.ids, finished, limits, ctx)
         rows = None if text is None or fast is not None else read_table(
             text, rel, *LINK_COLUMNS, limits.max_links, problems)
+        columns = None
         if fast is not None:
-            links, lp, ls = fast
+            links, columns = fast
         elif rows is not None and table is not None:
             links = read_links(rows, rel, known=table.ids, finished=finished,
                                problems=problems, warnings=ctx["warnings"],
                                memo=ctx["memo"].setdefault("links", {}))
         if fast is not None or (rows is not None and table is not None):
             before = len(problems)
-            if fast is None or not has_no_loop(len(table.ids), lp, ls):
+            if columns is None or not has_no_loop(len(table.ids), columns[0], columns[1]):
                 check_loops(list(table.ids), links, rel, problems)
             if len(problems) == before:
+                same = columns is not None and len(table.activities) == len(table.ids)
                 check_span(table.activities, links, ctx["calendar_objs"], ctx["default_calendar"],
-                           paths["activities"][0], problems)
+                           paths["activities"][0], problems, link_columns=columns if same else None)
     ids = set() if table is None else set(table.ids)
     if table is None or len(sources) < 2 or data_date is None or sid is None:
         return None, ids
