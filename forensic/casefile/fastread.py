@@ -14,9 +14,11 @@ column (durations, dates, lags, percentages) are parsed once, by the
 row-wise parsers themselves, so a value means the same on both paths.
 
 Records are built from the columns. Like the row-wise reader, the fast
-path keeps a ``memo`` shared by the snapshots of a casefile (here a row's
-text -> its record), so a row unchanged from an earlier snapshot is built
-once and its record shared (or, moved to another line, rebuilt from it).
+path keeps a ``memo`` of activities shared by the snapshots of a casefile
+(here a row's text -> its record), so an activity unchanged from an
+earlier snapshot is built once and its record shared (or, moved to another
+line, rebuilt from it); links are built straight from the columns, with
+the activities' own id strings.
 
 References
 ----------
@@ -284,8 +286,8 @@ def fast_activities(
                 act.id, act.name, act.duration, act.kind, act.remaining, act.actual_start, act.actual_finish,
                 act.calendar, act.constraint, act.constraint_date, act.party, act.area, act.percent_complete,
                 act.crash_days, act.crash_cost, line)
-        seen[aid] = line
-        acts[aid] = act
+        seen[act.id] = line
+        acts[act.id] = act
     warnings.extend(f"{rel}, line {lines[i]}: activity {ids[i]} is in progress with remaining 0 "
                     "and no actual_finish" for i in warn_rows)
     return table
@@ -298,7 +300,6 @@ def fast_links(
     known: Collection[str],
     finished: Collection[str],
     warnings: list[str],
-    memo: dict | None = None,
 ) -> tuple[list[Link], tuple[np.ndarray, ...]] | None:
     """A snapshot's links from a clean table, as :func:`~forensic.casefile.records.read_links` reads them.
 
@@ -332,19 +333,15 @@ def fast_links(
     at = index.get_indexer(list(finished))
     done[at[at >= 0]] = True
     warn = done[ls] & ~done[lp]
-    bucket = {} if memo is None else memo.setdefault(("line", frame[0]), {})
-    links: list[Link] = []
-    append, get = links.append, bucket.get
-    for key, line, p_, s_, t_, lag in zip(texts, lines, pred, succ, ltype, lags, strict=True):
-        hit = get(key)
-        if hit is None:
-            hit = bucket[key] = Link(p_, s_, t_, lag or 0, line)
-        elif hit.line != line:
-            hit = bucket[key] = Link(hit.pred, hit.succ, hit.type, hit.lag, line)
-        append(hit)
+    # The ends are the activity table's own id strings (shared with its records and, for an
+    # unchanged activity, with earlier snapshots); a link is built straight from the columns,
+    # which is faster than looking a row up in a memo (a moved row needs a new record anyway).
+    ends = np.array(list(known), dtype=object)
+    lag_list = [lag or 0 for lag in lags]
+    links = list(map(Link, ends[lp].tolist(), ends[ls].tolist(), ltype, lag_list, lines))
     warnings.extend(f"{rel}, line {lines[i]}: link {pred[i]} -> {succ[i]} has no effect, "
                     f"because {succ[i]} is finished and {pred[i]} is not" for i in np.flatnonzero(warn).tolist())
-    return links, (lp, ls, code, np.array([x.lag for x in links], dtype=np.int64))
+    return links, (lp, ls, code, np.array(lag_list, dtype=np.int64))
 
 
 def has_no_loop(n: int, lp: np.ndarray, ls: np.ndarray) -> bool:

@@ -241,5 +241,4 @@ def _fast_links(text: str, rel: str, known, finished, limits: Limits, ctx):
     frame = frame_table(text, *LINK_COLUMNS, limits.max_links)
     if frame is None:
         return None
-    return fast_links(frame, rel, known=known, finished=finished, warnings=ctx["warnings"],
-                      memo=ctx["memo"].setdefault("links", {}))
+    return fast_links(frame, rel, known=known, finished=finished, warnings=ctx["warnings"])
