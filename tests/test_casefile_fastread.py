@@ -54,8 +54,13 @@ def _count_rowwise(monkeypatch) -> dict[str, int]:
     return calls
 
 
-def test_demo_casefile_is_the_same_on_both_paths():
-    _assert_same(load_casefile(DEMO), load_casefile(DEMO, vectorised=False))
+def test_demo_casefile_is_the_same_on_both_paths_and_uses_the_fast_path(monkeypatch):
+    slow = load_casefile(DEMO, vectorised=False)
+    calls = _count_rowwise(monkeypatch)
+    fast = load_casefile(DEMO)
+    monkeypatch.undo()
+    assert calls == {"activities": 0, "links": 0}, "the demo's tables (names quoted) fell back to the row-wise reader"
+    _assert_same(fast, slow)
 
 
 def test_synthetic_casefiles_are_the_same_on_both_paths_and_use_the_fast_path(synthetic, monkeypatch):
@@ -80,6 +85,10 @@ def _problems(folder):
     return out
 
 
+def _quote_all(line: str) -> str:
+    return ",".join(f'"{cell}"' for cell in line.split(","))
+
+
 EDITS = {
     "duplicate id": lambda t: t.replace("\n", "\n" + t.splitlines()[2] + "\n", 1),
     "bad duration": lambda t: t.replace(",task,", ",task,x", 1),
@@ -93,6 +102,15 @@ EDITS = {
     "non-ascii id": lambda t: t.replace("\n", "\n\u0420", 2),
     "late actual": lambda t: t.replace("2027-", "2199-", 1),
     "over the span ceiling": lambda t: re.sub(r",task,[0-9]+,,,,", ",task,36500,,,,", t),
+    "quoted comma": lambda t: t.replace(",Start of works,", ',"Start, of works",', 1),
+    "quoted line break": lambda t: t.replace(",Start of works,", ',"Start of\nworks",', 1),
+    "doubled quotes": lambda t: t.replace(",Start of works,", ',"Start ""of"" works",', 1),
+    "quote inside a cell": lambda t: t.replace(",Start of works,", ',Start "of" works,', 1),
+    "blank after a quote": lambda t: t.replace(",Start of works,", ',"Start of works" ,', 1),
+    "blanks inside quotes": lambda t: t.replace(",Start of works,", ',"  Start of works ",', 1),
+    "every cell quoted": lambda t: "\n".join(_quote_all(line) for line in t.splitlines()) + "\n",
+    "every row quoted": lambda t: "\n".join([t.splitlines()[0], *map(_quote_all, t.splitlines()[1:])]) + "\n",
+    "empty quoted row": lambda t: t + '""' + ',""' * 14 + "\n",
 }
 
 
@@ -109,7 +127,9 @@ def test_an_edited_activities_table_gives_the_same_result_on_both_paths(edit, sy
 
 
 # The edits the row-wise reader accepts (the fast path hands them to it, and the casefile loads).
-LOADS = {"padded cell", "crlf", "blank lines", "quoted name", "padded lag"}
+LOADS = {"padded cell", "crlf", "blank lines", "quoted name", "padded lag", "quoted comma", "quoted line break",
+         "doubled quotes", "quote inside a cell", "blanks inside quotes", "every cell quoted", "every row quoted",
+         "empty quoted row"}
 
 LINK_EDITS = {
     "unknown end": lambda t: t.replace("\n", "\nNOPE,START,FS,0\n", 1),

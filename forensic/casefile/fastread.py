@@ -55,6 +55,8 @@ __all__ = ["Frame", "fast_activities", "fast_links", "frame_table", "has_no_loop
 
 # A cell with blanks at either end (other than the line ending itself).
 _PADDED = re.compile(r"(?:^|,)[^\S\r\n]|[^\S\r\n](?:,|\r?$)", re.M)
+# A quoted cell on one line: the whole cell between its separators, quotes doubled inside.
+_QUOTED = re.compile(r'(?:^|(?<=,))"(?:[^"\r\n]|"")*"(?=,|\r?$)', re.M)
 # An id the fast path takes: printable ASCII without blanks, so it holds no
 # invisible character, no blank and no letters of two scripts.
 _PLAIN_ID = rf"[\x21-\x7e]{{1,{MAX_ID_CHARS}}}"
@@ -68,28 +70,35 @@ def frame_table(text: str, required: tuple[str, ...], optional: tuple[str, ...],
     """Read a CSV table into columns, or ``None`` when the row-wise reader must read it.
 
     ``None`` whenever reading it row by row could record a problem or read
-    it otherwise: quotes, a lone carriage return, a header not on line 1 or
-    with any problem, a non-blank row of another width, a wholly blank row,
-    a line over the ``csv`` field limit, no row, or more than ``max_rows``.
+    it otherwise: a quote other than around a whole cell on one line, a lone
+    carriage return, a header not on line 1, quoted or with any problem, a
+    non-blank row of another width, a wholly blank row, a line over the
+    ``csv`` field limit, no row, or more than ``max_rows``.
     """
-    if '"' in text or text.count("\r") != text.count("\r\n"):
+    if text.count("\r") != text.count("\r\n"):
         return None
     first = text.partition("\n")[0]
+    quoted = '"' in text
+    shape = _QUOTED.sub(_placeholder, text) if quoted else text
+    if '"' in shape or '"' in first:
+        return None
     header = tuple(cell.strip() for cell in first.split(","))
     allowed = required + optional
     if (not all(header) or len(set(header)) != len(header) or any(h not in allowed for h in header)
             or any(c not in header for c in required)):
         return None
-    screened = _data_lines(text, len(header))
+    screened = _data_lines(shape, len(header))
     if screened is None:
         return None
     lines, padded = screened
-    if not lines.size or lines.size > max_rows:
+    padded = padded or quoted  # blanks inside quotes are stripped too
+    every = text.split("\n")
+    if not lines.size or lines.size > max_rows or max(map(len, every)) >= csv.field_size_limit():
         return None
     try:
         df = pd.read_csv(io.StringIO(text), header=None, skiprows=1, names=list(header), index_col=False,
                          dtype=str, keep_default_na=False, na_filter=False, engine="c",
-                         quoting=csv.QUOTE_NONE, skip_blank_lines=True)
+                         quoting=csv.QUOTE_MINIMAL if quoted else csv.QUOTE_NONE, skip_blank_lines=True)
     except (ValueError, pd.errors.ParserError):
         return None
     if len(df) != lines.size:
@@ -101,15 +110,19 @@ def frame_table(text: str, required: tuple[str, ...], optional: tuple[str, ...],
     if padded and any(not any(row) for row in zip(*cols.values(), strict=True)):
         return None
     lines = lines.tolist()
-    every = text.split("\n")
     return header, cols, lines, [every[k - 1] for k in lines]
+
+
+def _placeholder(match: re.Match) -> str:
+    """A quoted cell as the shape of its line: one character, or nothing for an empty cell."""
+    return "q" if len(match.group()) > 2 else ""
 
 
 def _data_lines(text: str, width: int) -> tuple[np.ndarray, bool] | None:
     """The 1-based line of each data row, and whether a cell may need stripping.
 
-    ``None`` if a non-empty line has another width than the header, a line
-    is over the ``csv`` field limit, or a row is wholly blank (commas only).
+    ``None`` if a non-empty line has another width than the header or a row
+    is wholly blank (commas only).
     """
     data = np.frombuffer(text.encode("utf-8"), dtype=np.uint8)
     ends = np.flatnonzero(data == _NEWLINE)
@@ -119,8 +132,6 @@ def _data_lines(text: str, width: int) -> tuple[np.ndarray, bool] | None:
     length = ends - starts
     cr = (length > 0) & (data[np.maximum(ends - 1, 0)] == _CR)
     length = length - cr
-    if length.size and length.max() >= csv.field_size_limit():
-        return None
     commas = np.flatnonzero(data == _COMMA)
     counts = np.searchsorted(commas, ends) - np.searchsorted(commas, starts)
     full = length > 0
