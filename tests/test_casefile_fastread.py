@@ -3,16 +3,22 @@
 import dataclasses
 import re
 import shutil
+import tempfile
 from pathlib import Path
 
 import pytest
+from hypothesis import HealthCheck, given, settings
 
 import forensic.casefile.reading as reading
 from forensic.casefile.reading import load_casefile
 from forensic.casefile.synthetic import generate_casefile
 from forensic.casefile.writing import write_casefile
-from forensic.core.errors import CasefileError
+from forensic.core.errors import CasefileError, ForensicError
+from tests.corpus.build import build_case, load_cases
+from tests.test_fuzz import _write as write_files
+from tests.test_fuzz import mutated
 
+CASES = load_cases()
 DEMO = Path(__file__).resolve().parent.parent / "casefiles" / "riverside"
 
 
@@ -57,7 +63,7 @@ def _count_rowwise(monkeypatch) -> dict[str, int]:
 def test_demo_casefile_is_the_same_on_both_paths_and_uses_the_fast_path(monkeypatch):
     slow = load_casefile(DEMO, vectorised=False)
     calls = _count_rowwise(monkeypatch)
-    fast = load_casefile(DEMO)
+    fast = load_casefile(DEMO, vectorised=True)
     monkeypatch.undo()
     assert calls == {"activities": 0, "links": 0}, "the demo's tables (names quoted) fell back to the row-wise reader"
     _assert_same(fast, slow)
@@ -67,12 +73,25 @@ def test_synthetic_casefiles_are_the_same_on_both_paths_and_use_the_fast_path(sy
     for folder in synthetic:
         slow = load_casefile(folder, vectorised=False)
         calls = _count_rowwise(monkeypatch)
-        fast = load_casefile(folder)
+        fast = load_casefile(folder, vectorised=True)
         monkeypatch.undo()
         assert calls == {"activities": 0, "links": 0}, "a clean synthetic table fell back to the row-wise reader"
         assert len(fast.snapshots) > 3
         assert fast.warnings, "the synthetic casefiles have links into finished work (warnings to compare)"
         _assert_same(fast, slow)
+
+
+def test_by_default_only_a_long_table_takes_the_fast_path(tmp_path, monkeypatch):
+    """The demo's short tables are read row by row; a synthetic one of 7,000 activities by the fast path."""
+    calls = _count_rowwise(monkeypatch)
+    load_casefile(DEMO)
+    assert calls["activities"] > 0 and calls["links"] > 0
+    folder = write_casefile(generate_casefile(7000, updates=1, seed=5), tmp_path / "big")
+    calls = _count_rowwise(monkeypatch)
+    big = load_casefile(folder)
+    assert calls == {"activities": 0, "links": 0}
+    monkeypatch.undo()
+    _assert_same(big, load_casefile(folder, vectorised=False))
 
 
 def _problems(folder):
@@ -152,3 +171,30 @@ def test_an_edited_links_table_gives_the_same_result_on_both_paths(edit, synthet
     fast, slow = _problems(folder)
     assert fast == slow
     assert fast[0] == ("loaded" if edit in LOADS else "refused")
+
+
+def _outcome(folder, vectorised):
+    try:
+        return "loaded", load_casefile(folder, vectorised=vectorised)
+    except CasefileError as exc:
+        return type(exc).__name__, [dataclasses.astuple(p) for p in exc.problems]
+    except ForensicError as exc:
+        return type(exc).__name__, str(exc)
+
+
+@pytest.mark.parametrize("case", CASES, ids=[c.name for c in CASES])
+def test_every_corpus_case_is_refused_alike_on_both_paths(case, tmp_path):
+    """The hostile corpus (tests/corpus/cases.toml) with the fast path forced on every table."""
+    root = build_case(case, tmp_path)
+    fast, slow = _outcome(root, True), _outcome(root, False)
+    assert fast == slow
+    assert fast[0] != "loaded"
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(mutated())
+def test_a_mutated_casefile_loads_or_fails_alike_on_both_paths(files):
+    """The fuzz test's mutations (tests/test_fuzz.py) with the fast path forced: the same casefile or problems."""
+    with tempfile.TemporaryDirectory() as tmp:
+        root = write_files(tmp, files)
+        assert _outcome(root, True) == _outcome(root, False)

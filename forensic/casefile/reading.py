@@ -33,7 +33,6 @@ import tomllib
 from pathlib import Path
 
 from forensic.casefile.csvread import Problems, read_table, read_text, resolve_inside
-from forensic.casefile.fastread import fast_activities, fast_links, frame_table, has_no_loop
 from forensic.casefile.fragnets import read_fragnets
 from forensic.casefile.limits import Limits
 from forensic.casefile.loops import check_loops
@@ -63,7 +62,7 @@ from forensic.core.model import Casefile, Snapshot, frozen_mapping
 __all__ = ["CALENDAR_KEYS", "FORMAT", "MANIFEST", "PARTY_KEYS", "PROJECT_KEYS", "Limits", "load_casefile"]
 
 
-def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None, vectorised: bool = True) -> Casefile:
+def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None, vectorised: bool | None = None) -> Casefile:
     """Load a casefile folder (or its ``casefile.toml``) into a :class:`~forensic.core.model.Casefile`.
 
     Parameters
@@ -72,9 +71,9 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None,
         The casefile folder, or the path of its manifest ``casefile.toml``.
     limits : Limits, optional
         Ceilings on file size and on activities and links per table.
-    vectorised : bool, default True
-        Internal: ``False`` reads every table row by row, without the fast
-        path of :mod:`forensic.casefile.fastread` (the same casefile either way).
+    vectorised : bool, optional
+        Internal: ``True`` reads every snapshot table by :mod:`forensic.casefile.fastread`,
+        ``False`` row by row; by default tables of 256 KiB or more (the same casefile either way).
 
     Returns
     -------
@@ -209,7 +208,7 @@ def _read_snapshot(spec, root: Path, limits: Limits, hashes, ctx) -> tuple[Snaps
                                memo=ctx["memo"].setdefault("links", {}))
         if fast is not None or (rows is not None and table is not None):
             before = len(problems)
-            if columns is None or not has_no_loop(len(table.ids), columns[0], columns[1]):
+            if columns is None or not _no_loop(len(table.ids), columns):
                 check_loops(list(table.ids), links, rel, problems)
             if len(problems) == before:
                 same = columns is not None and len(table.activities) == len(table.ids)
@@ -223,10 +222,22 @@ def _read_snapshot(spec, root: Path, limits: Limits, hashes, ctx) -> tuple[Snaps
     return snap, ids
 
 
+# A table this long or longer takes the fast path unless ``vectorised`` says otherwise: below
+# it, reading row by row is about as quick, and a small casefile is not kept waiting for pandas.
+_FAST_FROM_CHARS = 256 * 1024
+
+
+def _fast(text: str, ctx) -> bool:
+    return ctx["vectorised"] if ctx["vectorised"] is not None else len(text) >= _FAST_FROM_CHARS
+
+
 def _fast_activities(text: str, rel: str, data_date, limits: Limits, ctx):
     """The activities table by the vectorised fast path, or ``None`` to read it row by row."""
-    if not ctx["vectorised"]:
+    if not _fast(text, ctx):
         return None
+    # fastread imports pandas: only when a table takes the fast path
+    from forensic.casefile.fastread import fast_activities, frame_table
+
     frame = frame_table(text, *ACTIVITY_COLUMNS, limits.max_activities)
     if frame is None:
         return None
@@ -236,9 +247,17 @@ def _fast_activities(text: str, rel: str, data_date, limits: Limits, ctx):
 
 def _fast_links(text: str, rel: str, known, finished, limits: Limits, ctx):
     """The links table by the vectorised fast path, or ``None`` to read it row by row."""
-    if not ctx["vectorised"]:
+    if not _fast(text, ctx):
         return None
+    from forensic.casefile.fastread import fast_links, frame_table
+
     frame = frame_table(text, *LINK_COLUMNS, limits.max_links)
     if frame is None:
         return None
     return fast_links(frame, rel, known=known, finished=finished, warnings=ctx["warnings"])
+
+
+def _no_loop(n: int, columns) -> bool:
+    from forensic.casefile.fastread import has_no_loop
+
+    return has_no_loop(n, columns[0], columns[1])
