@@ -62,7 +62,7 @@ from forensic.core.model import Casefile, Snapshot, frozen_mapping
 __all__ = ["CALENDAR_KEYS", "FORMAT", "MANIFEST", "PARTY_KEYS", "PROJECT_KEYS", "Limits", "load_casefile"]
 
 
-def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None) -> Casefile:
+def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None, vectorised: bool | None = None) -> Casefile:
     """Load a casefile folder (or its ``casefile.toml``) into a :class:`~forensic.core.model.Casefile`.
 
     Parameters
@@ -71,6 +71,9 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None)
         The casefile folder, or the path of its manifest ``casefile.toml``.
     limits : Limits, optional
         Ceilings on file size and on activities and links per table.
+    vectorised : bool, optional
+        Internal: ``True`` reads every snapshot table by :mod:`forensic.casefile.fastread`,
+        ``False`` row by row; by default tables of 256 KiB or more (the same casefile either way).
 
     Returns
     -------
@@ -128,7 +131,7 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None)
         _raise(problems)
     m = Manifest(doc, root, problems)
     ctx = {"calendars": tuple(m.calendars), "parties": tuple(m.parties),
-           "problems": problems, "warnings": warnings, "memo": {},
+           "problems": problems, "warnings": warnings, "memo": {}, "vectorised": vectorised,
            "calendar_objs": m.calendars, "default_calendar": m.project.default_calendar if m.project else None}
 
     snapshots: list[Snapshot] = []
@@ -179,27 +182,38 @@ def _read_snapshot(spec, root: Path, limits: Limits, hashes, ctx) -> tuple[Snaps
     if "activities" in sources:
         rel, full = paths["activities"]
         text = read_text(full, rel, limits.max_file_bytes, problems, hashes)
-        rows = None if text is None else read_table(text, rel, *ACTIVITY_COLUMNS, limits.max_activities, problems)
+        table = None if text is None else _fast_activities(text, rel, data_date, limits, ctx)
+        rows = None if text is None or table is not None else read_table(
+            text, rel, *ACTIVITY_COLUMNS, limits.max_activities, problems)
         if rows is not None:
             table = read_activities(rows, rel, data_date=data_date, calendars=ctx["calendars"],
                                     parties=ctx["parties"], problems=problems, warnings=ctx["warnings"],
                                     memo=ctx["memo"].setdefault("activities", {}))
+        if table is not None:
             if not table.ids:
                 problems.add(rel, None, None, None, f"snapshot {sid} has no activities")
     if "links" in sources:
         rel, full = paths["links"]
         text = read_text(full, rel, limits.max_file_bytes, problems, hashes)
-        rows = None if text is None else read_table(text, rel, *LINK_COLUMNS, limits.max_links, problems)
-        if rows is not None and table is not None:
-            finished = {a.id for a in table.activities.values() if a.actual_finish is not None}
+        finished = set() if table is None else {a.id for a in table.activities.values() if a.actual_finish is not None}
+        fast = None if text is None or table is None else _fast_links(text, rel, table.ids, finished, limits, ctx)
+        rows = None if text is None or fast is not None else read_table(
+            text, rel, *LINK_COLUMNS, limits.max_links, problems)
+        columns = None
+        if fast is not None:
+            links, columns = fast
+        elif rows is not None and table is not None:
             links = read_links(rows, rel, known=table.ids, finished=finished,
                                problems=problems, warnings=ctx["warnings"],
                                memo=ctx["memo"].setdefault("links", {}))
+        if fast is not None or (rows is not None and table is not None):
             before = len(problems)
-            check_loops(list(table.ids), links, rel, problems)
+            if columns is None or not _no_loop(len(table.ids), columns):
+                check_loops(list(table.ids), links, rel, problems)
             if len(problems) == before:
+                same = columns is not None and len(table.activities) == len(table.ids)
                 check_span(table.activities, links, ctx["calendar_objs"], ctx["default_calendar"],
-                           paths["activities"][0], problems)
+                           paths["activities"][0], problems, link_columns=columns if same else None)
     ids = set() if table is None else set(table.ids)
     if table is None or len(sources) < 2 or data_date is None or sid is None:
         return None, ids
@@ -207,3 +221,43 @@ def _read_snapshot(spec, root: Path, limits: Limits, hashes, ctx) -> tuple[Snaps
                     role, frozen_mapping(sources))
     return snap, ids
 
+
+# A table this long or longer takes the fast path unless ``vectorised`` says otherwise: below
+# it, reading row by row is about as quick, and a small casefile is not kept waiting for pandas.
+_FAST_FROM_CHARS = 256 * 1024
+
+
+def _fast(text: str, ctx) -> bool:
+    return ctx["vectorised"] if ctx["vectorised"] is not None else len(text) >= _FAST_FROM_CHARS
+
+
+def _fast_activities(text: str, rel: str, data_date, limits: Limits, ctx):
+    """The activities table by the vectorised fast path, or ``None`` to read it row by row."""
+    if not _fast(text, ctx):
+        return None
+    # fastread imports pandas: only when a table takes the fast path
+    from forensic.casefile.fastread import fast_activities, frame_table
+
+    frame = frame_table(text, *ACTIVITY_COLUMNS, limits.max_activities)
+    if frame is None:
+        return None
+    return fast_activities(frame, rel, calendars=ctx["calendars"], parties=ctx["parties"], data_date=data_date,
+                           warnings=ctx["warnings"], memo=ctx["memo"].setdefault("activities", {}))
+
+
+def _fast_links(text: str, rel: str, known, finished, limits: Limits, ctx):
+    """The links table by the vectorised fast path, or ``None`` to read it row by row."""
+    if not _fast(text, ctx):
+        return None
+    from forensic.casefile.fastread import fast_links, frame_table
+
+    frame = frame_table(text, *LINK_COLUMNS, limits.max_links)
+    if frame is None:
+        return None
+    return fast_links(frame, rel, known=known, finished=finished, warnings=ctx["warnings"])
+
+
+def _no_loop(n: int, columns) -> bool:
+    from forensic.casefile.fastread import has_no_loop
+
+    return has_no_loop(n, columns[0], columns[1])

@@ -74,6 +74,8 @@ def check_span(
     default_calendar: str | None,
     rel: str,
     problems: Problems,
+    *,
+    link_columns: tuple[np.ndarray, ...] | None = None,
 ) -> None:
     """Refuse a network whose schedule must run more than :data:`MAX_SPAN_YEARS` past its data date.
 
@@ -93,7 +95,7 @@ def check_span(
     lowered by the calendar's longest run of non-working days. Over the ceiling, the first activity (in logic
     order) whose finish is beyond it is named, with its line.
     """
-    bounds = span_bounds(activities, links, calendars, default_calendar)
+    bounds = span_bounds(activities, links, calendars, default_calendar, link_columns=link_columns)
     if bounds is None:
         return
     finish, span, work, cal, i = bounds
@@ -109,6 +111,7 @@ def span_bounds(
     default_calendar: str | None,
     *,
     skip_under: int | None = MAX_SPAN_DAYS,
+    link_columns: tuple[np.ndarray, ...] | None = None,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, list, int] | None:
     """Lower bounds of the early finishes, in calendar days after the data date (see :func:`check_span`).
 
@@ -118,7 +121,9 @@ def span_bounds(
     activity and lag end to end fit under ``skip_under`` days (nothing to
     check; ``None`` always computes). A finish bound counts the calendar days
     from the data date through the finish date; a start bound those before
-    the start date.
+    the start date. ``link_columns`` (the loader's arrays of the links: end
+    positions in file order, types as 0-3 for FS, SS, FF, SF, and lags)
+    spares reading them from the records again.
     """
     acts = list(activities.values())
     n = len(acts)
@@ -141,11 +146,14 @@ def span_bounds(
     opening = np.fromiter((a.kind == "opening-milestone" for a in acts), bool, n)
     instant = (work == 0) & ~opening
     back = np.where(instant, gap[ck], 0)
-    m = len(links)
-    lp = np.fromiter((pos.get(x.pred, -1) for x in links), np.int64, m)
-    ls = np.fromiter((pos.get(x.succ, -1) for x in links), np.int64, m)
-    typ = np.fromiter((_CODE[x.type] for x in links), np.int64, m)
-    lag = np.fromiter((x.lag for x in links), np.int64, m)
+    if link_columns is not None:  # already read by the loader: positions in file order, type codes, lags
+        lp, ls, typ, lag = link_columns
+    else:
+        m = len(links)
+        lp = np.fromiter((pos.get(x.pred, -1) for x in links), np.int64, m)
+        ls = np.fromiter((pos.get(x.succ, -1) for x in links), np.int64, m)
+        typ = np.fromiter((_CODE[x.type] for x in links), np.int64, m)
+        lag = np.fromiter((x.lag for x in links), np.int64, m)
     keep = (lp >= 0) & (ls >= 0) & (lag >= 0)
     lp, ls, typ, lag = lp[keep], ls[keep], typ[keep], lag[keep]
     from_start = (typ == 1) | (typ == 3)  # SS, SF: timed from the predecessor's start

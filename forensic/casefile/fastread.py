@@ -1,0 +1,382 @@
+"""The loader's vectorised fast path: a snapshot's activities.csv and links.csv read with pandas.
+
+A table is read with :func:`pandas.read_csv` (the C engine, every cell a
+string, no type guessing, no missing-value markers) and checked column by
+column. The fast path only ever *proves a table clean*: each function
+returns ``None`` as soon as a vectorised screen says that any rule of the
+row-wise reader (:mod:`forensic.casefile.csvread`, :mod:`forensic.casefile.records`)
+might fire (a quote, a lone carriage return, a row of another width, a
+blank row, a padded cell it cannot strip the same way, a non-ASCII id, a
+duplicate, an unknown reference, a value a parser refuses, a date rule),
+and the loader then reads that table row by row, so every problem is
+worded by the existing code, exactly as before. Distinct values of a
+column (durations, dates, lags, percentages) are parsed once, by the
+row-wise parsers themselves, so a value means the same on both paths.
+
+Records are built from the columns. Like the row-wise reader, the fast
+path keeps a ``memo`` of activities shared by the snapshots of a casefile
+(here a row's text -> its record), so an activity unchanged from an
+earlier snapshot is built once and its record shared (or, moved to another
+line, rebuilt from it); links are built straight from the columns, with
+the activities' own id strings.
+
+References
+----------
+AACE International Recommended Practice 29R-03, Forensic Schedule
+Analysis, sec. 2 (source validation: the schedules must be identified and
+checked before any analysis); the checks themselves are those of the
+row-wise reader.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import re
+from collections.abc import Callable, Collection
+from datetime import date
+
+import numpy as np
+import pandas as pd
+
+from forensic.casefile.csvread import (
+    MAX_DURATION,
+    MAX_ID_CHARS,
+    MAX_TEXT_CHARS,
+    Problems,
+    parse_date,
+    parse_int,
+    parse_number,
+)
+from forensic.casefile.records import ActivityTable
+from forensic.core.model import ACTIVITY_KINDS, CONSTRAINT_KINDS, LINK_TYPES, Activity, Link
+
+__all__ = ["Frame", "fast_activities", "fast_links", "frame_table", "has_no_loop"]
+
+# A cell with blanks at either end (other than the line ending itself).
+_PADDED = re.compile(r"(?:^|,)[^\S\r\n]|[^\S\r\n](?:,|\r?$)", re.M)
+# A quoted cell on one line: the whole cell between its separators, quotes doubled inside.
+_QUOTED = re.compile(r'(?:^|(?<=,))"(?:[^"\r\n]|"")*"(?=,|\r?$)', re.M)
+# An id the fast path takes: printable ASCII without blanks, so it holds no
+# invisible character, no blank and no letters of two scripts.
+_PLAIN_ID = rf"[\x21-\x7e]{{1,{MAX_ID_CHARS}}}"
+_NEWLINE, _COMMA, _CR = 10, 44, 13
+
+Frame = tuple[tuple[str, ...], dict[str, list[str]], list[int], list[str]]
+"""A table read by :func:`frame_table`: its header, its columns (stripped cells), each row's line and text."""
+
+
+def frame_table(text: str, required: tuple[str, ...], optional: tuple[str, ...], max_rows: int) -> Frame | None:
+    """Read a CSV table into columns, or ``None`` when the row-wise reader must read it.
+
+    ``None`` whenever reading it row by row could record a problem or read
+    it otherwise: a quote other than around a whole cell on one line, a lone
+    carriage return, a header not on line 1, quoted or with any problem, a
+    non-blank row of another width, a wholly blank row, a line over the
+    ``csv`` field limit, no row, or more than ``max_rows``.
+    """
+    if text.count("\r") != text.count("\r\n"):
+        return None
+    first = text.partition("\n")[0]
+    quoted = '"' in text
+    shape = _QUOTED.sub(_placeholder, text) if quoted else text
+    if '"' in shape or '"' in first:
+        return None
+    header = tuple(cell.strip() for cell in first.split(","))
+    allowed = required + optional
+    if (not all(header) or len(set(header)) != len(header) or any(h not in allowed for h in header)
+            or any(c not in header for c in required)):
+        return None
+    screened = _data_lines(shape, len(header))
+    if screened is None:
+        return None
+    lines, padded = screened
+    padded = padded or quoted  # blanks inside quotes are stripped too
+    every = text.split("\n")
+    if not lines.size or lines.size > max_rows or max(map(len, every)) >= csv.field_size_limit():
+        return None
+    try:
+        df = pd.read_csv(io.StringIO(text), header=None, skiprows=1, names=list(header), index_col=False,
+                         dtype=str, keep_default_na=False, na_filter=False, engine="c",
+                         quoting=csv.QUOTE_MINIMAL if quoted else csv.QUOTE_NONE, skip_blank_lines=True)
+    except (ValueError, pd.errors.ParserError):
+        return None
+    if len(df) != lines.size:
+        return None
+    cols = {}
+    for name in header:
+        values = df[name].tolist()
+        cols[name] = [cell.strip() for cell in values] if padded else values
+    if padded and any(not any(row) for row in zip(*cols.values(), strict=True)):
+        return None
+    lines = lines.tolist()
+    return header, cols, lines, [every[k - 1] for k in lines]
+
+
+def _placeholder(match: re.Match) -> str:
+    """A quoted cell as the shape of its line: one character, or nothing for an empty cell."""
+    return "q" if len(match.group()) > 2 else ""
+
+
+def _data_lines(text: str, width: int) -> tuple[np.ndarray, bool] | None:
+    """The 1-based line of each data row, and whether a cell may need stripping.
+
+    ``None`` if a non-empty line has another width than the header or a row
+    is wholly blank (commas only).
+    """
+    data = np.frombuffer(text.encode("utf-8"), dtype=np.uint8)
+    ends = np.flatnonzero(data == _NEWLINE)
+    if not data.size or data[-1] != _NEWLINE:
+        ends = np.append(ends, data.size)
+    starts = np.concatenate(([0], ends[:-1] + 1))
+    length = ends - starts
+    cr = (length > 0) & (data[np.maximum(ends - 1, 0)] == _CR)
+    length = length - cr
+    commas = np.flatnonzero(data == _COMMA)
+    counts = np.searchsorted(commas, ends) - np.searchsorted(commas, starts)
+    full = length > 0
+    if not full[0] or (counts[full] != width - 1).any() or (full & (length == counts)).any():
+        return None
+    number = np.arange(1, length.size + 1)
+    return number[full][1:], _padded(data, text, commas, starts, ends)
+
+
+_BLANK_BYTE = np.zeros(256, dtype=bool)
+_BLANK_BYTE[[9, 11, 12, 28, 29, 30, 31, 32]] = True
+
+
+def _padded(data: np.ndarray, text: str, commas: np.ndarray, starts: np.ndarray, ends: np.ndarray) -> bool:
+    """Whether a cell may start or end with a blank (then every cell is stripped as ``str.strip`` does)."""
+    if not text.isascii():
+        return _PADDED.search(text) is not None
+    edges = np.concatenate((commas - 1, commas + 1, starts, ends - 1, ends - 2))
+    edges = edges[(edges >= 0) & (edges < data.size)]
+    return bool(_BLANK_BYTE[data[edges]].any())
+
+
+def _by_value(values: list[str], parse: Callable[[str, Problems], object]) -> list | None:
+    """Each cell parsed, distinct values once (blank -> ``None``); ``None`` if the parser refuses one."""
+    codes, uniques = pd.factorize(pd.Series(values, dtype=object), sort=False)
+    scratch = Problems()
+    parsed = np.empty(len(uniques), dtype=object)
+    for i, raw in enumerate(uniques):
+        parsed[i] = parse(raw, scratch) if raw else None
+    if len(scratch):
+        return None
+    return parsed[codes].tolist() if len(uniques) else [None] * len(values)
+
+
+def _column(cols: dict[str, list[str]], name: str, n: int) -> list[str]:
+    return cols[name] if name in cols else [""] * n
+
+
+def _allowed(values: list[str], choices: Collection[str]) -> bool:
+    """Every cell blank or one of ``choices``."""
+    return bool(pd.Series(values, dtype=object).isin(["", *choices]).all())
+
+
+def _parse_activity_columns(cols, n, rel, calendars, parties) -> dict | None:
+    """The parsed columns of a clean activities table (before the rules across columns), or ``None``."""
+    col = {name: _column(cols, name, n) for name in (
+        "id", "name", "kind", "duration", "remaining", "actual_start", "actual_finish", "calendar",
+        "constraint", "constraint_date", "party", "area", "percent_complete", "crash_days", "crash_cost")}
+    ids = pd.Series(col["id"], dtype=object)
+    if not ids.str.fullmatch(_PLAIN_ID).all() or ids.duplicated().any():
+        return None
+    names = pd.Series(col["name"], dtype=object).str.len()
+    area = pd.Series(col["area"], dtype=object).str.len()
+    if (names == 0).any() or (names > MAX_TEXT_CHARS).any() or (area > MAX_TEXT_CHARS).any():
+        return None
+    if "" in col["duration"] or not _allowed(col["kind"], ACTIVITY_KINDS):
+        return None
+    if not (_allowed(col["calendar"], calendars) and _allowed(col["party"], parties)
+            and _allowed(col["constraint"], CONSTRAINT_KINDS)):
+        return None
+    whole = lambda raw, p: parse_int(raw, rel, None, "", p)  # noqa: E731
+    out = {"duration": _by_value(col["duration"], whole), "remaining": _by_value(col["remaining"], whole),
+           "crash_days": _by_value(col["crash_days"], whole),
+           "percent_complete": _by_value(col["percent_complete"],
+                                         lambda raw, p: parse_number(raw, rel, None, "", p, maximum=100.0)),
+           "crash_cost": _by_value(col["crash_cost"], lambda raw, p: parse_number(raw, rel, None, "", p))}
+    for name in ("actual_start", "actual_finish", "constraint_date"):
+        out[name] = _by_value(col[name], lambda raw, p: parse_date(raw, rel, None, "", p))
+    if any(v is None for v in out.values()):
+        return None
+    return {**col, **{f"parsed_{k}": v for k, v in out.items()}}
+
+
+def _as_array(values: list) -> np.ndarray:
+    arr = np.empty(len(values), dtype=object)
+    arr[:] = values
+    return arr
+
+
+def _resolve_activity_rules(p: dict, n: int, data_date: date | None):
+    """The rules across columns; returns (start, finish, remaining, warned rows) or ``None``."""
+    dur, rem, crash = (_as_array(p[f"parsed_{k}"]) for k in ("duration", "remaining", "crash_days"))
+    start, finish = _as_array(p["parsed_actual_start"]), _as_array(p["parsed_actual_finish"])
+    has_rem, has_start, has_finish = rem != None, start != None, finish != None  # noqa: E711
+    has_crash = crash != None  # noqa: E711
+    if (crash[has_crash] > dur[has_crash]).any():
+        return None
+    constraint = np.array(p["constraint"], dtype=object) != ""
+    cdate = np.array(p["constraint_date"], dtype=object) != ""
+    if (constraint != cdate).any():
+        return None
+    task = np.array(p["kind"], dtype=object)
+    task = (task == "") | (task == "task")
+    mile = ~task
+    both = has_start & has_finish
+    if ((mile & (dur != 0)).any() or (mile & has_rem & (rem != 0)).any()
+            or (mile & both & (start != finish)).any()):
+        return None
+    ordered = task & both
+    if (task & has_finish & ~has_start).any() or (finish[ordered] < start[ordered]).any():
+        return None
+    if data_date is not None and ((start[has_start] >= data_date).any() or (finish[has_finish] >= data_date).any()):
+        return None
+    merged = np.where(has_start, start, finish)
+    start = np.where(mile, merged, start)
+    finish = np.where(mile, merged, finish)
+    if (task & has_finish & has_rem & (rem != 0)).any():
+        return None
+    in_progress = task & ~has_finish & has_start
+    if (in_progress & ~has_rem).any():
+        return None
+    warned = in_progress & has_rem & (rem == 0)
+    rem = np.where(mile | (task & has_finish), 0, rem)
+    rem = np.where(task & ~has_finish & ~has_start & ~has_rem, dur, rem)
+    return start.tolist(), finish.tolist(), rem.tolist(), warned
+
+
+def fast_activities(
+    frame: Frame,
+    rel: str,
+    *,
+    calendars: Collection[str],
+    parties: Collection[str],
+    data_date: date | None,
+    warnings: list[str],
+    memo: dict | None = None,
+) -> ActivityTable | None:
+    """A snapshot's activities from a clean table, as :func:`~forensic.casefile.records.read_activities` reads them.
+
+    ``None`` (and nothing recorded) when any row might hold a problem or a
+    warning other than "in progress with remaining 0": the caller then
+    reads the table row by row.
+    """
+    header, cols, lines, texts = frame
+    n = len(lines)
+    p = _parse_activity_columns(cols, n, rel, calendars, parties)
+    if p is None:
+        return None
+    rules = _resolve_activity_rules(p, n, data_date)
+    if rules is None:
+        return None
+    start, finish, rem, warned = rules
+    bucket = {} if memo is None else memo.setdefault(("line", header), {})
+    table = ActivityTable(rel)
+    acts, seen = table.activities, table.ids
+    ids, kinds = p["id"], p["kind"]
+    dur, cdate = p["parsed_duration"], p["parsed_constraint_date"]
+    pct, crash, cost = p["parsed_percent_complete"], p["parsed_crash_days"], p["parsed_crash_cost"]
+    cal, con, party, area, name = p["calendar"], p["constraint"], p["party"], p["area"], p["name"]
+    warn_rows = np.flatnonzero(warned).tolist()
+    get = bucket.get
+    for key, line, aid, nm, d, k, r, s, f, c, cn, cd, pa, ar, pc, cr, co, w in zip(
+            texts, lines, ids, name, dur, kinds, rem, start, finish, cal, con, cdate, party, area, pct, crash, cost,
+            warned.tolist(), strict=True):
+        act = get(key)
+        if act is None:
+            act = Activity(aid, nm, d, k or "task", r, s, f, c or None, cn or None, cd, pa or None, ar or None,
+                           pc, cr, co, line)
+            if not w:
+                bucket[key] = act
+        elif act.line != line:
+            act = bucket[key] = Activity(
+                act.id, act.name, act.duration, act.kind, act.remaining, act.actual_start, act.actual_finish,
+                act.calendar, act.constraint, act.constraint_date, act.party, act.area, act.percent_complete,
+                act.crash_days, act.crash_cost, line)
+        seen[act.id] = line
+        acts[act.id] = act
+    warnings.extend(f"{rel}, line {lines[i]}: activity {ids[i]} is in progress with remaining 0 "
+                    "and no actual_finish" for i in warn_rows)
+    return table
+
+
+def fast_links(
+    frame: Frame,
+    rel: str,
+    *,
+    known: Collection[str],
+    finished: Collection[str],
+    warnings: list[str],
+) -> tuple[list[Link], tuple[np.ndarray, ...]] | None:
+    """A snapshot's links from a clean table, as :func:`~forensic.casefile.records.read_links` reads them.
+
+    Returns the links and their columns ``(pred, succ, type, lag)``: the
+    positions in ``known`` of the ends (for :func:`has_no_loop`), the type
+    as an index of ``LINK_TYPES`` and the lag (for the span check).
+
+    ``None`` (and nothing recorded) when any row might hold a problem: a
+    blank or unknown end, a link to itself, an unknown type, a lag the
+    parser refuses, a duplicate. The warnings of links into finished work
+    from unfinished work are the row-wise reader's, in line order.
+    """
+    _, cols, lines, texts = frame
+    n = len(lines)
+    pred, succ = cols["pred"], cols["succ"]
+    index = pd.Index(list(known), dtype=object)
+    lp, ls = index.get_indexer(pred), index.get_indexer(succ)
+    if (lp < 0).any() or (ls < 0).any() or (lp == ls).any():
+        return None
+    code = pd.Index(["", *LINK_TYPES], dtype=object).get_indexer(_column(cols, "type", n))
+    if (code < 0).any():
+        return None
+    code = np.where(code == 0, 0, code - 1)  # blank is FS
+    ltype = np.array(LINK_TYPES, dtype=object)[code].tolist()
+    lags = _by_value(_column(cols, "lag", n), lambda raw, p: parse_int(
+        raw, rel, None, "lag", p, minimum=None, maximum=MAX_DURATION,
+        what="a lag in whole working days (negative for a lead)"))
+    if lags is None or np.unique((lp * len(index) + ls) * len(LINK_TYPES) + code).size != n:
+        return None
+    done = np.zeros(len(index), dtype=bool)
+    at = index.get_indexer(list(finished))
+    done[at[at >= 0]] = True
+    warn = done[ls] & ~done[lp]
+    # The ends are the activity table's own id strings (shared with its records and, for an
+    # unchanged activity, with earlier snapshots); a link is built straight from the columns,
+    # which is faster than looking a row up in a memo (a moved row needs a new record anyway).
+    ends = np.array(list(known), dtype=object)
+    lag_list = [lag or 0 for lag in lags]
+    links = list(map(Link, ends[lp].tolist(), ends[ls].tolist(), ltype, lag_list, lines))
+    warnings.extend(f"{rel}, line {lines[i]}: link {pred[i]} -> {succ[i]} has no effect, "
+                    f"because {succ[i]} is finished and {pred[i]} is not" for i in np.flatnonzero(warn).tolist())
+    return links, (lp, ls, code, np.array(lag_list, dtype=np.int64))
+
+
+def has_no_loop(n: int, lp: np.ndarray, ls: np.ndarray) -> bool:
+    """Whether a network of ``n`` activities has no logic loop (Kahn's algorithm, a frontier at a time).
+
+    ``lp`` and ``ls`` are the positions of each link's ends. ``True`` proves
+    that :func:`~forensic.casefile.loops.check_loops` would find nothing; on
+    ``False`` the loader runs it to name the loops.
+    """
+    indeg = np.bincount(ls, minlength=n)
+    order = np.argsort(lp, kind="stable")
+    succ_sorted = ls[order]
+    starts = np.searchsorted(lp[order], np.arange(n + 1))
+    frontier = np.flatnonzero(indeg == 0)
+    placed = 0
+    while frontier.size:
+        placed += frontier.size
+        lo, hi = starts[frontier], starts[frontier + 1]
+        counts = hi - lo
+        total = int(counts.sum())
+        if not total:
+            break
+        succ = succ_sorted[np.repeat(hi - counts.cumsum(), counts) + np.arange(total)]
+        hit, times = np.unique(succ, return_counts=True)
+        indeg[hit] -= times
+        frontier = hit[indeg[hit] == 0]
+    return placed == n
