@@ -212,7 +212,7 @@ class Manifest:
         role = self._str(t, "role", where, choices=PARTY_ROLES)
         if pid is not None and pid in self.parties:
             self._bad(f"{where}.id", pid, "duplicate party id")
-        elif None not in (pid, name, role):
+        elif pid is not None and name is not None and role is not None:
             self.parties[pid] = Party(pid, name, role)
 
     def _project(self, t) -> None:

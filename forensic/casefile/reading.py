@@ -31,6 +31,7 @@ from __future__ import annotations
 import os
 import tomllib
 from pathlib import Path
+from typing import NoReturn
 
 from forensic.casefile.csvread import Problems, read_table, read_text, resolve_inside
 from forensic.casefile.fragnets import read_fragnets
@@ -54,7 +55,7 @@ from forensic.casefile.records import (
 )
 from forensic.casefile.span import check_span
 from forensic.core.errors import CasefileError, LimitExceeded
-from forensic.core.model import Casefile, Snapshot, frozen_mapping
+from forensic.core.model import Casefile, Event, Snapshot, frozen_mapping
 
 # FORMAT, MANIFEST, the manifest's key lists and Limits are defined in
 # forensic.casefile.manifest and forensic.casefile.limits; they are named
@@ -142,7 +143,7 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None,
         if snap is not None:
             snapshots.append(snap)
     fragnets, unreadable = read_fragnets(root, limits, hashes, snapshot_ids, snapshots, ctx)
-    events = ()
+    events: tuple[Event, ...] = ()
     if m.events_path is not None:
         rel, full = m.events_path
         text = read_text(full, rel, limits.max_file_bytes, problems, hashes)
@@ -155,16 +156,16 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None,
             and m.project.completion not in snapshot_ids:
         problems.add(MANIFEST, None, "project.completion", m.project.completion,
                      "no activity with this id in any snapshot")
-    if problems:
+    if problems or m.project is None:  # a missing [project] is one of the problems
         _raise(problems)
     return Casefile(
         project=m.project, calendars=frozen_mapping(m.calendars), parties=frozen_mapping(m.parties),
         snapshots=tuple(snapshots), events=events, fragnets=frozen_mapping(fragnets), root=root,
-        inputs=frozen_mapping(sorted(hashes.items())), warnings=tuple(warnings), windows=m.windows,
+        inputs=frozen_mapping(dict(sorted(hashes.items()))), warnings=tuple(warnings), windows=m.windows,
     )
 
 
-def _raise(problems: Problems):
+def _raise(problems: Problems) -> NoReturn:
     # Over a ceiling, the tables were not read whole, so other problems may
     # only be echoes of the missing rows: report the ceilings alone.
     if problems.limit_hit:
@@ -206,7 +207,7 @@ def _read_snapshot(spec, root: Path, limits: Limits, hashes, ctx) -> tuple[Snaps
             links = read_links(rows, rel, known=table.ids, finished=finished,
                                problems=problems, warnings=ctx["warnings"],
                                memo=ctx["memo"].setdefault("links", {}))
-        if fast is not None or (rows is not None and table is not None):
+        if table is not None and (fast is not None or rows is not None):
             before = len(problems)
             if columns is None or not _no_loop(len(table.ids), columns):
                 check_loops(list(table.ids), links, rel, problems)

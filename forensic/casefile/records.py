@@ -253,7 +253,7 @@ def _read_activity(row, rel, calendars, parties, data_date, problems, warnings) 
                                 "and no actual_finish")
         elif remaining is None and not row.get("remaining"):
             remaining = duration
-    if None in (aid, name, kind, duration):
+    if aid is None or name is None or kind is None or duration is None:
         return None
     return Activity(
         id=aid, name=name, duration=duration, kind=kind, remaining=remaining,
@@ -303,9 +303,9 @@ def read_links(
         before = len(problems)
         ends = {}
         for col in ("pred", "succ"):
-            ends[col] = _required(row, col, rel, problems)
-            if ends[col] is not None and ends[col] not in known and check_id(ends[col], rel, line, col, problems):
-                problems.add(rel, line, col, ends[col], unknown_hint)
+            end = ends[col] = _required(row, col, rel, problems)
+            if end is not None and end not in known and check_id(end, rel, line, col, problems):
+                problems.add(rel, line, col, end, unknown_hint)
         pred, succ = ends["pred"], ends["succ"]
         if pred is not None and pred == succ:
             problems.add(rel, line, "succ", succ, "an activity cannot be linked to itself")
@@ -313,8 +313,8 @@ def read_links(
         raw = row.get("lag")
         lag = parse_int(raw, rel, line, "lag", problems, minimum=None, maximum=MAX_DURATION,
                         what="a lag in whole working days (negative for a lead)") if raw else 0
-        if len(problems) != before:
-            continue
+        if len(problems) != before or pred is None or succ is None or ltype is None or lag is None:
+            continue  # (a missing value has been reported: ``_required`` and the parsers add a problem)
         key = (pred, succ, ltype)
         if key in seen:
             problems.add(rel, line, "succ", f"{pred} -> {succ} {ltype}", f"duplicate link; first on line {seen[key]}")
@@ -401,8 +401,11 @@ def read_events(
             problems.add(rel, line, "activities", row.get("activities"), "an activity is listed twice")
         raw = row.get("days_lost")
         lost = _days_lost(raw, hit, rel, line, problems) if raw else ()
-        if len(problems) == before:
-            events.append(Event(eid, title, pid, category, span["start"], span["finish"], hit,
+        start, finish = span["start"], span["finish"]
+        # With no new problem every required value is there (a missing one is reported).
+        if (len(problems) == before and eid is not None and title is not None and pid is not None
+                and category is not None and start is not None and finish is not None):
+            events.append(Event(eid, title, pid, category, start, finish, hit,
                                 fragnet, row.get("reference") or None, line, lost))
     return events
 

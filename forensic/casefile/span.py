@@ -136,7 +136,7 @@ def span_bounds(
     extra = np.array([len(c.extra_workdays) for c in cal_list] + [0], dtype=np.int64)
     none = len(cal_list)
     ck = np.fromiter((cal_at.get(a.calendar or default_calendar or "", none) for a in acts), np.int64, n)
-    work = np.fromiter((-1 if (w := _work(a)) is None else w for a in acts), np.int64, n)
+    work = np.fromiter((-1 if (wk := _work(a)) is None else wk for a in acts), np.int64, n)
     started = np.fromiter((a.actual_start is not None for a in acts), bool, n)
     span = np.where(work < 0, 0, _min_days(work, week[ck], extra[ck]))
     gap = np.array([_longest_gap(c) for c in cal_list] + [0], dtype=np.int64)
@@ -217,8 +217,8 @@ def _longest_gap(cal: Calendar) -> int:
     weekly = 0
     if any(mask):
         run = best = 0
-        for working in mask * 2:  # the week twice: a run may wrap from Sunday to Monday
-            run = 0 if working else run + 1
+        for works in mask * 2:  # the week twice: a run may wrap from Sunday to Monday
+            run = 0 if works else run + 1
             best = max(best, run)
         weekly = best
     if not cal.holidays:
