@@ -3,7 +3,7 @@
 A casefile is a folder with a TOML manifest (``casefile.toml``) and CSV
 tables: the activities and links of each snapshot, the delay events, and
 the fragnets (``casefiles/README.md`` documents it for users; the contract
-is the casefile format, version 1). The loader is the only part of the
+is the casefile format, version 2). The loader is the only part of the
 library that reads input files. It opens them read-only, records the
 SHA-256 of each in :attr:`Casefile.inputs`, and checks everything it can
 before anything is scheduled: a casefile with any problem is refused whole

@@ -65,7 +65,7 @@ __all__ = [
     "read_links",
 ]
 
-# (required, optional) columns of each table (casefile format, version 1).
+# (required, optional) columns of each table (casefile format, version 2).
 ACTIVITY_COLUMNS = (
     ("id", "name", "duration"),
     (
