@@ -50,6 +50,7 @@ from forensic.casefile.csvread import (
 )
 from forensic.casefile.records import ActivityTable
 from forensic.core.model import ACTIVITY_KINDS, CONSTRAINT_KINDS, LINK_TYPES, Activity, Link
+from forensic.core.network import topological_levels
 
 __all__ = ["Frame", "fast_activities", "fast_links", "frame_table", "has_no_loop"]
 
@@ -362,21 +363,4 @@ def has_no_loop(n: int, lp: np.ndarray, ls: np.ndarray) -> bool:
     that :func:`~forensic.casefile.loops.check_loops` would find nothing; on
     ``False`` the loader runs it to name the loops.
     """
-    indeg = np.bincount(ls, minlength=n)
-    order = np.argsort(lp, kind="stable")
-    succ_sorted = ls[order]
-    starts = np.searchsorted(lp[order], np.arange(n + 1))
-    frontier = np.flatnonzero(indeg == 0)
-    placed = 0
-    while frontier.size:
-        placed += frontier.size
-        lo, hi = starts[frontier], starts[frontier + 1]
-        counts = hi - lo
-        total = int(counts.sum())
-        if not total:
-            break
-        succ = succ_sorted[np.repeat(hi - counts.cumsum(), counts) + np.arange(total)]
-        hit, times = np.unique(succ, return_counts=True)
-        indeg[hit] -= times
-        frontier = hit[indeg[hit] == 0]
-    return placed == n
+    return bool((topological_levels(n, lp, ls) >= 0).all())

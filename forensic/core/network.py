@@ -24,7 +24,7 @@ from forensic.core.calendars import day_number
 from forensic.core.errors import LogicLoopError, ScheduleError
 from forensic.core.model import Calendar, Project, Snapshot
 
-__all__ = ["BIG", "TYPE_CODE", "Network", "clear_caches", "group_by_key"]
+__all__ = ["BIG", "TYPE_CODE", "Network", "clear_caches", "group_by_key", "topological_levels"]
 
 
 TYPE_CODE = {"FS": 0, "SS": 1, "FF": 2, "SF": 3}
@@ -33,11 +33,14 @@ TYPE_CODE = {"FS": 0, "SS": 1, "FF": 2, "SF": 3}
 BIG = 1 << 40
 
 
-def _levels(n: int, lp: np.ndarray, ls: np.ndarray, ids: list[str], where: str) -> np.ndarray:
-    """Topological level of every activity (Kahn's algorithm, one frontier at a time).
+def topological_levels(n: int, lp: np.ndarray, ls: np.ndarray) -> np.ndarray:
+    """Topological level of every activity (Kahn's algorithm, one frontier at a time); -1 in a loop.
 
-    A level holds activities whose predecessors all lie on earlier levels, so
-    each level can be scheduled as one vectorised step.
+    ``lp`` and ``ls`` are the positions of each link's ends. A level holds
+    activities whose predecessors all lie on earlier levels, so each level
+    can be scheduled as one vectorised step; an activity on or after a logic
+    loop is never placed and keeps -1 (the loader uses this to prove a
+    network loop-free before naming loops the slow way).
     """
     level = np.full(n, -1, dtype=np.int64)
     indeg = np.bincount(ls, minlength=n)
@@ -50,15 +53,20 @@ def _levels(n: int, lp: np.ndarray, ls: np.ndarray, ids: list[str], where: str) 
         level[frontier] = depth
         lo_, hi_ = starts[frontier], starts[frontier + 1]
         counts = hi_ - lo_
-        if counts.sum():
-            take = np.repeat(hi_ - counts.cumsum(), counts) + np.arange(counts.sum())
-            succ = succ_sorted[take]
-            np.subtract.at(indeg, succ, 1)
-            cand = np.unique(succ)
-            frontier = cand[indeg[cand] == 0]
-        else:
-            frontier = frontier[:0]
+        total = int(counts.sum())
+        if not total:
+            break
+        succ = succ_sorted[np.repeat(hi_ - counts.cumsum(), counts) + np.arange(total)]
+        hit, times = np.unique(succ, return_counts=True)
+        indeg[hit] -= times
+        frontier = hit[indeg[hit] == 0]
         depth += 1
+    return level
+
+
+def _levels(n: int, lp: np.ndarray, ls: np.ndarray, ids: list[str], where: str) -> np.ndarray:
+    """:func:`topological_levels`, refusing a logic loop with an error that names it."""
+    level = topological_levels(n, lp, ls)
     if (level < 0).any():
         import networkx as nx  # only to name the loop
 
