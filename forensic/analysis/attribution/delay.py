@@ -66,10 +66,12 @@ from forensic.analysis.attribution.results import (
     Ledger,
     LedgerEntry,
     Pacing,
+    PathFloatUse,
     RevisionShare,
     Slice,
     SliceDelay,
     WindowAttribution,
+    WindowContext,
 )
 from forensic.analysis.attribution.revision import revision_shares
 from forensic.analysis.runcache import RunCache
@@ -186,13 +188,10 @@ def attribute_window(casefile: Casefile, run: WindowRun, *, cache: RunCache | No
     principle 10 and para. 11.
     """
     if cache is None:
-        found = _window_found(casefile, run, None)
-        float_used = window_float_use(casefile, run)
+        found, float_used = _window_found(casefile, run, None)
     else:
-        found = cache.get(casefile, "attribution before the rule", (run.earlier, run.later),
-                          lambda: _window_found(casefile, run, cache), extra=run.revision_start)
-        float_used = cache.get(casefile, "float used", (run.earlier, run.later),
-                               lambda: window_float_use(casefile, run), extra=run.revision_start)
+        found, float_used = cache.get(casefile, "attribution before the rule", (run.earlier, run.later),
+                                      lambda: _window_found(casefile, run, cache), extra=run.revision_start)
     parts = [_attribute_slice(casefile, f, run.window.label) for f in found]
     if len(parts) == 1:
         return replace(parts[0], float_used=float_used)
@@ -250,23 +249,27 @@ class _Found:
     concurrency: Concurrency
 
 
-def _window_found(casefile: Casefile, run: WindowRun, cache: RunCache | None) -> tuple[_Found, ...]:
-    """Each slice of a window (the whole window when there is no cut), attributed up to the rule."""
+def _window_found(casefile: Casefile, run: WindowRun,
+                  cache: RunCache | None) -> tuple[tuple[_Found, ...], tuple[PathFloatUse, ...]]:
+    """Each slice of a window (the whole window when there is no cut) attributed up to the rule, and
+    the float the window used on near-critical paths (both independent of the rule)."""
+    ctx = window_context(casefile, run)
+    float_used = window_float_use(casefile, run, ctx=ctx)
     cuts = slice_cuts(casefile, run.window.start, run.window.end)
     if not cuts:
-        return (_find_slice(casefile, run),)
+        return (_find_slice(casefile, run, ctx),), float_used
     snaps = [run.earlier, *(slice_snapshot(casefile, run.earlier, run.later, t) for t in cuts), run.later]
     sched = None if cache is None else (lambda snap: cache.schedule(casefile, snap))
     runs = [window_run(casefile, a, b, sched) for a, b in zip(snaps, snaps[1:], strict=False)]
     # the revisions are all in the last slice (the later update's plan): an
     # event of any slice of the window may have brought them in
     runs[-1] = replace(runs[-1], revision_start=run.window.start)
-    return tuple(_find_slice(casefile, r) for r in runs)
+    return tuple(_find_slice(casefile, r) for r in runs), float_used
 
 
-def _find_slice(casefile: Casefile, run: WindowRun) -> _Found:
+def _find_slice(casefile: Casefile, run: WindowRun, ctx: WindowContext | None = None) -> _Found:
     """The contributors, revision shares, pacing and concurrency test of one slice (module notes)."""
-    ctx = window_context(casefile, run)
+    ctx = ctx or window_context(casefile, run)
     steps = split_slip(ctx, run.half_result.completion_id, run.window.progress_slip, local=False)
     chain = [c for aid, d in reversed(steps) if d for c in attribute_days(ctx, aid, d)]
     revision, unattributed = revision_shares(ctx)

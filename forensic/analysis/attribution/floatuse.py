@@ -55,6 +55,8 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
 
+import numpy as np
+
 from forensic.analysis.attribution.contributors import attribute_days, split_slip, window_context
 from forensic.analysis.attribution.results import (
     DelayAnalysis,
@@ -108,16 +110,21 @@ class FloatLedger:
 
 
 def _near_paths(ctx: WindowContext, margin: int) -> list[set[str]]:
+    """The earlier update's unfinished, non-critical work within ``margin`` of critical, grouped by links."""
     crit = ctx.casefile.project.critical_float
-    near = {
-        a
-        for a, x in ctx.before.activities.items()
-        if x.status != "finished"
-        and not x.critical
-        and x.total_float is not None
-        and crit < x.total_float <= crit + margin
-        and a in ctx.v
-    }
+    table = ctx.before.activities
+    if hasattr(table, "column"):  # the engine's arrays: no record is built for the other activities
+        tf = table.column("total_float")
+        mask = (table.column("status") != 2) & ~table.column("critical") & (tf > crit) & (tf <= crit + margin)
+        ids = list(table)
+        candidates = [ids[i] for i in np.flatnonzero(mask).tolist()]
+    else:
+        candidates = [
+            a for a, x in table.items()
+            if x.status != "finished" and not x.critical and x.total_float is not None
+            and crit < x.total_float <= crit + margin
+        ]
+    near = {a for a in candidates if a in ctx.v}
     return path_groups(near, ctx.run.earlier) if near else []
 
 
@@ -152,12 +159,14 @@ def _path_use(ctx: WindowContext, group: set[str], count) -> PathFloatUse | None
     return PathFloatUse(x, tuple(order), room, used, frozen_mapping(by_party), tuple(delays))
 
 
-def window_float_use(casefile: Casefile, run: WindowRun, margin: int = FLOAT_MARGIN) -> tuple[PathFloatUse, ...]:
+def window_float_use(casefile: Casefile, run: WindowRun, margin: int = FLOAT_MARGIN, *,
+                     ctx: WindowContext | None = None) -> tuple[PathFloatUse, ...]:
     """The float each near-critical path used in one window (rule in the module notes).
 
     Paths come in the order of their first activity's planned start, then id.
+    ``ctx`` is the window's context when the caller already built it.
     """
-    ctx = window_context(casefile, run)
+    ctx = ctx or window_context(casefile, run)
     count = unit_counter(casefile)
     uses = [u for g in _near_paths(ctx, margin) if (u := _path_use(ctx, g, count)) is not None]
     return tuple(sorted(uses, key=lambda u: (ctx.before[u.activities[0]].early_start, u.activities)))

@@ -86,8 +86,9 @@ def take_out_events(ctx: WindowContext, snap: Snapshot, events: Sequence[Event])
             if (a.duration, a.remaining_duration) != (e.duration, e.remaining_duration):
                 acts[aid] = replace(a, duration=e.duration, remaining=e.remaining_duration)
                 touched.append(aid)
-        before_keys = {lk.key for lk in earlier.links}
-        after_keys = {lk.key for lk in links}
+        # Only links into the listed activities can change (a key holds its successor).
+        before_keys = {lk.key for lk in earlier.links if lk.succ in listed}
+        after_keys = {lk.key for lk in links if lk.succ in listed}
         kept = []
         for lk in links:
             if lk.succ in listed and lk.key not in before_keys and lk.pred not in drop:
