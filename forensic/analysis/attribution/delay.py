@@ -72,6 +72,7 @@ from forensic.analysis.attribution.results import (
     SliceDelay,
     WindowAttribution,
     WindowContext,
+    sum_counts,
 )
 from forensic.analysis.attribution.revision import revision_shares
 from forensic.analysis.runcache import RunCache
@@ -195,15 +196,9 @@ def attribute_window(casefile: Casefile, run: WindowRun, *, cache: RunCache | No
     parts = [_attribute_slice(casefile, f, run.window.label) for f in found]
     if len(parts) == 1:
         return replace(parts[0], float_used=float_used)
-    by_party: dict[str, int] = {}
-    for part in parts:
-        for k, d in part.by_party.items():
-            by_party[k] = by_party.get(k, 0) + d
+    by_party = sum_counts(p.by_party for p in parts)
     concs = [p.concurrent for p in parts]
-    alone: dict[str, int] = {}
-    for c in concs:
-        for k, d in c.recovered_alone.items():
-            alone[k] = alone.get(k, 0) + d
+    alone = sum_counts(c.recovered_alone for c in concs)
     conc = Concurrency(
         days=sum(c.days for c in concs),
         parties=tuple(sorted({x for c in concs for x in c.parties})),
@@ -213,7 +208,7 @@ def attribute_window(casefile: Casefile, run: WindowRun, *, cache: RunCache | No
         rule=casefile.project.concurrency,
         found=sum(c.found for c in concs),
         critical=frozen_mapping({}),
-        by_rule=frozen_mapping(_sum_maps(c.by_rule for c in concs)),
+        by_rule=frozen_mapping(sum_counts(c.by_rule for c in concs)),
     )
     return WindowAttribution(
         window_label=run.window.label,
@@ -227,14 +222,6 @@ def attribute_window(casefile: Casefile, run: WindowRun, *, cache: RunCache | No
         pacing=tuple(x for p in parts for x in p.pacing),
         float_used=float_used,
     )
-
-
-def _sum_maps(maps) -> dict[str, int]:
-    out: dict[str, int] = {}
-    for m in maps:
-        for k, d in m.items():
-            out[k] = out.get(k, 0) + d
-    return out
 
 
 @dataclass(frozen=True, slots=True)

@@ -63,6 +63,7 @@ from forensic.analysis.attribution.results import (
     FloatDelay,
     PathFloatUse,
     WindowContext,
+    sum_counts,
 )
 from forensic.analysis.nearcritical import path_groups
 from forensic.analysis.windows import WindowRun
@@ -172,28 +173,20 @@ def window_float_use(casefile: Casefile, run: WindowRun, margin: int = FLOAT_MAR
     return tuple(sorted(uses, key=lambda u: (ctx.before[u.activities[0]].early_start, u.activities)))
 
 
-def _sum(maps: Sequence[Mapping[str, int]]) -> dict[str, int]:
-    out: dict[str, int] = {}
-    for m in maps:
-        for k, d in m.items():
-            out[k] = out.get(k, 0) + d
-    return out
-
-
 def float_ledger(analysis: DelayAnalysis, margin: int = FLOAT_MARGIN) -> FloatLedger:
     """Each window's float-days by party and the cumulative total (sums of the paths)."""
     rows = []
     for run, att in zip(analysis.windows.runs, analysis.attributions, strict=True):
-        by_party = _sum([u.by_party for u in att.float_used])
+        by_party = sum_counts([u.by_party for u in att.float_used])
         rows.append(FloatLedgerRow(run.window.label, frozen_mapping(by_party), sum(by_party.values())))
-    return FloatLedger(margin, tuple(rows), frozen_mapping(_sum([r.by_party for r in rows])))
+    return FloatLedger(margin, tuple(rows), frozen_mapping(sum_counts([r.by_party for r in rows])))
 
 
 def float_used_json(uses: Sequence[PathFloatUse], margin: int = FLOAT_MARGIN) -> dict[str, Any]:
     """A window's ``float_used`` object of ``windows --json`` (docs/windows.md)."""
     return {
         "margin": margin,
-        "by_party": _sum([u.by_party for u in uses]),
+        "by_party": sum_counts([u.by_party for u in uses]),
         "paths": [
             {
                 "activity": u.activity,

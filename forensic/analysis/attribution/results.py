@@ -9,7 +9,7 @@ Delay and Disruption Protocol, 2nd ed., on concurrency).
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from datetime import date
 
@@ -31,6 +31,7 @@ __all__ = [
     "SliceDelay",
     "WindowAttribution",
     "WindowContext",
+    "sum_counts",
 ]
 
 
@@ -228,3 +229,12 @@ class DelayAnalysis:
     attributions: tuple[WindowAttribution, ...]
     ledger: Ledger
     rule: str = "time-only"
+
+
+def sum_counts(maps: Iterable[Mapping[str, int]]) -> dict[str, int]:
+    """Days per key added over several mappings (per party, per window or per slice), in first-seen order."""
+    out: dict[str, int] = {}
+    for m in maps:
+        for k, d in m.items():
+            out[k] = out.get(k, 0) + d
+    return out
