@@ -50,11 +50,11 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
-from datetime import date, timedelta
+from datetime import date
 from functools import partial
 
 from forensic.analysis.runcache import RunCache
-from forensic.core.calendars import workdays_between
+from forensic.analysis.slices import slice_cuts, slice_snapshot
 from forensic.core.engine import ScheduleResult, schedule
 from forensic.core.errors import NotFoundError, WindowSpecError
 from forensic.core.model import Casefile, Snapshot, frozen_mapping
@@ -273,97 +273,6 @@ def auto_boundaries(casefile: Casefile, *, cache: RunCache | None = None) -> tup
 def _moved(before: Sequence[str], after: Sequence[str]) -> tuple[tuple[str, ...], tuple[str, ...]]:
     b, a = set(before), set(after)
     return tuple(x for x in after if x not in b), tuple(x for x in before if x not in a)
-
-
-def _event_days(casefile: Casefile, aid: str, cal, lo: date, hi: date) -> int:
-    """Working days of ``cal`` in ``[lo, hi)`` on which an event listing ``aid`` acts."""
-    days: set[date] = set()
-    for ev in casefile.events:
-        if aid not in ev.activities:
-            continue
-        a, b = max(ev.start, lo), min(ev.finish + timedelta(days=1), hi)
-        d = a
-        while d < b:
-            days.add(d)
-            d += timedelta(days=1)
-    return sum(1 for d in days if workdays_between(cal, d, d + timedelta(days=1)))
-
-
-def slice_snapshot(casefile: Casefile, earlier: Snapshot, later: Snapshot, t: date) -> Snapshot:
-    """The earlier plan with the progress of day ``t`` reconstructed from the later update's record.
-
-    Rules (daily reconstruction of progress between two updates):
-
-    * work the later update shows finished before ``t`` is finished, at its
-      actual dates; work it shows started before ``t`` is in progress at
-      ``t``; anything else keeps the earlier update's record;
-    * the remaining duration at ``t`` of work in progress is the working
-      days from ``t`` to its actual finish (or to the later data date, plus
-      the later remaining duration) on which no event listing it acts: work
-      goes on at the planned rate except on the days an event stops it,
-      which is where the updates do not say;
-    * logic, durations and calendars are the earlier update's (a revision
-      is not progress; AACE RP 29R-03 protocol 3.4), so a chain of these
-      snapshots telescopes to the half-step schedule.
-
-    References
-    ----------
-    AACE RP 29R-03, protocols 3.3 and 3.4 (windows, half-step); SCL Protocol
-    2nd ed., Appendix A (time slice windows).
-    """
-    acts = {}
-    for aid, a in earlier.activities.items():
-        b = later.activities.get(aid)
-        if b is None or b.actual_start is None or b.actual_start >= t:
-            acts[aid] = a
-            continue
-        cal = casefile.calendars[a.calendar or casefile.project.default_calendar]
-        if b.actual_finish is not None and b.actual_finish < t:
-            acts[aid] = replace(a, actual_start=b.actual_start, actual_finish=b.actual_finish,
-                                remaining=0, percent_complete=b.percent_complete)
-            continue
-        if a.is_milestone or a.duration == 0:
-            acts[aid] = replace(a, actual_start=b.actual_start, actual_finish=None, remaining=0)
-            continue
-        if b.actual_finish is not None:
-            end = b.actual_finish + timedelta(days=1)
-            rem = workdays_between(cal, t, end) - _event_days(casefile, aid, cal, t, end)
-        else:
-            rem = b.remaining_duration + workdays_between(cal, t, later.data_date)
-            rem -= _event_days(casefile, aid, cal, t, later.data_date)
-        rem = max(1, min(rem, a.duration if not a.is_started else a.remaining_duration))
-        acts[aid] = replace(a, actual_start=b.actual_start, actual_finish=None, remaining=rem)
-    return Snapshot(
-        id=f"{earlier.id}@{t.isoformat()}",
-        data_date=t,
-        activities=frozen_mapping(acts),
-        links=earlier.links,
-        role="update",
-    )
-
-
-def slice_cuts(casefile: Casefile, start: date, end: date) -> tuple[date, ...]:
-    """The dates inside ``(start, end)`` that split a window into slices of overlapping events.
-
-    The events that act in the window (their dates overlap it and they list
-    activities) are grouped where their dates overlap, chained; each group
-    after the first begins a new slice on its first day. Delays in
-    different slices are sequential, never concurrent (SCL Protocol 2nd
-    ed., core principle 10: concurrency needs delays of roughly the same
-    time).
-    """
-    spans = sorted(
-        (max(ev.start, start), min(ev.finish, end - timedelta(days=1)))
-        for ev in casefile.events
-        if ev.activities and ev.start < end and ev.finish >= start
-    )
-    cuts = []
-    reach = None
-    for lo, hi in spans:
-        if reach is not None and lo > reach and start < lo < end:
-            cuts.append(lo)
-        reach = hi if reach is None else max(reach, hi)
-    return tuple(cuts)
 
 
 def window_run(casefile: Casefile, earlier: Snapshot, later: Snapshot, sched=None) -> WindowRun:

@@ -231,7 +231,17 @@ class Network:
         self.extent = int(durations.sum() + remaining.sum() + np.abs(self.lag).sum()) + 10
 
 
+_OTHER_CACHES: list[dict] = []
+
+
+def register_cache(cache: dict) -> None:
+    """Let :func:`clear_caches` empty ``cache`` too (the other engine steps' caches)."""
+    _OTHER_CACHES.append(cache)
+
+
 def clear_caches() -> None:
-    """Forget the compiled links and activity columns of earlier networks."""
+    """Forget the compiled links and activity columns of earlier networks, and the other steps' caches."""
     _LINK_CACHE.clear()
     _ACT_CACHE.clear()
+    for cache in _OTHER_CACHES:
+        cache.clear()

@@ -29,7 +29,7 @@ import numpy as np
 
 from forensic.core.calendars import WorkdayIndex, day_number, workday_index
 from forensic.core.model import Project
-from forensic.core.network import BIG, Network, group_by_key
+from forensic.core.network import BIG, Network, group_by_key, register_cache
 
 __all__ = [
     "EarlyDates",
@@ -90,8 +90,34 @@ class EarlyDates:
     dd_k: np.ndarray
 
 
+_GRID_CACHE: dict[tuple, tuple] = {}
+_GRID_CACHE_SIZE = 4
+register_cache(_GRID_CACHE)
+
+
 def horizon_grid(net: Network, lo: int, hi: int) -> Grid:
-    """Stack the working-day indices of the network's calendars on one horizon."""
+    """Stack the working-day indices of the network's calendars on one horizon.
+
+    The grid of the last few (calendars, horizon) pairs is kept, checked by
+    the calendars' identity, with its arrays read-only: the daily slices of
+    a window and the concurrency reruns schedule many networks on the same
+    calendars and horizon.
+    """
+    key = (tuple(id(c) for c in net.calendars), lo, hi)
+    hit = _GRID_CACHE.get(key)
+    if hit is not None and all(a is b for a, b in zip(hit[0], net.calendars, strict=True)):
+        return hit[1]
+    grid = _stacked_grid(net, lo, hi)
+    grid.days.setflags(write=False)
+    grid.first_at.setflags(write=False)
+    if len(_GRID_CACHE) >= _GRID_CACHE_SIZE:
+        _GRID_CACHE.pop(next(iter(_GRID_CACHE)))
+    _GRID_CACHE[key] = (tuple(net.calendars), grid)
+    return grid
+
+
+def _stacked_grid(net: Network, lo: int, hi: int) -> Grid:
+    """The working-day indices of the network's calendars stacked on one horizon (uncached)."""
     indices = [workday_index(c, lo, hi) for c in net.calendars]
     width = max(ix.size for ix in indices) + 1
     sentinel = hi + 10**7  # a day far past the horizon: using it fails the look-up, widening it

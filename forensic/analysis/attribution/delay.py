@@ -30,6 +30,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
 from datetime import timedelta
+from functools import partial
 from typing import Any
 
 from forensic.analysis.attribution.concurrency import (
@@ -75,14 +76,9 @@ from forensic.analysis.attribution.results import (
     sum_counts,
 )
 from forensic.analysis.attribution.revision import revision_shares
-from forensic.analysis.runcache import RunCache
-from forensic.analysis.windows import (
-    WindowRun,
-    analyse_windows,
-    slice_cuts,
-    slice_snapshot,
-    window_run,
-)
+from forensic.analysis.runcache import RunCache, cached_schedule
+from forensic.analysis.slices import path_switch_cuts, slice_cuts, slice_snapshot
+from forensic.analysis.windows import WindowRun, analyse_windows, window_run
 from forensic.core.calendars import workdays_between
 from forensic.core.model import Casefile, frozen_mapping
 
@@ -242,11 +238,13 @@ def _window_found(casefile: Casefile, run: WindowRun,
     the float the window used on near-critical paths (both independent of the rule)."""
     ctx = window_context(casefile, run)
     float_used = window_float_use(casefile, run, ctx=ctx)
-    cuts = slice_cuts(casefile, run.window.start, run.window.end)
+    sched = partial(cached_schedule, cache, casefile)
+    switches = path_switch_cuts(casefile, run.earlier, run.later, sched,
+                                first=run.before, last=run.half_result, half=run.half)
+    cuts = sorted({*slice_cuts(casefile, run.window.start, run.window.end), *switches})
     if not cuts:
         return (_find_slice(casefile, run, ctx),), float_used
     snaps = [run.earlier, *(slice_snapshot(casefile, run.earlier, run.later, t) for t in cuts), run.later]
-    sched = None if cache is None else (lambda snap: cache.schedule(casefile, snap))
     runs = [window_run(casefile, a, b, sched) for a, b in zip(snaps, snaps[1:], strict=False)]
     # the revisions are all in the last slice (the later update's plan): an
     # event of any slice of the window may have brought them in
