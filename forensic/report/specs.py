@@ -264,11 +264,10 @@ SPECS: dict[str, SectionSpec] = {
             texts={"text": (*COMMON, "total", "total_unit", "parties", "concurrent", "windows")},
             optional_texts={"caption": COMMON},
             protocol=(
-                "Each window's slip attributed through the contributing activities to events and parties, "
-                "slice by slice: a window is cut where the delay events stop overlapping and where other work "
-                "takes over the driving path, with the progress between two updates rebuilt day by day at a "
-                "uniform rate; concurrency by a but-for test within each slice, so delays on different dates "
-                "are never concurrent (SCL Protocol 2nd ed., core principle 10; AACE RP 29R-03, sec. 4.2)"
+                "Slip attributed via contributing activities to events and parties, slice by slice (cut "
+                "where events stop overlapping or the driving path switches; progress between updates at a "
+                "uniform rate); concurrency by a but-for test per slice (SCL Protocol 2nd ed., core "
+                "principle 10; AACE RP 29R-03, sec. 4.2)"
             ),
         ),
         SectionSpec(
