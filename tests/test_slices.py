@@ -149,7 +149,7 @@ def test_a_tied_path_falling_behind_is_not_a_cut():
 DEMO = load_casefile(demo_source())
 
 
-def _daily_cuts(cf, earlier, later, sched, *, first, last, half):
+def _daily_cuts(cf, earlier, later, sched, *, first, last, half, on_day=None):
     """Every day probed, every takeover a cut: what the bisection must agree with on the demo."""
     preds = {}
     for link in earlier.links:
@@ -208,3 +208,27 @@ def test_demo_contributors_have_no_offsetting_entries():
             if c.days:
                 signs.setdefault((c.activity, c.event), set()).add(c.days > 0)
         assert all(len(s) == 1 for s in signs.values()), att.window_label
+
+
+def test_overlapping_events_stop_a_day_once():
+    """Events on days 4-6 and 5-8 listing X stop it on days 4, 5, 6, 7 and 8: 5 days, not 7 (7-day calendar)."""
+    from forensic.analysis.slices import event_days
+
+    cf = casefile(slow_case().snapshots, [event("E1", "OWN", "excusable-compensable", day(4), day(6), ["X"]),
+                                          event("E2", "CON", "non-excusable", day(5), day(8), ["X"])])
+    cal = cf.calendars["7d"]
+    assert event_days(cf, "X", cal, D0, day(14)) == 5
+    assert event_days(cf, "X", cal, day(6), day(14)) == 3   # days 6, 7, 8
+    assert event_days(cf, "X", cal, D0, day(5)) == 1        # day 4
+    assert event_days(cf, "M", cal, D0, day(14)) == 0
+
+
+def test_daily_progress_gives_one_snapshot_per_day():
+    """Asking twice for a day gives the same object (the probes and the cuts share their schedules)."""
+    from forensic.analysis.slices import daily_progress
+
+    cf = slow_case()
+    bl, u1 = cf.snapshots
+    progress = daily_progress(cf, bl, u1)
+    assert progress.on(day(6)) is progress.on(day(6))
+    assert progress.on(day(6)).activities["X"].remaining_duration == slice_snapshot(cf, bl, u1, day(6)).activities["X"].remaining_duration == 7

@@ -23,17 +23,19 @@ the activity worked (rule below, worked by hand in
 
 from __future__ import annotations
 
-from collections.abc import Callable
-from dataclasses import replace
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, field, replace
 from datetime import date, timedelta
 from fractions import Fraction
 from math import floor
 
 from forensic.core.calendars import workdays_between
 from forensic.core.engine import ScheduleResult
-from forensic.core.model import Activity, Casefile, Snapshot, frozen_mapping
+from forensic.core.model import Activity, Calendar, Casefile, Snapshot, frozen_mapping
 
 __all__ = [
+    "DailyProgress",
+    "daily_progress",
     "path_work",
     "path_switch_cuts",
     "slice_cuts",
@@ -46,16 +48,20 @@ ONE_DAY = timedelta(days=1)
 
 def event_days(casefile: Casefile, aid: str, cal, lo: date, hi: date) -> int:
     """Working days of ``cal`` in ``[lo, hi)`` on which an event listing ``aid`` acts."""
-    days: set[date] = set()
-    for ev in casefile.events:
-        if aid not in ev.activities:
-            continue
-        a, b = max(ev.start, lo), min(ev.finish + ONE_DAY, hi)
-        d = a
-        while d < b:
-            days.add(d)
-            d += ONE_DAY
-    return sum(1 for d in days if workdays_between(cal, d, d + ONE_DAY))
+    spans = [(ev.start, ev.finish) for ev in casefile.events if aid in ev.activities]
+    return _event_days_in(spans, cal, lo, hi)
+
+
+def _event_days_in(spans: Sequence[tuple[date, date]], cal, lo: date, hi: date) -> int:
+    """Working days of ``cal`` in ``[lo, hi)`` inside any of the inclusive date ``spans`` (overlaps once)."""
+    days = 0
+    reach = lo
+    for start, finish in sorted(spans):
+        a, b = max(start, reach), min(finish + ONE_DAY, hi)
+        if a < b:
+            days += workdays_between(cal, a, b)
+            reach = b
+    return days
 
 
 def working_rate_remaining(r0: int, r_end: int, worked: int, available: int) -> int:
@@ -78,29 +84,108 @@ def working_rate_remaining(r0: int, r_end: int, worked: int, available: int) -> 
     return r0 - done
 
 
-def _in_progress(casefile: Casefile, a: Activity, b: Activity, start: date, end: date, t: date) -> Activity:
-    """Activity ``a`` of the earlier plan in progress at ``t``: remaining at the uniform rate (module notes)."""
+@dataclass(frozen=True, slots=True)
+class _Stretch:
+    """One activity's work between two updates, as the two records state it (rule of :func:`slice_snapshot`)."""
+
+    plan: Activity  # the earlier update's record
+    started: date  # the later update's actual start
+    finished: Activity | None  # the record once finished (the later update's actual dates), or None
+    cal: Calendar
+    s0: date  # the stretch begins: the earlier data date, or the actual start
+    r0: int  # work left then
+    r_end: int  # work left at the stretch's end (0: finished)
+    available: int  # working days it could work
+    stops: tuple[tuple[date, date], ...]  # event spans that stop it (empty: the events did not)
+
+    def on(self, t: date) -> Activity:
+        """The record of day ``t``."""
+        if self.started >= t:
+            return self.plan
+        if self.finished is not None and self.finished.actual_finish is not None and self.finished.actual_finish < t:
+            return self.finished
+        a = self.plan
+        if a.is_milestone or a.duration == 0:
+            return replace(a, actual_start=self.started, actual_finish=None, remaining=0)
+        worked = 0
+        if t > self.s0:
+            worked = workdays_between(self.cal, self.s0, t) - _event_days_in(self.stops, self.cal, self.s0, t)
+        rem = working_rate_remaining(self.r0, self.r_end, max(0, min(worked, self.available)), self.available)
+        return replace(a, actual_start=self.started, actual_finish=None, remaining=max(1, min(rem, self.r0)))
+
+
+def _stretch(casefile: Casefile, a: Activity, b: Activity, start: date, end: date,
+             spans: Sequence[tuple[date, date]]) -> _Stretch:
+    """Activity ``a`` of the earlier plan, started per the later record ``b``, between ``start`` and ``end``."""
     cal = casefile.calendars[a.calendar or casefile.project.default_calendar]
+    started = b.actual_start or start
     if a.is_started:
         s0, r0 = start, a.remaining_duration
     else:
-        s0, r0 = max(b.actual_start or start, start), a.duration
+        s0, r0 = max(started, start), a.duration
+    finished = None
     if b.actual_finish is not None:
         e, r_end = b.actual_finish + ONE_DAY, 0
+        finished = replace(a, actual_start=b.actual_start, actual_finish=b.actual_finish,
+                           remaining=0, percent_complete=b.percent_complete)
     else:
         e, r_end = end, b.remaining_duration
     days = workdays_between(cal, s0, e)
-    avail = days - event_days(casefile, a.id, cal, s0, e)
+    avail = days - _event_days_in(spans, cal, s0, e)
+    stops = tuple(spans)
     if r0 - r_end > avail:
         # more work done than the days free of events allow at the planned rate: the events
         # did not stop it (an event's own work, or broad event dates), so every day counts
-        avail = days
-        worked = workdays_between(cal, s0, t) if t > s0 else 0
-    else:
-        worked = workdays_between(cal, s0, t) - event_days(casefile, a.id, cal, s0, t) if t > s0 else 0
-    rem = working_rate_remaining(r0, r_end, max(0, min(worked, avail)), avail)
-    rem = max(1, min(rem, r0))
-    return replace(a, actual_start=b.actual_start, actual_finish=None, remaining=rem)
+        avail, stops = days, ()
+    return _Stretch(a, started, finished, cal, s0, r0, r_end, avail, stops)
+
+
+@dataclass(frozen=True, slots=True)
+class DailyProgress:
+    """The progress of every day between two updates, rebuilt from their records (:func:`slice_snapshot`).
+
+    Built once per window (:func:`daily_progress`); :meth:`on` gives the
+    snapshot of one day, re-reading only the work the later update shows
+    started.
+    """
+
+    earlier: Snapshot
+    stretches: tuple[_Stretch, ...]
+    days: dict[date, Snapshot] = field(default_factory=dict, compare=False)  # each day built once
+
+    def on(self, t: date) -> Snapshot:
+        """The snapshot of day ``t`` (the same object each time it is asked for)."""
+        if t not in self.days:
+            self.days[t] = self._build(t)
+        return self.days[t]
+
+    def _build(self, t: date) -> Snapshot:
+        acts = dict(self.earlier.activities)
+        for st in self.stretches:
+            if st.started < t:
+                acts[st.plan.id] = st.on(t)
+        return Snapshot(
+            id=f"{self.earlier.id}@{t.isoformat()}",
+            data_date=t,
+            activities=frozen_mapping(acts),
+            links=self.earlier.links,
+            role="update",
+        )
+
+
+def daily_progress(casefile: Casefile, earlier: Snapshot, later: Snapshot) -> DailyProgress:
+    """The model of :func:`slice_snapshot` for one pair of updates, built once for every day probed."""
+    spans: dict[str, list[tuple[date, date]]] = {}
+    for ev in casefile.events:
+        for aid in ev.activities:
+            spans.setdefault(aid, []).append((ev.start, ev.finish))
+    stretches = []
+    for aid, a in earlier.activities.items():
+        b = later.activities.get(aid)
+        if b is None or b.actual_start is None:
+            continue
+        stretches.append(_stretch(casefile, a, b, earlier.data_date, later.data_date, spans.get(aid, ())))
+    return DailyProgress(earlier, tuple(stretches))
 
 
 def slice_snapshot(casefile: Casefile, earlier: Snapshot, later: Snapshot, t: date) -> Snapshot:
@@ -131,32 +216,15 @@ def slice_snapshot(casefile: Casefile, earlier: Snapshot, later: Snapshot, t: da
 
     Where work went on at its planned rate apart from the event days, the
     uniform rate is the planned rate and both readings agree (the
-    sequential worked example of docs/windows.md).
+    sequential worked example of docs/windows.md). To probe many days of one
+    window, build :func:`daily_progress` once and ask it for each day.
 
     References
     ----------
     AACE RP 29R-03, protocols 3.3 and 3.4 (windows, half-step); SCL Protocol
     2nd ed., Appendix A (time slice windows).
     """
-    acts = {}
-    for aid, a in earlier.activities.items():
-        b = later.activities.get(aid)
-        if b is None or b.actual_start is None or b.actual_start >= t:
-            acts[aid] = a
-        elif b.actual_finish is not None and b.actual_finish < t:
-            acts[aid] = replace(a, actual_start=b.actual_start, actual_finish=b.actual_finish,
-                                remaining=0, percent_complete=b.percent_complete)
-        elif a.is_milestone or a.duration == 0:
-            acts[aid] = replace(a, actual_start=b.actual_start, actual_finish=None, remaining=0)
-        else:
-            acts[aid] = _in_progress(casefile, a, b, earlier.data_date, later.data_date, t)
-    return Snapshot(
-        id=f"{earlier.id}@{t.isoformat()}",
-        data_date=t,
-        activities=frozen_mapping(acts),
-        links=earlier.links,
-        role="update",
-    )
+    return daily_progress(casefile, earlier, later).on(t)
 
 
 def slice_cuts(casefile: Casefile, start: date, end: date) -> tuple[date, ...]:
@@ -219,7 +287,8 @@ def _taken_over(before: frozenset[str], after: frozenset[str]) -> bool:
 
 def path_switch_cuts(casefile: Casefile, earlier: Snapshot, later: Snapshot,
                      sched: Callable[[Snapshot], ScheduleResult], *,
-                     first: ScheduleResult, last: ScheduleResult, half: Snapshot) -> tuple[date, ...]:
+                     first: ScheduleResult, last: ScheduleResult, half: Snapshot,
+                     on_day: Callable[[date], Snapshot] | None = None) -> tuple[date, ...]:
     """The days inside a window on which other work takes over driving completion (bisection over the days).
 
     ``first`` is the schedule of the window's start (the earlier update) and
@@ -242,8 +311,10 @@ def path_switch_cuts(casefile: Casefile, earlier: Snapshot, later: Snapshot,
     frozen = {k: tuple(v) for k, v in preds.items()}
     cuts: list[date] = []
 
+    day = on_day or daily_progress(casefile, earlier, later).on
+
     def work_on(t: date) -> frozenset[str]:
-        snap = slice_snapshot(casefile, earlier, later, t)
+        snap = day(t)
         return path_work(casefile, snap, sched(snap), frozen)
 
     def search(lo: date, p_lo: frozenset[str], hi: date, p_hi: frozenset[str]) -> None:

@@ -156,20 +156,38 @@ def window_context(casefile: Casefile, run: WindowRun) -> WindowContext:
         fb = fb[[pos[h_ids[i]] for i in keep]]
         h_ids = [h_ids[i] for i in keep]
     v = dict(zip(h_ids, (fh - fb).tolist(), strict=True))
-    preds: dict[str, list[tuple[str, str]]] = {}
-    for link in run.half.links:
-        preds.setdefault(link.succ, []).append((link.pred, link.type))
     later: dict[str, list[tuple[str, str, bool]]] = {}
-    earlier_keys = {lk.key for lk in run.earlier.links}
-    if run.window.added or len(earlier_keys) != len(run.later.links) or earlier_keys != {lk.key for lk in run.later.links}:
+    same_logic = run.later.links is run.earlier.links and not run.window.added  # a slice inside a window
+    earlier_keys = set() if same_logic else {lk.key for lk in run.earlier.links}
+    if not same_logic and (run.window.added or len(earlier_keys) != len(run.later.links)
+                           or earlier_keys != {lk.key for lk in run.later.links}):
         for link in run.later.links:
             new_link = link.key not in earlier_keys
             if new_link or link.pred not in v:
                 later.setdefault(link.succ, []).append((link.pred, link.type, new_link))
     return WindowContext(
-        casefile, run, half, before, v, {k: tuple(x) for k, x in preds.items()},
+        casefile, run, half, before, v, _predecessors(run.half.links),
         frozen_mapping({k: tuple(x) for k, x in later.items()}),
     )
+
+
+_PREDS: dict[int, tuple[tuple, dict]] = {}  # the last few links tuples' predecessor lists, by identity
+
+
+def _predecessors(links: tuple) -> dict[str, tuple[tuple[str, str], ...]]:
+    """Each successor's (predecessor, link type) pairs; kept for the last few links tuples (a window's
+    slices and the concurrency reruns share the earlier update's links). Read-only for callers."""
+    hit = _PREDS.get(id(links))
+    if hit is not None and hit[0] is links:
+        return hit[1]
+    preds: dict[str, list[tuple[str, str]]] = {}
+    for link in links:
+        preds.setdefault(link.succ, []).append((link.pred, link.type))
+    out = {k: tuple(x) for k, x in preds.items()}
+    if len(_PREDS) >= 4:
+        _PREDS.pop(next(iter(_PREDS)))
+    _PREDS[id(links)] = (links, out)
+    return out
 
 
 def _calendar(ctx: WindowContext, aid: str):

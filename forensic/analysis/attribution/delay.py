@@ -29,8 +29,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
-from datetime import timedelta
-from functools import partial
+from datetime import date, timedelta
 from typing import Any
 
 from forensic.analysis.attribution.concurrency import (
@@ -77,10 +76,11 @@ from forensic.analysis.attribution.results import (
 )
 from forensic.analysis.attribution.revision import revision_shares
 from forensic.analysis.runcache import RunCache, cached_schedule
-from forensic.analysis.slices import path_switch_cuts, slice_cuts, slice_snapshot
+from forensic.analysis.slices import DailyProgress, daily_progress, path_switch_cuts, slice_cuts
 from forensic.analysis.windows import WindowRun, analyse_windows, window_run
 from forensic.core.calendars import workdays_between
-from forensic.core.model import Casefile, frozen_mapping
+from forensic.core.engine import ScheduleResult
+from forensic.core.model import Casefile, Snapshot, frozen_mapping
 
 __all__ = [
     "CONCURRENCY_RULE",
@@ -238,18 +238,52 @@ def _window_found(casefile: Casefile, run: WindowRun,
     the float the window used on near-critical paths (both independent of the rule)."""
     ctx = window_context(casefile, run)
     float_used = window_float_use(casefile, run, ctx=ctx)
-    sched = partial(cached_schedule, cache, casefile)
-    switches = path_switch_cuts(casefile, run.earlier, run.later, sched,
+    known = {id(s): (s, r) for s, r in ((run.earlier, run.before), (run.half, run.half_result), (run.later, run.after))}
+
+    def sched(snap: Snapshot) -> ScheduleResult:
+        """Each snapshot of this window (its ends, the days probed, the cuts) scheduled once."""
+        hit = known.get(id(snap))
+        if hit is None or hit[0] is not snap:
+            hit = known[id(snap)] = (snap, cached_schedule(cache, casefile, snap))
+        return hit[1]
+
+    progress: list[DailyProgress] = []  # built on the first day asked for: most windows never ask
+
+    def on_day(t: date) -> Snapshot:
+        if not progress:
+            progress.append(daily_progress(casefile, run.earlier, run.later))
+        return progress[0].on(t)
+
+    switches = path_switch_cuts(casefile, run.earlier, run.later, sched, on_day=on_day,
                                 first=run.before, last=run.half_result, half=run.half)
     cuts = sorted({*slice_cuts(casefile, run.window.start, run.window.end), *switches})
+    if progress:  # the days probed and not cut on are done with
+        kept = {t: progress[0].days[t] for t in cuts if t in progress[0].days}
+        progress[0].days.clear()
+        progress[0].days.update(kept)
+        alive = {id(x) for x in (run.earlier, run.half, run.later, *kept.values())}
+        for key in [k for k in known if k not in alive]:
+            del known[key]
     if not cuts:
         return (_find_slice(casefile, run, ctx),), float_used
-    snaps = [run.earlier, *(slice_snapshot(casefile, run.earlier, run.later, t) for t in cuts), run.later]
+    snaps = [run.earlier, *map(on_day, cuts), run.later]
     runs = [window_run(casefile, a, b, sched) for a, b in zip(snaps, snaps[1:], strict=False)]
     # the revisions are all in the last slice (the later update's plan): an
     # event of any slice of the window may have brought them in
     runs[-1] = replace(runs[-1], revision_start=run.window.start)
-    return tuple(_find_slice(casefile, r) for r in runs), float_used
+    return tuple(_find_slice(casefile, r) if r.window.slip or r.window.progress_slip else _quiet_slice(casefile, r)
+                 for r in runs), float_used
+
+
+def _quiet_slice(casefile: Casefile, run: WindowRun) -> _Found:
+    """A slice in which completion did not move, by progress or revision: nothing to attribute.
+
+    The walk of a slip of 0 names no contributor, a plan unchanged inside
+    the window has no revision share, and a concurrency test can find no
+    concurrent day where no party holds a day of the slip (the days found
+    are capped by the involved parties' shares), so the reruns are skipped.
+    """
+    return _Found(run, (), (), 0, (), Concurrency(0, (), (), frozen_mapping({}), 0, rule=casefile.project.concurrency))
 
 
 def _find_slice(casefile: Casefile, run: WindowRun, ctx: WindowContext | None = None) -> _Found:
