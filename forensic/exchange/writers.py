@@ -14,9 +14,11 @@ import csv
 import io
 import json
 import math
+import operator
 import re
 import textwrap
 from datetime import date
+from itertools import chain, compress, repeat
 from types import ModuleType
 from typing import Any
 
@@ -90,8 +92,35 @@ def _plain_floats(obj: Any) -> bool:
     (``1e+16``, ``1e-05``) where orjson writes ``1e16``, ``1e-5``: such a
     value sends the text to the standard encoder, so the bytes never depend
     on which encoder ran.
+
+    The values are visited one nesting level at a time with the built-in
+    iterators (``map``, ``compress``, ``chain``), so a large schedule is
+    screened at C speed rather than one Python step a value; a non-finite
+    number is then named by :func:`_refuse_non_finite`, the walk value by value.
     """
-    plain = True
+    level = [obj]
+    floats: list[float] = []
+    while level:
+        kinds = set(map(type, level))
+        if float in kinds:
+            floats.extend(compress(level, map(operator.is_, map(type, level), repeat(float))))
+        dicts = {t for t in kinds if issubclass(t, dict)}
+        nested = dicts | (kinds & {list, tuple})
+        if not nested:
+            break
+        inner = list(compress(level, map(nested.__contains__, map(type, level))))
+        values = [v.values() if isinstance(v, dict) else v for v in inner] if dicts else inner
+        level = list(chain.from_iterable(values))
+    if not floats:
+        return True
+    if not all(map(math.isfinite, floats)):
+        _refuse_non_finite(obj)
+    sizes = list(map(abs, floats))
+    return max(sizes) < 1e16 and min(filter(None, sizes), default=1.0) >= 1e-4
+
+
+def _refuse_non_finite(obj: Any) -> None:
+    """Raise ``ValueError`` naming the non-finite number met first by a depth-first walk of ``obj``."""
     stack = [obj]
     while stack:
         v = stack.pop()
@@ -100,13 +129,10 @@ def _plain_floats(obj: Any) -> bool:
             if not math.isfinite(v):
                 msg = f"cannot write {v!r} as JSON (not a finite number)"
                 raise ValueError(msg)
-            if v and not 1e-4 <= abs(v) < 1e16:
-                plain = False
         elif isinstance(v, dict):
             stack.extend(v.values())
         elif t is list or t is tuple:
             stack.extend(v)
-    return plain
 
 
 def dumps_json(obj: Any) -> str:
