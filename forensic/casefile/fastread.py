@@ -33,11 +33,13 @@ row-wise reader.
 from __future__ import annotations
 
 import csv
+import dataclasses
 import io
 import re
 from collections.abc import Callable, Collection
 from datetime import date
 from itertools import repeat
+from operator import attrgetter
 
 import numpy as np
 
@@ -51,6 +53,7 @@ from forensic.casefile.csvread import (
     parse_number,
 )
 from forensic.casefile.records import ActivityTable
+from forensic.casefile.slotted import built
 from forensic.core.model import ACTIVITY_KINDS, CONSTRAINT_KINDS, LINK_TYPES, Activity, Link
 from forensic.core.network import topological_levels
 
@@ -310,33 +313,37 @@ def fast_activities(
         return None
     start, finish, rem, warned = rules
     bucket = {} if memo is None else memo.setdefault(("line", header), {})
+    records = list(map(bucket.get, texts))  # an unchanged row's record from an earlier snapshot
+    new = [i for i, act in enumerate(records) if act is None]
+    if new:
+        blank_none = lambda values: [v or None for v in values]  # noqa: E731
+        fields = (p["id"], p["name"], p["parsed_duration"], [k or "task" for k in p["kind"]], rem, start, finish,
+                  blank_none(p["calendar"]), blank_none(p["constraint"]), p["parsed_constraint_date"],
+                  blank_none(p["party"]), blank_none(p["area"]), p["parsed_percent_complete"],
+                  p["parsed_crash_days"], p["parsed_crash_cost"], lines)
+        if len(new) < n:
+            fields = tuple(list(map(col.__getitem__, new)) for col in fields)
+        for i, act in zip(new, built(Activity, fields), strict=True):
+            records[i] = act
+        keep = warned.tolist()
+        bucket.update((texts[i], records[i]) for i in new if not keep[i])
+    moved = [i for i, act, line in zip(range(n), records, lines, strict=True) if act.line != line]
+    if moved:  # the same records on other lines (every other field shared with the earlier record)
+        old = zip(*map(_ALL_BUT_LINE, map(records.__getitem__, moved)), strict=True)
+        for i, act in zip(moved, built(Activity, (*old, list(map(lines.__getitem__, moved)))), strict=True):
+            records[i] = bucket[texts[i]] = act
+    ids = list(map(_ID, records))  # an unchanged activity's id string is shared with earlier snapshots
     table = ActivityTable(rel)
-    acts, seen = table.activities, table.ids
-    ids, kinds = p["id"], p["kind"]
-    dur, cdate = p["parsed_duration"], p["parsed_constraint_date"]
-    pct, crash, cost = p["parsed_percent_complete"], p["parsed_crash_days"], p["parsed_crash_cost"]
-    cal, con, party, area, name = p["calendar"], p["constraint"], p["party"], p["area"], p["name"]
+    table.activities.update(zip(ids, records, strict=True))
+    table.ids.update(zip(ids, lines, strict=True))
     warn_rows = np.flatnonzero(warned).tolist()
-    get = bucket.get
-    for key, line, aid, nm, d, k, r, s, f, c, cn, cd, pa, ar, pc, cr, co, w in zip(
-            texts, lines, ids, name, dur, kinds, rem, start, finish, cal, con, cdate, party, area, pct, crash, cost,
-            warned.tolist(), strict=True):
-        act = get(key)
-        if act is None:
-            act = Activity(aid, nm, d, k or "task", r, s, f, c or None, cn or None, cd, pa or None, ar or None,
-                           pc, cr, co, line)
-            if not w:
-                bucket[key] = act
-        elif act.line != line:
-            act = bucket[key] = Activity(
-                act.id, act.name, act.duration, act.kind, act.remaining, act.actual_start, act.actual_finish,
-                act.calendar, act.constraint, act.constraint_date, act.party, act.area, act.percent_complete,
-                act.crash_days, act.crash_cost, line)
-        seen[act.id] = line
-        acts[act.id] = act
     warnings.extend(f"{rel}, line {lines[i]}: activity {ids[i]} is in progress with remaining 0 "
                     "and no actual_finish" for i in warn_rows)
     return table
+
+
+_ID = attrgetter("id")
+_ALL_BUT_LINE = attrgetter(*[f.name for f in dataclasses.fields(Activity)][:-1])  # ``line`` is the last field
 
 
 def fast_links(
@@ -362,7 +369,7 @@ def fast_links(
     n = len(lines)
     pred, succ = cols["pred"], cols["succ"]
     ends = list(known)
-    at = {a: i for i, a in enumerate(ends)}
+    at = dict(zip(ends, range(len(ends)), strict=True))
     lp, ls = _positions(at, pred), _positions(at, succ)
     if (lp < 0).any() or (ls < 0).any() or (lp == ls).any():
         return None
@@ -382,8 +389,8 @@ def fast_links(
     # unchanged activity, with earlier snapshots); a link is built straight from the columns,
     # which is faster than looking a row up in a memo (a moved row needs a new record anyway).
     lag_list = [lag or 0 for lag in lags]
-    links = list(map(Link, map(ends.__getitem__, lp.tolist()), map(ends.__getitem__, ls.tolist()), ltype,
-                     lag_list, lines))
+    links = built(Link, (list(map(ends.__getitem__, lp.tolist())), list(map(ends.__getitem__, ls.tolist())),
+                         ltype, lag_list, lines))
     warnings.extend(f"{rel}, line {lines[i]}: link {pred[i]} -> {succ[i]} has no effect, "
                     f"because {succ[i]} is finished and {pred[i]} is not" for i in np.flatnonzero(warn).tolist())
     return links, (lp, ls, code, np.array(lag_list, dtype=np.int64))

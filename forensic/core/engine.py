@@ -268,7 +268,7 @@ class _ActivityTable(Mapping):
 
     def __init__(self, ids, cols, driving_of):
         self._ids = ids
-        self._pos = {a: i for i, a in enumerate(ids)}
+        self._pos = dict(zip(ids, range(len(ids)), strict=True))
         self._cols = cols  # name -> numpy array, converted to lists on first use
         self._lists = None
         self._driving_of = driving_of
