@@ -380,7 +380,7 @@ def fast_links(
     lags = _by_value(_column(cols, "lag", n), lambda raw, p: parse_int(
         raw, rel, None, "lag", p, minimum=None, maximum=MAX_DURATION,
         what="a lag in whole working days (negative for a lead)"))
-    if lags is None or np.unique((lp * len(ends) + ls) * len(LINK_TYPES) + code).size != n:
+    if lags is None or _repeats((lp * len(ends) + ls) * len(LINK_TYPES) + code):
         return None
     done = np.zeros(len(ends), dtype=bool)
     done[[at[a] for a in finished if a in at]] = True
@@ -394,6 +394,12 @@ def fast_links(
     warnings.extend(f"{rel}, line {lines[i]}: link {pred[i]} -> {succ[i]} has no effect, "
                     f"because {succ[i]} is finished and {pred[i]} is not" for i in np.flatnonzero(warn).tolist())
     return links, (lp, ls, code, np.array(lag_list, dtype=np.int64))
+
+
+def _repeats(keys: np.ndarray) -> bool:
+    """Whether a key occurs twice (sorted neighbours; ``np.unique`` would import ``numpy.ma``)."""
+    ordered = np.sort(keys)
+    return bool((ordered[1:] == ordered[:-1]).any())
 
 
 def _positions(at: dict[str, int], values: list[str]) -> np.ndarray:

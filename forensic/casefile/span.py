@@ -197,13 +197,19 @@ def span_bounds(
         np.maximum.at(start, dst[hold_start], value[hold_start])
         np.maximum.at(finish, dst[~hold_start], value[~hold_start])
         np.subtract.at(indeg, dst, 1)
-        cand = np.unique(dst)
+        cand = _distinct(dst)
         frontier = cand[indeg[cand] == 0]
     cal = [cal_list[k] if k < none else None for k in ck.tolist()]
     return finish, span, work, cal, first_over
 
 
 _CODE = {"FS": 0, "SS": 1, "FF": 2, "SF": 3}
+
+
+def _distinct(values: np.ndarray) -> np.ndarray:
+    """The distinct values, sorted (``np.unique`` without its import of ``numpy.ma``)."""
+    ordered = np.sort(values)
+    return ordered[np.concatenate(([True], ordered[1:] != ordered[:-1]))] if ordered.size else ordered
 _SPAN_FIELDS = attrgetter("calendar", "actual_start", "actual_finish", "kind", "duration", "remaining")
 
 
