@@ -84,6 +84,9 @@ def _json_default(value: Any) -> Any:
     raise TypeError(msg)
 
 
+_VALUES = operator.methodcaller("values")
+
+
 def _plain_floats(obj: Any) -> bool:
     """Refuse NaN and infinities anywhere in ``obj``; true when every float prints without an exponent.
 
@@ -101,15 +104,19 @@ def _plain_floats(obj: Any) -> bool:
     level = [obj]
     floats: list[float] = []
     while level:
-        kinds = set(map(type, level))
+        types = list(map(type, level))
+        kinds = set(types)
         if float in kinds:
-            floats.extend(compress(level, map(operator.is_, map(type, level), repeat(float))))
+            floats.extend(compress(level, map(operator.is_, types, repeat(float))))
         dicts = {t for t in kinds if issubclass(t, dict)}
         nested = dicts | (kinds & {list, tuple})
         if not nested:
             break
-        inner = list(compress(level, map(nested.__contains__, map(type, level))))
-        values = [v.values() if isinstance(v, dict) else v for v in inner] if dicts else inner
+        inner = level if nested == kinds else list(compress(level, map(nested.__contains__, types)))
+        if nested == dicts:
+            values = map(_VALUES, inner)
+        else:
+            values = [v.values() if isinstance(v, dict) else v for v in inner] if dicts else inner
         level = list(chain.from_iterable(values))
     if not floats:
         return True
