@@ -38,7 +38,6 @@ import io
 import re
 from collections.abc import Callable, Collection
 from datetime import date
-from itertools import repeat
 from operator import attrgetter
 
 import numpy as np
@@ -371,10 +370,10 @@ def fast_links(
     ends = list(known)
     at = dict(zip(ends, range(len(ends)), strict=True))
     lp, ls = _positions(at, pred), _positions(at, succ)
-    if (lp < 0).any() or (ls < 0).any() or (lp == ls).any():
+    if lp is None or ls is None or (lp == ls).any():
         return None
     code = _positions({"": 0, **{t: i for i, t in enumerate(LINK_TYPES)}}, _column(cols, "type", n))
-    if (code < 0).any():
+    if code is None:
         return None  # blank is FS (code 0)
     ltype = list(map(LINK_TYPES.__getitem__, code.tolist()))
     lags = _by_value(_column(cols, "lag", n), lambda raw, p: parse_int(
@@ -389,8 +388,8 @@ def fast_links(
     # unchanged activity, with earlier snapshots); a link is built straight from the columns,
     # which is faster than looking a row up in a memo (a moved row needs a new record anyway).
     lag_list = [lag or 0 for lag in lags]
-    links = built(Link, (list(map(ends.__getitem__, lp.tolist())), list(map(ends.__getitem__, ls.tolist())),
-                         ltype, lag_list, lines))
+    named = _as_array(ends)
+    links = built(Link, (named[lp].tolist(), named[ls].tolist(), ltype, lag_list, lines))
     warnings.extend(f"{rel}, line {lines[i]}: link {pred[i]} -> {succ[i]} has no effect, "
                     f"because {succ[i]} is finished and {pred[i]} is not" for i in np.flatnonzero(warn).tolist())
     return links, (lp, ls, code, np.array(lag_list, dtype=np.int64))
@@ -402,9 +401,12 @@ def _repeats(keys: np.ndarray) -> bool:
     return bool((ordered[1:] == ordered[:-1]).any())
 
 
-def _positions(at: dict[str, int], values: list[str]) -> np.ndarray:
-    """The position in ``at`` of each value (-1: not there)."""
-    return np.fromiter(map(at.get, values, repeat(-1)), np.int64, len(values))
+def _positions(at: dict[str, int], values: list[str]) -> np.ndarray | None:
+    """The position in ``at`` of each value; ``None`` if one is not there."""
+    try:
+        return np.fromiter(map(at.__getitem__, values), np.int64, len(values))
+    except KeyError:
+        return None
 
 
 def has_no_loop(n: int, lp: np.ndarray, ls: np.ndarray) -> bool:
