@@ -161,8 +161,7 @@ def _data_lines(text: str, width: int) -> tuple[np.ndarray, bool] | None:
     return number[full][1:], _padded(data, text)
 
 
-_BLANK_BYTE = np.zeros(256, dtype=bool)
-_BLANK_BYTE[[9, 11, 12, 28, 29, 30, 31, 32]] = True
+_SPACE = 32
 
 
 def _padded(data: np.ndarray, text: str) -> bool:
@@ -173,7 +172,8 @@ def _padded(data: np.ndarray, text: str) -> bool:
     """
     if not text.isascii():
         return _PADDED.search(text) is not None
-    blank = np.flatnonzero(_BLANK_BYTE[data])
+    # Every blank byte (and a few other control bytes, which at worst only cost a strip).
+    blank = np.flatnonzero((data <= _SPACE) & (data != _NEWLINE) & (data != _CR))
     if not blank.size:
         return False
     before = data[np.maximum(blank - 1, 0)]
