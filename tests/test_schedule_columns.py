@@ -88,3 +88,16 @@ def test_columns_agree_after_some_records_were_made():
     for rec in first:
         i = at[rec.id]
         assert tuple(cols[name][i] for name in cols) == tuple(getattr(rec, name) for name in cols)
+
+
+@pytest.mark.parametrize(("cf", "snap"), CASES[::3], ids=[f"{cf.project.name}-{s.id}" for cf, s in CASES[::3]])
+def test_completion_and_columns_in_any_order_agree_with_the_records(cf, snap):
+    result = schedule(snap, cf.calendars, cf.project)
+    comp = result.activities[result.completion_id]
+    assert (result.completion, result.completion_float) == (comp.early_finish, comp.total_float)
+    assert type(result.completion_float) in (int, type(None))
+    backwards = tuple(reversed(result.order))  # not the result's own order: positions looked up by id
+    cols = result.activities.columns_at(backwards)
+    for k, aid in enumerate(backwards[:50]):
+        rec = result.activities[aid]
+        assert tuple(cols[name][k] for name in cols) == tuple(getattr(rec, name) for name in cols)

@@ -191,6 +191,8 @@ def _by_value(values: list[str], parse: Callable[[str, Problems], object]) -> li
     parsed = {raw: parse(raw, scratch) if raw else None for raw in dict.fromkeys(values)}
     if len(scratch):
         return None
+    if len(parsed) == 1:  # a column of one value (often all blank)
+        return [*parsed.values()] * len(values)
     return list(map(parsed.__getitem__, values))
 
 

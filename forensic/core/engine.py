@@ -266,18 +266,24 @@ class _ActivityTable(Mapping):
     costs more than the passes, so a record is made only when asked for.
     """
 
-    def __init__(self, ids, cols, driving_of):
+    def __init__(self, ids, cols, driving_of, order=None):
         self._ids = ids
-        self._pos = dict(zip(ids, range(len(ids)), strict=True))
+        self._pos: dict[str, int] | None = None  # id -> position, made on first use
         self._cols = cols  # name -> numpy array, converted to lists on first use
         self._lists = None
         self._driving_of = driving_of
         self._made: dict[str, ScheduledActivity] = {}
+        self._order = order  # (the result's order of ids, their positions), or None
+
+    def _at(self) -> dict[str, int]:
+        if self._pos is None:
+            self._pos = dict(zip(self._ids, range(len(self._ids)), strict=True))
+        return self._pos
 
     def __getitem__(self, key: str) -> ScheduledActivity:
         rec = self._made.get(key)
         if rec is None:
-            rec = self._made[key] = self._make(self._pos[key])
+            rec = self._made[key] = self._make(self._at()[key])
         return rec
 
     def __iter__(self):
@@ -287,7 +293,7 @@ class _ActivityTable(Mapping):
         return len(self._ids)
 
     def __contains__(self, key) -> bool:
-        return key in self._pos
+        return key in self._at()
 
     def column(self, name: str) -> np.ndarray:
         """One result for every activity as an array, in ``ids`` order (no records built)."""
@@ -300,7 +306,10 @@ class _ActivityTable(Mapping):
         bools, ``None`` for finished work, tuples of driving predecessors):
         a whole table of results costs a few array operations, not 50,000 records.
         """
-        pos = np.fromiter(map(self._pos.__getitem__, ids), np.int64, len(ids))
+        if self._order is not None and ids is self._order[0]:
+            pos = self._order[1]
+        else:
+            pos = np.fromiter(map(self._at().__getitem__, ids), np.int64, len(ids))
         c = {k: v[pos] for k, v in self._cols.items()}
         done = c["status"] == 2
         live = ~done
@@ -411,17 +420,18 @@ def _schedule(
     driving_of = driving_links(net, active, early)
     path = longest_path_positions(net, comp, driving_of, early.start_day)
     ids = net.ids
-    table = _ActivityTable(ids, cols, driving_of)
-    comp_act = table[ids[comp]]
+    order = tuple(map(ids.__getitem__, net.node_order.tolist()))
+    table = _ActivityTable(ids, cols, driving_of, (order, net.node_order))
+    finished = int(cols["status"][comp]) == 2
     return ScheduleResult(
         snapshot_id=snapshot.id,
         data_date=snapshot.data_date,
         completion_id=ids[comp],
-        completion=comp_act.early_finish,
-        completion_float=comp_act.total_float,
+        completion=from_day_number(int(cols["finish_day"][comp])),
+        completion_float=None if finished else int(cols["total_float"][comp]),
         activities=table,
         longest_path=tuple(ids[i] for i in path),
-        order=tuple(ids[i] for i in net.node_order.tolist()),
+        order=order,
         warnings=tuple(open_end_warnings(snapshot.id, net, comp)),
         longest_paths=tuple(tuple(ids[i] for i in c) for c in path_chains(comp, driving_of)),
     )
