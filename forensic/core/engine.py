@@ -313,7 +313,7 @@ class _ActivityTable(Mapping):
         c = {k: v[pos] for k, v in self._cols.items()}
         done = c["status"] == 2
         live = ~done
-        status = np.where(done, "finished", np.where(c["status"] == 1, "in-progress", "not-started"))
+        status = _STATUS_NAMES[np.where(done, 2, np.where(c["status"] == 1, 1, 0))]
         out: dict[str, list] = {"id": list(ids), "status": status.tolist()}
         out["early_start"] = _dates(c["start_day"], None)
         out["early_finish"] = _dates(c["finish_day"], None)
@@ -362,6 +362,7 @@ class _ActivityTable(Mapping):
 
 
 _FIELDS = tuple(f.name for f in fields(ScheduledActivity))
+_STATUS_NAMES = np.array(["not-started", "in-progress", "finished"], dtype=object)
 
 
 def activity_columns(result: ScheduleResult) -> dict[str, list]:

@@ -11,7 +11,6 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 from datetime import date
-from itertools import repeat
 from operator import attrgetter
 from typing import Any
 
@@ -98,22 +97,23 @@ def schedule_table(result: ScheduleResult, snapshot: Snapshot) -> Table:
     return Table(f"schedule-{snapshot.id}", SCHEDULE_COLUMNS, tuple(rows))
 
 
-_JSON_ACTIVITY_KEYS = ("id", "status", "early_start", "early_finish", "late_start", "late_finish",
-                       "total_float", "free_float", "critical", "driving_predecessors")
-
-
 def schedule_json(result: ScheduleResult) -> dict[str, Any]:
     """The ``forensic schedule --json`` object (keys documented in README.md; a contract)."""
     c = activity_columns(result)
-    c["driving_predecessors"] = list(map(list, c["driving_predecessors"]))
-    rows = zip(*(c[k] for k in _JSON_ACTIVITY_KEYS), strict=True)
+    rows = zip(c["id"], c["status"], c["early_start"], c["early_finish"], c["late_start"], c["late_finish"],
+               c["total_float"], c["free_float"], c["critical"], c["driving_predecessors"], strict=True)
     return {
         "snapshot": result.snapshot_id,
         "data_date": result.data_date,
         "completion": result.completion,
         "completion_activity": result.completion_id,
         "completion_float": result.completion_float,
-        "activities": list(map(dict, map(zip, repeat(_JSON_ACTIVITY_KEYS), rows))),
+        "activities": [
+            {"id": aid, "status": status, "early_start": es, "early_finish": ef, "late_start": ls,
+             "late_finish": lf, "total_float": tf, "free_float": ff, "critical": crit,
+             "driving_predecessors": list(drivers)}
+            for aid, status, es, ef, ls, lf, tf, ff, crit, drivers in rows
+        ],
         "longest_path": list(result.longest_path),
         "longest_paths": [list(chain) for chain in result.longest_paths],
     }
