@@ -210,12 +210,12 @@ def _distinct(values: np.ndarray) -> np.ndarray:
     """The distinct values, sorted (``np.unique`` without its import of ``numpy.ma``)."""
     ordered = np.sort(values)
     return ordered[np.concatenate(([True], ordered[1:] != ordered[:-1]))] if ordered.size else ordered
-_SPAN_FIELDS = attrgetter("calendar", "actual_start", "actual_finish", "kind", "duration", "remaining")
+_SPAN_FIELDS = ("calendar", "actual_start", "actual_finish", "kind", "duration", "remaining")
 
 
 def _span_columns(acts: list[Activity]) -> tuple[tuple, np.ndarray, np.ndarray, np.ndarray]:
     """Each activity's calendar, whether it started, its kind, and its work as :func:`_work` (-1 for ``None``)."""
-    calendar, start, finish, kind, duration, remaining = zip(*map(_SPAN_FIELDS, acts), strict=True)
+    calendar, start, finish, kind, duration, remaining = (list(map(attrgetter(f), acts)) for f in _SPAN_FIELDS)
     started = np.array([s is not None for s in start], dtype=bool)
     finished = np.array([f is not None for f in finish], dtype=bool)
     kind = np.array(kind, dtype=object)
