@@ -101,3 +101,16 @@ def test_exponent_floats_are_not_plain_anywhere():
     assert _plain_floats({"a": [[{"b": 1e16}]]}) is False
     assert _plain_floats({"a": [[{"b": 0.0, "c": 1e-4, "d": -9.9e15}]]}) is True
     assert dumps_json({"a": [1e-5, 1e16]}) == '{\n  "a": [\n    1e-05,\n    1e+16\n  ]\n}\n'
+
+
+@pytest.mark.parametrize("rows", [
+    [{"a": 1, "b": "x"}, {"a": 2, "b": [0.5, {"c": math.nan}]}],  # one size: cut into columns
+    [{"a": 1}, {"a": 2, "b": (math.inf,)}],  # two sizes
+    [{"a": 1, "b": 2}, {"c": [-math.inf], "d": None}],  # one size, other keys
+    [{"a": 1, "b": 2}, ["x", {"z": [math.nan]}]],  # dicts and lists side by side
+])
+def test_rows_of_dicts_of_one_size_or_many_are_screened_alike(rows):
+    assert _outcome(_plain_floats, {"rows": rows}) == _outcome(_walk, {"rows": rows})
+    assert _outcome(_plain_floats, {"rows": rows})[0] == "refused"
+    clean = {"rows": [{k: 1.5 for k in r} if isinstance(r, dict) else r[:1] for r in rows]}
+    assert _plain_floats(clean) is True

@@ -17,6 +17,7 @@ import math
 import operator
 import re
 import textwrap
+from collections.abc import Sequence
 from datetime import date
 from itertools import chain, compress, repeat
 from types import ModuleType
@@ -97,27 +98,32 @@ def _plain_floats(obj: Any) -> bool:
     on which encoder ran.
 
     The values are visited one nesting level at a time with the built-in
-    iterators (``map``, ``compress``, ``chain``), so a large schedule is
-    screened at C speed rather than one Python step a value; a non-finite
-    number is then named by :func:`_refuse_non_finite`, the walk value by value.
+    iterators (``map``, ``compress``, ``chain``, ``zip``), so a large
+    schedule is screened at C speed rather than one Python step a value: a
+    level of dicts of one size is cut into its columns (the values at one
+    place in each dict), and a column holding only text, numbers other than
+    floats, dates and the like is left at once. A non-finite number is then
+    named by :func:`_refuse_non_finite`, the walk value by value.
     """
-    level = [obj]
+    columns: list[Sequence[Any]] = [[obj]]
     floats: list[float] = []
-    while level:
-        types = list(map(type, level))
-        kinds = set(types)
-        if float in kinds:
-            floats.extend(compress(level, map(operator.is_, types, repeat(float))))
-        dicts = {t for t in kinds if issubclass(t, dict)}
-        nested = dicts | (kinds & {list, tuple})
-        if not nested:
-            break
-        inner = level if nested == kinds else list(compress(level, map(nested.__contains__, types)))
-        if nested == dicts:
-            values = map(_VALUES, inner)
-        else:
+    while columns:
+        deeper: list[Sequence[Any]] = []
+        for column in columns:
+            kinds = set(map(type, column))
+            if float in kinds:
+                floats.extend(compress(column, map(operator.is_, map(type, column), repeat(float))))
+            dicts = {t for t in kinds if issubclass(t, dict)}
+            nested = dicts | (kinds & {list, tuple})
+            if not nested:
+                continue
+            inner = column if nested == kinds else list(compress(column, map(nested.__contains__, map(type, column))))
+            if nested == dicts and len(set(map(len, inner))) == 1:
+                deeper.extend(zip(*map(_VALUES, inner), strict=True))  # one column a place in the dicts
+                continue
             values = [v.values() if isinstance(v, dict) else v for v in inner] if dicts else inner
-        level = list(chain.from_iterable(values))
+            deeper.append(list(chain.from_iterable(values)))
+        columns = deeper
     if not floats:
         return True
     if not all(map(math.isfinite, floats)):
