@@ -1,8 +1,10 @@
-"""The loader's vectorised fast path: a snapshot's activities.csv and links.csv read with pandas.
+"""The loader's vectorised fast path: a snapshot's activities.csv and links.csv read column by column.
 
-A table is read with :func:`pandas.read_csv` (the C engine, every cell a
-string, no type guessing, no missing-value markers) and checked column by
-column. The fast path only ever *proves a table clean*: each function
+A table is screened with numpy (every line of the header's width, no quote
+but around a whole cell), then split into columns: a table with no quote
+at all by one :meth:`str.split` of its rows, one with quoted cells by the
+:mod:`csv` module (the row-wise reader's own parser); then it is checked
+column by column, with the built-in iterators and numpy. The fast path only ever *proves a table clean*: each function
 returns ``None`` as soon as a vectorised screen says that any rule of the
 row-wise reader (:mod:`forensic.casefile.csvread`, :mod:`forensic.casefile.records`)
 might fire (a quote, a lone carriage return, a row of another width, a
@@ -31,13 +33,14 @@ row-wise reader.
 from __future__ import annotations
 
 import csv
+import dataclasses
 import io
 import re
 from collections.abc import Callable, Collection
 from datetime import date
+from operator import attrgetter
 
 import numpy as np
-import pandas as pd
 
 from forensic.casefile.csvread import (
     MAX_DURATION,
@@ -49,6 +52,7 @@ from forensic.casefile.csvread import (
     parse_number,
 )
 from forensic.casefile.records import ActivityTable
+from forensic.casefile.slotted import built
 from forensic.core.model import ACTIVITY_KINDS, CONSTRAINT_KINDS, LINK_TYPES, Activity, Link
 from forensic.core.network import topological_levels
 
@@ -58,9 +62,6 @@ __all__ = ["Frame", "fast_activities", "fast_links", "frame_table", "has_no_loop
 _PADDED = re.compile(r"(?:^|,)[^\S\r\n]|[^\S\r\n](?:,|\r?$)", re.M)
 # A quoted cell on one line: the whole cell between its separators, quotes doubled inside.
 _QUOTED = re.compile(r'(?:^|(?<=,))"(?:[^"\r\n]|"")*"(?=,|\r?$)', re.M)
-# An id the fast path takes: printable ASCII without blanks, so it holds no
-# invisible character, no blank and no letters of two scripts.
-_PLAIN_ID = rf"[\x21-\x7e]{{1,{MAX_ID_CHARS}}}"
 _NEWLINE, _COMMA, _CR = 10, 44, 13
 
 Frame = tuple[tuple[str, ...], dict[str, list[str]], list[int], list[str]]
@@ -96,22 +97,40 @@ def frame_table(text: str, required: tuple[str, ...], optional: tuple[str, ...],
     every = text.split("\n")
     if not lines.size or lines.size > max_rows or max(map(len, every)) >= csv.field_size_limit():
         return None
-    try:
-        df = pd.read_csv(io.StringIO(text), header=None, skiprows=1, names=list(header), index_col=False,
-                         dtype=str, keep_default_na=False, na_filter=False, engine="c",
-                         quoting=csv.QUOTE_MINIMAL if quoted else csv.QUOTE_NONE, skip_blank_lines=True)
-    except (ValueError, pd.errors.ParserError):
-        return None
-    if len(df) != lines.size:
-        return None
-    cols = {}
-    for name in header:
-        values = df[name].tolist()
-        cols[name] = [cell.strip() for cell in values] if padded else values
-    if padded and any(not any(row) for row in zip(*cols.values(), strict=True)):
-        return None
     lines = lines.tolist()
-    return header, cols, lines, [every[k - 1] for k in lines]
+    texts = [every[k - 1] for k in lines]
+    columns = _quoted_columns(text, len(header), len(lines)) if quoted else _plain_columns(texts, len(header))
+    if columns is None:
+        return None
+    cols = {name: list(map(str.strip, col)) if padded else col for name, col in zip(header, columns, strict=True)}
+    if padded and not all(map(any, zip(*cols.values(), strict=True))):
+        return None
+    return header, cols, lines, texts
+
+
+def _plain_columns(rows: list[str], width: int) -> list[list[str]]:
+    """The columns of a table with no quote: its data rows joined by commas and split once.
+
+    Each data row holds exactly ``width - 1`` commas (screened), so the
+    ``k``-th cell of the split belongs to column ``k % width``; a line's
+    carriage return (of a CRLF ending) is not part of its last cell.
+    """
+    joined = ",".join(rows)
+    if "\r" in joined:
+        joined = ",".join(row[:-1] if row.endswith("\r") else row for row in rows)
+    cells = joined.split(",")
+    return [cells[k::width] for k in range(width)]
+
+
+def _quoted_columns(text: str, width: int, n: int) -> list[list[str]] | None:
+    """The columns of a table with quoted cells, read by the :mod:`csv` module; ``None`` unless every row fits."""
+    try:
+        records = [r for r in csv.reader(io.StringIO(text, newline=""), strict=True) if r]
+    except csv.Error:
+        return None
+    if len(records) != n + 1 or any(len(r) != width for r in records):
+        return None
+    return [list(col) for col in zip(*records[1:], strict=True)]
 
 
 def _placeholder(match: re.Match) -> str:
@@ -139,32 +158,42 @@ def _data_lines(text: str, width: int) -> tuple[np.ndarray, bool] | None:
     if not full[0] or (counts[full] != width - 1).any() or (full & (length == counts)).any():
         return None
     number = np.arange(1, length.size + 1)
-    return number[full][1:], _padded(data, text, commas, starts, ends)
+    return number[full][1:], _padded(data, text)
 
 
-_BLANK_BYTE = np.zeros(256, dtype=bool)
-_BLANK_BYTE[[9, 11, 12, 28, 29, 30, 31, 32]] = True
+_SPACE = 32
 
 
-def _padded(data: np.ndarray, text: str, commas: np.ndarray, starts: np.ndarray, ends: np.ndarray) -> bool:
-    """Whether a cell may start or end with a blank (then every cell is stripped as ``str.strip`` does)."""
+def _padded(data: np.ndarray, text: str) -> bool:
+    """Whether a cell may start or end with a blank (then every cell is stripped as ``str.strip`` does).
+
+    In ASCII text: whether any blank byte stands next to a comma or at either
+    end of a line (a carriage return counts as the end).
+    """
     if not text.isascii():
         return _PADDED.search(text) is not None
-    edges = np.concatenate((commas - 1, commas + 1, starts, ends - 1, ends - 2))
-    edges = edges[(edges >= 0) & (edges < data.size)]
-    return bool(_BLANK_BYTE[data[edges]].any())
+    # Every blank byte (and a few other control bytes, which at worst only cost a strip).
+    blank = np.flatnonzero((data <= _SPACE) & (data != _NEWLINE) & (data != _CR))
+    if not blank.size:
+        return False
+    before = data[np.maximum(blank - 1, 0)]
+    after = data[np.minimum(blank + 1, data.size - 1)]
+    return bool(((blank == 0) | (blank == data.size - 1) | _EDGE_BYTE[before] | _EDGE_BYTE[after]).any())
+
+
+_EDGE_BYTE = np.zeros(256, dtype=bool)
+_EDGE_BYTE[[_NEWLINE, _COMMA, _CR]] = True
 
 
 def _by_value(values: list[str], parse: Callable[[str, Problems], object]) -> list | None:
     """Each cell parsed, distinct values once (blank -> ``None``); ``None`` if the parser refuses one."""
-    codes, uniques = pd.factorize(pd.Series(values, dtype=object), sort=False)
     scratch = Problems()
-    parsed = np.empty(len(uniques), dtype=object)
-    for i, raw in enumerate(uniques):
-        parsed[i] = parse(raw, scratch) if raw else None
+    parsed = {raw: parse(raw, scratch) if raw else None for raw in dict.fromkeys(values)}
     if len(scratch):
         return None
-    return parsed[codes].tolist() if len(uniques) else [None] * len(values)
+    if len(parsed) == 1:  # a column of one value (often all blank)
+        return [*parsed.values()] * len(values)
+    return list(map(parsed.__getitem__, values))
 
 
 def _column(cols: dict[str, list[str]], name: str, n: int) -> list[str]:
@@ -173,7 +202,19 @@ def _column(cols: dict[str, list[str]], name: str, n: int) -> list[str]:
 
 def _allowed(values: list[str], choices: Collection[str]) -> bool:
     """Every cell blank or one of ``choices``."""
-    return bool(pd.Series(values, dtype=object).isin(["", *choices]).all())
+    return set(values) <= {"", *choices}
+
+
+def _plain_ids(ids: list[str]) -> bool:
+    """Every id of 1 to ``MAX_ID_CHARS`` printable ASCII characters without blanks, and no id twice."""
+    if not ids or min(map(len, ids)) < 1 or max(map(len, ids)) > MAX_ID_CHARS:
+        return False
+    joined = "".join(ids)
+    return joined.isascii() and joined.isprintable() and " " not in joined and len(set(ids)) == len(ids)
+
+
+def _longest(values: list[str]) -> int:
+    return max(map(len, values), default=0)
 
 
 def _parse_activity_columns(cols, n, rel, calendars, parties) -> dict | None:
@@ -181,12 +222,9 @@ def _parse_activity_columns(cols, n, rel, calendars, parties) -> dict | None:
     col = {name: _column(cols, name, n) for name in (
         "id", "name", "kind", "duration", "remaining", "actual_start", "actual_finish", "calendar",
         "constraint", "constraint_date", "party", "area", "percent_complete", "crash_days", "crash_cost")}
-    ids = pd.Series(col["id"], dtype=object)
-    if not ids.str.fullmatch(_PLAIN_ID).all() or ids.duplicated().any():
+    if not _plain_ids(col["id"]):
         return None
-    names = pd.Series(col["name"], dtype=object).str.len()
-    area = pd.Series(col["area"], dtype=object).str.len()
-    if (names == 0).any() or (names > MAX_TEXT_CHARS).any() or (area > MAX_TEXT_CHARS).any():
+    if "" in col["name"] or _longest(col["name"]) > MAX_TEXT_CHARS or _longest(col["area"]) > MAX_TEXT_CHARS:
         return None
     if "" in col["duration"] or not _allowed(col["kind"], ACTIVITY_KINDS):
         return None
@@ -276,33 +314,37 @@ def fast_activities(
         return None
     start, finish, rem, warned = rules
     bucket = {} if memo is None else memo.setdefault(("line", header), {})
+    records = list(map(bucket.get, texts))  # an unchanged row's record from an earlier snapshot
+    new = [i for i, act in enumerate(records) if act is None]
+    if new:
+        blank_none = lambda values: [v or None for v in values]  # noqa: E731
+        fields = (p["id"], p["name"], p["parsed_duration"], [k or "task" for k in p["kind"]], rem, start, finish,
+                  blank_none(p["calendar"]), blank_none(p["constraint"]), p["parsed_constraint_date"],
+                  blank_none(p["party"]), blank_none(p["area"]), p["parsed_percent_complete"],
+                  p["parsed_crash_days"], p["parsed_crash_cost"], lines)
+        if len(new) < n:
+            fields = tuple(list(map(col.__getitem__, new)) for col in fields)
+        for i, act in zip(new, built(Activity, fields), strict=True):
+            records[i] = act
+        keep = warned.tolist()
+        bucket.update((texts[i], records[i]) for i in new if not keep[i])
+    moved = [i for i, act, line in zip(range(n), records, lines, strict=True) if act.line != line]
+    if moved:  # the same records on other lines (every other field shared with the earlier record)
+        old = zip(*map(_ALL_BUT_LINE, map(records.__getitem__, moved)), strict=True)
+        for i, act in zip(moved, built(Activity, (*old, list(map(lines.__getitem__, moved)))), strict=True):
+            records[i] = bucket[texts[i]] = act
+    ids = list(map(_ID, records))  # an unchanged activity's id string is shared with earlier snapshots
     table = ActivityTable(rel)
-    acts, seen = table.activities, table.ids
-    ids, kinds = p["id"], p["kind"]
-    dur, cdate = p["parsed_duration"], p["parsed_constraint_date"]
-    pct, crash, cost = p["parsed_percent_complete"], p["parsed_crash_days"], p["parsed_crash_cost"]
-    cal, con, party, area, name = p["calendar"], p["constraint"], p["party"], p["area"], p["name"]
+    table.activities.update(zip(ids, records, strict=True))
+    table.ids.update(zip(ids, lines, strict=True))
     warn_rows = np.flatnonzero(warned).tolist()
-    get = bucket.get
-    for key, line, aid, nm, d, k, r, s, f, c, cn, cd, pa, ar, pc, cr, co, w in zip(
-            texts, lines, ids, name, dur, kinds, rem, start, finish, cal, con, cdate, party, area, pct, crash, cost,
-            warned.tolist(), strict=True):
-        act = get(key)
-        if act is None:
-            act = Activity(aid, nm, d, k or "task", r, s, f, c or None, cn or None, cd, pa or None, ar or None,
-                           pc, cr, co, line)
-            if not w:
-                bucket[key] = act
-        elif act.line != line:
-            act = bucket[key] = Activity(
-                act.id, act.name, act.duration, act.kind, act.remaining, act.actual_start, act.actual_finish,
-                act.calendar, act.constraint, act.constraint_date, act.party, act.area, act.percent_complete,
-                act.crash_days, act.crash_cost, line)
-        seen[act.id] = line
-        acts[act.id] = act
     warnings.extend(f"{rel}, line {lines[i]}: activity {ids[i]} is in progress with remaining 0 "
                     "and no actual_finish" for i in warn_rows)
     return table
+
+
+_ID = attrgetter("id")
+_ALL_BUT_LINE = attrgetter(*[f.name for f in dataclasses.fields(Activity)][:-1])  # ``line`` is the last field
 
 
 def fast_links(
@@ -327,33 +369,46 @@ def fast_links(
     _, cols, lines, texts = frame
     n = len(lines)
     pred, succ = cols["pred"], cols["succ"]
-    index = pd.Index(list(known), dtype=object)
-    lp, ls = index.get_indexer(pred), index.get_indexer(succ)
-    if (lp < 0).any() or (ls < 0).any() or (lp == ls).any():
+    ends = list(known)
+    at = dict(zip(ends, range(len(ends)), strict=True))
+    lp, ls = _positions(at, pred), _positions(at, succ)
+    if lp is None or ls is None or (lp == ls).any():
         return None
-    code = pd.Index(["", *LINK_TYPES], dtype=object).get_indexer(_column(cols, "type", n))
-    if (code < 0).any():
-        return None
-    code = np.where(code == 0, 0, code - 1)  # blank is FS
-    ltype = np.array(LINK_TYPES, dtype=object)[code].tolist()
+    code = _positions({"": 0, **{t: i for i, t in enumerate(LINK_TYPES)}}, _column(cols, "type", n))
+    if code is None:
+        return None  # blank is FS (code 0)
+    ltype = list(map(LINK_TYPES.__getitem__, code.tolist()))
     lags = _by_value(_column(cols, "lag", n), lambda raw, p: parse_int(
         raw, rel, None, "lag", p, minimum=None, maximum=MAX_DURATION,
         what="a lag in whole working days (negative for a lead)"))
-    if lags is None or np.unique((lp * len(index) + ls) * len(LINK_TYPES) + code).size != n:
+    if lags is None or _repeats((lp * len(ends) + ls) * len(LINK_TYPES) + code):
         return None
-    done = np.zeros(len(index), dtype=bool)
-    at = index.get_indexer(list(finished))
-    done[at[at >= 0]] = True
+    done = np.zeros(len(ends), dtype=bool)
+    done[[at[a] for a in finished if a in at]] = True
     warn = done[ls] & ~done[lp]
     # The ends are the activity table's own id strings (shared with its records and, for an
     # unchanged activity, with earlier snapshots); a link is built straight from the columns,
     # which is faster than looking a row up in a memo (a moved row needs a new record anyway).
-    ends = np.array(list(known), dtype=object)
     lag_list = [lag or 0 for lag in lags]
-    links = list(map(Link, ends[lp].tolist(), ends[ls].tolist(), ltype, lag_list, lines))
+    named = _as_array(ends)
+    links = built(Link, (named[lp].tolist(), named[ls].tolist(), ltype, lag_list, lines))
     warnings.extend(f"{rel}, line {lines[i]}: link {pred[i]} -> {succ[i]} has no effect, "
                     f"because {succ[i]} is finished and {pred[i]} is not" for i in np.flatnonzero(warn).tolist())
     return links, (lp, ls, code, np.array(lag_list, dtype=np.int64))
+
+
+def _repeats(keys: np.ndarray) -> bool:
+    """Whether a key occurs twice (sorted neighbours; ``np.unique`` would import ``numpy.ma``)."""
+    ordered = np.sort(keys)
+    return bool((ordered[1:] == ordered[:-1]).any())
+
+
+def _positions(at: dict[str, int], values: list[str]) -> np.ndarray | None:
+    """The position in ``at`` of each value; ``None`` if one is not there."""
+    try:
+        return np.fromiter(map(at.__getitem__, values), np.int64, len(values))
+    except KeyError:
+        return None
 
 
 def has_no_loop(n: int, lp: np.ndarray, ls: np.ndarray) -> bool:

@@ -13,8 +13,6 @@ from __future__ import annotations
 
 from collections.abc import Collection
 
-import networkx as nx
-
 from forensic.casefile.csvread import Problems
 from forensic.core.engine import topological_order
 from forensic.core.errors import LOOP_SHOWN, LOOP_WHOLE, LogicLoopError, loop_text
@@ -40,6 +38,8 @@ def check_loops(ids: list[str], links: list[Link], rel: str, problems: Problems)
         return
     except LogicLoopError:
         pass
+    import networkx as nx  # only to name the loops: a casefile without one never loads it
+
     line_of: dict[tuple[str, str], int] = {}
     graph = nx.DiGraph()
     for link in links:
@@ -128,6 +128,8 @@ def check_fragnet_loops(
             continue
         where.append(snap.id)
         if found is None:
+            import networkx as nx  # only to name the loop
+
             graph = nx.DiGraph()
             graph.add_edges_from((x.pred, x.succ) for x in snap.links)
             graph.add_edges_from((x.pred, x.succ) for x in fragnet_links)

@@ -13,6 +13,8 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from functools import lru_cache
+from itertools import repeat
+from operator import attrgetter
 
 import numpy as np
 
@@ -129,26 +131,26 @@ def span_bounds(
     n = len(acts)
     if n == 0:
         return None
-    pos = {a.id: i for i, a in enumerate(acts)}
     cal_list = list(calendars.values())
     cal_at = {c.id: k for k, c in enumerate(cal_list)}
     week = np.array([len(c.workdays) or 7 for c in cal_list] + [7], dtype=np.int64)
     extra = np.array([len(c.extra_workdays) for c in cal_list] + [0], dtype=np.int64)
     none = len(cal_list)
-    ck = np.fromiter((cal_at.get(a.calendar or default_calendar or "", none) for a in acts), np.int64, n)
-    work = np.fromiter((-1 if (wk := _work(a)) is None else wk for a in acts), np.int64, n)
-    started = np.fromiter((a.actual_start is not None for a in acts), bool, n)
+    calendar, started, kind, work = _span_columns(acts)
+    fallback = default_calendar or ""
+    ck = np.fromiter(map(cal_at.get, [c or fallback for c in calendar], repeat(none)), np.int64, n)
     span = np.where(work < 0, 0, _min_days(work, week[ck], extra[ck]))
     gap = np.array([_longest_gap(c) for c in cal_list] + [0], dtype=np.int64)
     # A finish-type instant (a finish milestone, a task with no work left) is
     # dated on the working day before its boundary, which may lie up to the
     # longest run of non-working days of its calendar earlier (engine notes).
-    opening = np.fromiter((a.kind == "opening-milestone" for a in acts), bool, n)
+    opening = kind == "opening-milestone"
     instant = (work == 0) & ~opening
     back = np.where(instant, gap[ck], 0)
     if link_columns is not None:  # already read by the loader: positions in file order, type codes, lags
         lp, ls, typ, lag = link_columns
     else:
+        pos = {a.id: i for i, a in enumerate(acts)}
         m = len(links)
         lp = np.fromiter((pos.get(x.pred, -1) for x in links), np.int64, m)
         ls = np.fromiter((pos.get(x.succ, -1) for x in links), np.int64, m)
@@ -195,13 +197,34 @@ def span_bounds(
         np.maximum.at(start, dst[hold_start], value[hold_start])
         np.maximum.at(finish, dst[~hold_start], value[~hold_start])
         np.subtract.at(indeg, dst, 1)
-        cand = np.unique(dst)
+        cand = _distinct(dst)
         frontier = cand[indeg[cand] == 0]
     cal = [cal_list[k] if k < none else None for k in ck.tolist()]
     return finish, span, work, cal, first_over
 
 
 _CODE = {"FS": 0, "SS": 1, "FF": 2, "SF": 3}
+
+
+def _distinct(values: np.ndarray) -> np.ndarray:
+    """The distinct values, sorted (``np.unique`` without its import of ``numpy.ma``)."""
+    ordered = np.sort(values)
+    return ordered[np.concatenate(([True], ordered[1:] != ordered[:-1]))] if ordered.size else ordered
+_SPAN_FIELDS = ("calendar", "actual_start", "actual_finish", "kind", "duration", "remaining")
+
+
+def _span_columns(acts: list[Activity]) -> tuple[tuple, np.ndarray, np.ndarray, np.ndarray]:
+    """Each activity's calendar, whether it started, its kind, and its work as :func:`_work` (-1 for ``None``)."""
+    calendar, start, finish, kind, duration, remaining = (list(map(attrgetter(f), acts)) for f in _SPAN_FIELDS)
+    started = np.array([s is not None for s in start], dtype=bool)
+    finished = np.array([f is not None for f in finish], dtype=bool)
+    kind = np.array(kind, dtype=object)
+    duration = np.array(duration, dtype=np.int64)
+    has_remaining = np.array([r is not None for r in remaining], dtype=bool)
+    remaining = np.array([0 if r is None else r for r in remaining], dtype=np.int64)
+    done = finished | (started & ((kind != "task") | (duration == 0)))
+    work = np.where(done, -1, np.where(has_remaining, remaining, duration))
+    return calendar, started, kind, work
 
 
 @lru_cache(maxsize=256)

@@ -67,13 +67,14 @@ AACE International Recommended Practice 29R-03, Forensic Schedule Analysis.
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, fields
 from datetime import date
 
 import numpy as np
 
 from forensic.core.calendars import MAX_DAY, MIN_DAY, day_number, from_day_number
 from forensic.core.driving import (
+    DrivingIndex,
     driving_links,
     longest_path_positions,
     open_end_warnings,
@@ -96,6 +97,7 @@ from forensic.core.passes import (
 __all__ = [
     "ScheduleResult",
     "ScheduledActivity",
+    "activity_columns",
     "schedule",
     "schedule_snapshot",
     "topological_order",
@@ -264,18 +266,24 @@ class _ActivityTable(Mapping):
     costs more than the passes, so a record is made only when asked for.
     """
 
-    def __init__(self, ids, cols, driving_of):
+    def __init__(self, ids, cols, driving_of, order=None):
         self._ids = ids
-        self._pos = {a: i for i, a in enumerate(ids)}
+        self._pos: dict[str, int] | None = None  # id -> position, made on first use
         self._cols = cols  # name -> numpy array, converted to lists on first use
         self._lists = None
         self._driving_of = driving_of
         self._made: dict[str, ScheduledActivity] = {}
+        self._order = order  # (the result's order of ids, their positions), or None
+
+    def _at(self) -> dict[str, int]:
+        if self._pos is None:
+            self._pos = dict(zip(self._ids, range(len(self._ids)), strict=True))
+        return self._pos
 
     def __getitem__(self, key: str) -> ScheduledActivity:
         rec = self._made.get(key)
         if rec is None:
-            rec = self._made[key] = self._make(self._pos[key])
+            rec = self._made[key] = self._make(self._at()[key])
         return rec
 
     def __iter__(self):
@@ -285,11 +293,48 @@ class _ActivityTable(Mapping):
         return len(self._ids)
 
     def __contains__(self, key) -> bool:
-        return key in self._pos
+        return key in self._at()
 
     def column(self, name: str) -> np.ndarray:
         """One result for every activity as an array, in ``ids`` order (no records built)."""
         return self._cols[name]
+
+    def columns_at(self, ids: tuple[str, ...]) -> dict[str, list]:
+        """The fields of the records of ``ids``, field by field, straight from the arrays (no record built).
+
+        Each list holds what the records' field would (the same dates, ints,
+        bools, ``None`` for finished work, tuples of driving predecessors):
+        a whole table of results costs a few array operations, not 50,000 records.
+        """
+        if self._order is not None and ids is self._order[0]:
+            pos = self._order[1]
+        else:
+            pos = np.fromiter(map(self._at().__getitem__, ids), np.int64, len(ids))
+        c = {k: v[pos] for k, v in self._cols.items()}
+        done = c["status"] == 2
+        live = ~done
+        status = _STATUS_NAMES[np.where(done, 2, np.where(c["status"] == 1, 1, 0))]
+        out: dict[str, list] = {"id": list(ids), "status": status.tolist()}
+        out["early_start"] = _dates(c["start_day"], None)
+        out["early_finish"] = _dates(c["finish_day"], None)
+        out["late_start"] = _dates(c["late_start_day"], live)
+        out["late_finish"] = _dates(c["late_finish_day"], live)
+        for name in ("total_float", "free_float"):
+            values = _as_objects(c[name].tolist())
+            values[done] = None
+            out[name] = values.tolist()
+        out["critical"] = (c["critical"] & live).tolist()
+        out["driving_predecessors"] = self._drivers(pos.tolist())
+        return out
+
+    def _drivers(self, at: list[int]) -> list[tuple[str, ...]]:
+        """The driving predecessors (ids) of each position in ``at``."""
+        ids, driving_of = self._ids, self._driving_of
+        if not isinstance(driving_of, DrivingIndex):
+            return [tuple(ids[p] for p in driving_of(i)) for i in at]
+        named = list(map(ids.__getitem__, driving_of.pred))
+        start = driving_of.start
+        return [tuple(named[start[i]:start[i + 1]]) for i in at]
 
     def _make(self, i: int) -> ScheduledActivity:
         if self._lists is None:
@@ -316,6 +361,42 @@ class _ActivityTable(Mapping):
         )
 
 
+_FIELDS = tuple(f.name for f in fields(ScheduledActivity))
+_STATUS_NAMES = np.array(["not-started", "in-progress", "finished"], dtype=object)
+
+
+def activity_columns(result: ScheduleResult) -> dict[str, list]:
+    """The :class:`ScheduledActivity` fields of every activity of ``result``, field by field, in ``result.order``.
+
+    ``{field: [value for each activity]}``, equal to reading the records one
+    by one; from the engine's own results it is built from its arrays, with
+    no record made (the schedule table and ``--json`` of 50,000 activities).
+    """
+    acts = result.activities
+    if isinstance(acts, _ActivityTable):
+        return acts.columns_at(result.order)
+    records = [acts[a] for a in result.order]
+    return {name: [getattr(x, name) for x in records] for name in _FIELDS}
+
+
+def _as_objects(values: list) -> np.ndarray:
+    arr = np.empty(len(values), dtype=object)
+    arr[:] = values
+    return arr
+
+
+def _dates(days: np.ndarray, where: np.ndarray | None) -> list:
+    """Day numbers as dates (each distinct day converted once); ``None`` outside ``where``."""
+    picked = days if where is None else days[where]
+    distinct, back = np.unique(picked, return_inverse=True)
+    dates = _as_objects(list(map(from_day_number, distinct.tolist())))[back.reshape(-1)]
+    if where is None:
+        return dates.tolist()
+    out = np.full(days.size, None, dtype=object)
+    out[where] = dates
+    return out.tolist()
+
+
 def _schedule(
     snapshot: Snapshot,
     net: Network,
@@ -340,17 +421,18 @@ def _schedule(
     driving_of = driving_links(net, active, early)
     path = longest_path_positions(net, comp, driving_of, early.start_day)
     ids = net.ids
-    table = _ActivityTable(ids, cols, driving_of)
-    comp_act = table[ids[comp]]
+    order = tuple(map(ids.__getitem__, net.node_order.tolist()))
+    table = _ActivityTable(ids, cols, driving_of, (order, net.node_order))
+    finished = int(cols["status"][comp]) == 2
     return ScheduleResult(
         snapshot_id=snapshot.id,
         data_date=snapshot.data_date,
         completion_id=ids[comp],
-        completion=comp_act.early_finish,
-        completion_float=comp_act.total_float,
+        completion=from_day_number(int(cols["finish_day"][comp])),
+        completion_float=None if finished else int(cols["total_float"][comp]),
         activities=table,
         longest_path=tuple(ids[i] for i in path),
-        order=tuple(ids[i] for i in net.node_order.tolist()),
+        order=order,
         warnings=tuple(open_end_warnings(snapshot.id, net, comp)),
         longest_paths=tuple(tuple(ids[i] for i in c) for c in path_chains(comp, driving_of)),
     )

@@ -11,9 +11,10 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 from datetime import date
+from operator import attrgetter
 from typing import Any
 
-from forensic.core.engine import ScheduleResult
+from forensic.core.engine import ScheduleResult, activity_columns
 from forensic.core.model import Snapshot
 
 __all__ = [
@@ -87,31 +88,20 @@ SCHEDULE_COLUMNS = (
 
 def schedule_table(result: ScheduleResult, snapshot: Snapshot) -> Table:
     """One row per activity of a scheduled snapshot, in topological order."""
+    c = activity_columns(result)
     on_path = set(result.longest_path)
-    rows = []
-    for aid in result.order:
-        x = result.activities[aid]
-        rows.append(
-            (
-                aid,
-                snapshot.activities[aid].name,
-                x.status,
-                x.early_start,
-                x.early_finish,
-                x.late_start,
-                x.late_finish,
-                x.total_float,
-                x.free_float,
-                x.critical,
-                aid in on_path,
-                x.driving_predecessors,
-            )
-        )
+    names = list(map(attrgetter("name"), map(snapshot.activities.__getitem__, result.order)))
+    rows = zip(c["id"], names, c["status"], c["early_start"], c["early_finish"], c["late_start"],
+               c["late_finish"], c["total_float"], c["free_float"], c["critical"],
+               map(on_path.__contains__, result.order), c["driving_predecessors"], strict=True)
     return Table(f"schedule-{snapshot.id}", SCHEDULE_COLUMNS, tuple(rows))
 
 
 def schedule_json(result: ScheduleResult) -> dict[str, Any]:
     """The ``forensic schedule --json`` object (keys documented in README.md; a contract)."""
+    c = activity_columns(result)
+    rows = zip(c["id"], c["status"], c["early_start"], c["early_finish"], c["late_start"], c["late_finish"],
+               c["total_float"], c["free_float"], c["critical"], c["driving_predecessors"], strict=True)
     return {
         "snapshot": result.snapshot_id,
         "data_date": result.data_date,
@@ -119,20 +109,11 @@ def schedule_json(result: ScheduleResult) -> dict[str, Any]:
         "completion_activity": result.completion_id,
         "completion_float": result.completion_float,
         "activities": [
-            {
-                "id": x.id,
-                "status": x.status,
-                "early_start": x.early_start,
-                "early_finish": x.early_finish,
-                "late_start": x.late_start,
-                "late_finish": x.late_finish,
-                "total_float": x.total_float,
-                "free_float": x.free_float,
-                "critical": x.critical,
-                "driving_predecessors": list(x.driving_predecessors),
-            }
-            for x in (result.activities[a] for a in result.order)
+            {"id": aid, "status": status, "early_start": es, "early_finish": ef, "late_start": ls,
+             "late_finish": lf, "total_float": tf, "free_float": ff, "critical": crit,
+             "driving_predecessors": list(drivers)}
+            for aid, status, es, ef, ls, lf, tf, ff, crit, drivers in rows
         ],
         "longest_path": list(result.longest_path),
-        "longest_paths": [list(c) for c in result.longest_paths],
+        "longest_paths": [list(chain) for chain in result.longest_paths],
     }

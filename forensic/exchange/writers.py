@@ -14,9 +14,12 @@ import csv
 import io
 import json
 import math
+import operator
 import re
 import textwrap
+from collections.abc import Sequence
 from datetime import date
+from itertools import chain, compress, repeat
 from types import ModuleType
 from typing import Any
 
@@ -82,6 +85,9 @@ def _json_default(value: Any) -> Any:
     raise TypeError(msg)
 
 
+_VALUES = operator.methodcaller("values")
+
+
 def _plain_floats(obj: Any) -> bool:
     """Refuse NaN and infinities anywhere in ``obj``; true when every float prints without an exponent.
 
@@ -90,8 +96,44 @@ def _plain_floats(obj: Any) -> bool:
     (``1e+16``, ``1e-05``) where orjson writes ``1e16``, ``1e-5``: such a
     value sends the text to the standard encoder, so the bytes never depend
     on which encoder ran.
+
+    The values are visited one nesting level at a time with the built-in
+    iterators (``map``, ``compress``, ``chain``, ``zip``), so a large
+    schedule is screened at C speed rather than one Python step a value: a
+    level of dicts of one size is cut into its columns (the values at one
+    place in each dict), and a column holding only text, numbers other than
+    floats, dates and the like is left at once. A non-finite number is then
+    named by :func:`_refuse_non_finite`, the walk value by value.
     """
-    plain = True
+    columns: list[Sequence[Any]] = [[obj]]
+    floats: list[float] = []
+    while columns:
+        deeper: list[Sequence[Any]] = []
+        for column in columns:
+            kinds = set(map(type, column))
+            if float in kinds:
+                floats.extend(compress(column, map(operator.is_, map(type, column), repeat(float))))
+            dicts = {t for t in kinds if issubclass(t, dict)}
+            nested = dicts | (kinds & {list, tuple})
+            if not nested:
+                continue
+            inner = column if nested == kinds else list(compress(column, map(nested.__contains__, map(type, column))))
+            if nested == dicts and len(set(map(len, inner))) == 1:
+                deeper.extend(zip(*map(_VALUES, inner), strict=True))  # one column a place in the dicts
+                continue
+            values = [v.values() if isinstance(v, dict) else v for v in inner] if dicts else inner
+            deeper.append(list(chain.from_iterable(values)))
+        columns = deeper
+    if not floats:
+        return True
+    if not all(map(math.isfinite, floats)):
+        _refuse_non_finite(obj)
+    sizes = list(map(abs, floats))
+    return max(sizes) < 1e16 and min(filter(None, sizes), default=1.0) >= 1e-4
+
+
+def _refuse_non_finite(obj: Any) -> None:
+    """Raise ``ValueError`` naming the non-finite number met first by a depth-first walk of ``obj``."""
     stack = [obj]
     while stack:
         v = stack.pop()
@@ -100,13 +142,10 @@ def _plain_floats(obj: Any) -> bool:
             if not math.isfinite(v):
                 msg = f"cannot write {v!r} as JSON (not a finite number)"
                 raise ValueError(msg)
-            if v and not 1e-4 <= abs(v) < 1e16:
-                plain = False
         elif isinstance(v, dict):
             stack.extend(v.values())
         elif t is list or t is tuple:
             stack.extend(v)
-    return plain
 
 
 def dumps_json(obj: Any) -> str:

@@ -1,0 +1,64 @@
+"""`forensic schedule` pauses the cycle collector for the command and gives it back as it found it."""
+
+from __future__ import annotations
+
+import gc
+import json
+from pathlib import Path
+
+from click.testing import CliRunner
+
+from forensic.cli import main
+
+DEMO = Path(__file__).resolve().parent.parent / "casefiles" / "riverside"
+
+
+def test_the_collector_is_back_on_after_the_command_and_off_during_it(monkeypatch):
+    import forensic.cli.schedule as command
+
+    seen = []
+    real = command.load
+
+    def load(*args, **kwargs):
+        seen.append(gc.isenabled())
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(command, "load", load)
+    assert gc.isenabled()
+    try:
+        result = CliRunner().invoke(main, ["schedule", str(DEMO), "--json"])
+        assert result.exit_code == 0, result.output
+        assert json.loads(result.output)["activities"]
+        assert seen == [False]
+        assert gc.isenabled()
+    finally:
+        gc.unfreeze()  # the command froze what it left alive; give the suite its collector back whole
+
+
+def test_a_collector_switched_off_by_the_caller_stays_off():
+    gc.disable()
+    try:
+        result = CliRunner().invoke(main, ["schedule", str(DEMO), "--snapshot", "BL", "--csv"])
+        assert result.exit_code == 0, result.output
+        assert not gc.isenabled()
+    finally:
+        gc.enable()
+
+
+def test_a_failing_command_still_gives_the_collector_back(tmp_path, monkeypatch):
+    import forensic.cli.schedule as command
+
+    seen = []
+    real = command.load
+
+    def load(*args, **kwargs):
+        seen.append(gc.isenabled())
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(command, "load", load)
+    (tmp_path / "casefile.toml").write_text("not [valid toml", encoding="utf-8")
+    result = CliRunner().invoke(main, ["schedule", str(tmp_path), "--json"])
+    assert result.exit_code != 0 and "TOML" in result.output
+    assert seen == [False]  # it failed inside the command, with the collector paused
+    assert gc.isenabled()
+    gc.unfreeze()
