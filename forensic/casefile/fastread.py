@@ -99,7 +99,7 @@ def frame_table(text: str, required: tuple[str, ...], optional: tuple[str, ...],
         return None
     lines = lines.tolist()
     texts = [every[k - 1] for k in lines]
-    columns = _quoted_columns(text, len(header), len(lines)) if quoted else _plain_columns(texts, len(header))
+    columns = _read_columns(text, header, quoted, len(lines))
     if columns is None:
         return None
     cols = {name: list(map(str.strip, col)) if padded else col for name, col in zip(header, columns, strict=True)}
@@ -108,29 +108,25 @@ def frame_table(text: str, required: tuple[str, ...], optional: tuple[str, ...],
     return header, cols, lines, texts
 
 
-def _plain_columns(rows: list[str], width: int) -> list[list[str]]:
-    """The columns of a table with no quote: its data rows joined by commas and split once.
+def _read_columns(text: str, header: tuple[str, ...], quoted: bool, n: int) -> list[list[str]] | None:
+    """The table's columns as read by pandas (its C parser, every cell a string, no type guessing).
 
-    Each data row holds exactly ``width - 1`` commas (screened), so the
-    ``k``-th cell of the split belongs to column ``k % width``; a line's
-    carriage return (of a CRLF ending) is not part of its last cell.
+    ``None`` unless pandas reads exactly ``n`` data rows of the header's
+    width (the screen above has made sure a row-wise reading would agree).
+    pandas is imported here, so a command that reads no large table never
+    loads it.
     """
-    joined = ",".join(rows)
-    if "\r" in joined:
-        joined = ",".join(row[:-1] if row.endswith("\r") else row for row in rows)
-    cells = joined.split(",")
-    return [cells[k::width] for k in range(width)]
+    import pandas as pd
 
-
-def _quoted_columns(text: str, width: int, n: int) -> list[list[str]] | None:
-    """The columns of a table with quoted cells, read by the :mod:`csv` module; ``None`` unless every row fits."""
     try:
-        records = [r for r in csv.reader(io.StringIO(text, newline=""), strict=True) if r]
-    except csv.Error:
+        df = pd.read_csv(io.StringIO(text), header=None, skiprows=1, names=list(header), index_col=False,
+                         dtype=str, keep_default_na=False, na_filter=False, engine="c",
+                         quoting=csv.QUOTE_MINIMAL if quoted else csv.QUOTE_NONE, skip_blank_lines=True)
+    except (ValueError, pd.errors.ParserError):
         return None
-    if len(records) != n + 1 or any(len(r) != width for r in records):
+    if len(df) != n:
         return None
-    return [list(col) for col in zip(*records[1:], strict=True)]
+    return [df[name].tolist() for name in header]
 
 
 def _placeholder(match: re.Match) -> str:
@@ -318,7 +314,7 @@ def fast_activities(
     new = [i for i, act in enumerate(records) if act is None]
     if new:
         blank_none = lambda values: [v or None for v in values]  # noqa: E731
-        fields = (p["id"], p["name"], p["parsed_duration"], [k or "task" for k in p["kind"]], rem, start, finish,
+        fields: tuple[list, ...] = (p["id"], p["name"], p["parsed_duration"], [k or "task" for k in p["kind"]], rem, start, finish,
                   blank_none(p["calendar"]), blank_none(p["constraint"]), p["parsed_constraint_date"],
                   blank_none(p["party"]), blank_none(p["area"]), p["parsed_percent_complete"],
                   p["parsed_crash_days"], p["parsed_crash_cost"], lines)

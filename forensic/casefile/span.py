@@ -215,16 +215,16 @@ _SPAN_FIELDS = ("calendar", "actual_start", "actual_finish", "kind", "duration",
 
 def _span_columns(acts: list[Activity]) -> tuple[tuple, np.ndarray, np.ndarray, np.ndarray]:
     """Each activity's calendar, whether it started, its kind, and its work as :func:`_work` (-1 for ``None``)."""
-    calendar, start, finish, kind, duration, remaining = (list(map(attrgetter(f), acts)) for f in _SPAN_FIELDS)
+    calendar, start, finish, kinds, durations, remainings = (list(map(attrgetter(f), acts)) for f in _SPAN_FIELDS)
     started = np.array([s is not None for s in start], dtype=bool)
     finished = np.array([f is not None for f in finish], dtype=bool)
-    kind = np.array(kind, dtype=object)
-    duration = np.array(duration, dtype=np.int64)
-    has_remaining = np.array([r is not None for r in remaining], dtype=bool)
-    remaining = np.array([0 if r is None else r for r in remaining], dtype=np.int64)
+    kind = np.array(kinds, dtype=object)
+    duration = np.array(durations, dtype=np.int64)
+    has_remaining = np.array([r is not None for r in remainings], dtype=bool)
+    remaining = np.array([0 if r is None else r for r in remainings], dtype=np.int64)
     done = finished | (started & ((kind != "task") | (duration == 0)))
     work = np.where(done, -1, np.where(has_remaining, remaining, duration))
-    return calendar, started, kind, work
+    return tuple(calendar), started, kind, work
 
 
 @lru_cache(maxsize=256)

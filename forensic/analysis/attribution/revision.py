@@ -24,7 +24,7 @@ from datetime import date, timedelta
 from forensic.analysis.attribution.results import RevisionShare, WindowContext
 from forensic.analysis.butfor import bridge_links
 from forensic.core.engine import schedule
-from forensic.core.model import Casefile, Event, Snapshot, frozen_mapping
+from forensic.core.model import Casefile, Event, Link, Snapshot, frozen_mapping
 from forensic.core.units import unit_counter
 
 __all__ = ["event_activity_ids", "event_overlap", "revision_shares", "take_out_events"]
@@ -64,12 +64,11 @@ def take_out_events(ctx: WindowContext, snap: Snapshot, events: Sequence[Event])
     run = ctx.run
     w = run.window
     earlier = run.earlier
-    added = set(w.added)
     acts = dict(snap.activities)
-    links = list(snap.links)
+    links: Sequence[Link] = snap.links
     drop: set[str] = set()
     touched: list[str] = []
-    added_here = [a for a in acts if a in added] if added else []
+    added_here = [a for a in w.added if a in acts]  # in the later update's order, as acts are
     for ev in events:
         ids = event_activity_ids(ctx.casefile, ev) if added_here else set()
         for aid in added_here:
@@ -86,6 +85,8 @@ def take_out_events(ctx: WindowContext, snap: Snapshot, events: Sequence[Event])
             if (a.duration, a.remaining_duration) != (e.duration, e.remaining_duration):
                 acts[aid] = replace(a, duration=e.duration, remaining=e.remaining_duration)
                 touched.append(aid)
+        if links is earlier.links and not drop:
+            continue  # the same links as the earlier update (a slice inside a window): none to change
         # Only links into the listed activities can change (a key holds its successor).
         before_keys = {lk.key for lk in earlier.links if lk.succ in listed}
         after_keys = {lk.key for lk in links if lk.succ in listed}
