@@ -25,14 +25,13 @@ def test_the_collector_is_back_on_after_the_command_and_off_during_it(monkeypatc
 
     monkeypatch.setattr(command, "load", load)
     assert gc.isenabled()
-    try:
-        result = CliRunner().invoke(main, ["schedule", str(DEMO), "--json"])
-        assert result.exit_code == 0, result.output
-        assert json.loads(result.output)["activities"]
-        assert seen == [False]
-        assert gc.isenabled()
-    finally:
-        gc.unfreeze()  # the command froze what it left alive; give the suite its collector back whole
+    frozen = gc.get_freeze_count()
+    result = CliRunner().invoke(main, ["schedule", str(DEMO), "--json"])
+    assert result.exit_code == 0, result.output
+    assert json.loads(result.output)["activities"]
+    assert seen == [False]
+    assert gc.isenabled()
+    assert gc.get_freeze_count() == frozen  # nothing of the caller's kept out of later collections
 
 
 def test_a_collector_switched_off_by_the_caller_stays_off():
@@ -61,4 +60,3 @@ def test_a_failing_command_still_gives_the_collector_back(tmp_path, monkeypatch)
     assert result.exit_code != 0 and "TOML" in result.output
     assert seen == [False]  # it failed inside the command, with the collector paused
     assert gc.isenabled()
-    gc.unfreeze()

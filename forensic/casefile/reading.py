@@ -236,7 +236,7 @@ def _fast_activities(text: str, rel: str, data_date, limits: Limits, ctx):
     """The activities table by the vectorised fast path, or ``None`` to read it row by row."""
     if not _fast(text, ctx):
         return None
-    # fastread (numpy screens, no pandas) is imported only when a table takes the fast path
+    # fastread (numpy screens; pandas reads the columns) is imported only when a table takes the fast path
     from forensic.casefile.fastread import fast_activities, frame_table
 
     frame = frame_table(text, *ACTIVITY_COLUMNS, limits.max_activities)
