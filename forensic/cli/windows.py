@@ -100,7 +100,7 @@ def windows_command(casefile: Path, bounds: str | None, table: str | None, as_js
     say("\nContributors (progress) and revision shares:")
     emit(table_text(tables["contributors"]()))
     conc = concurrency_table(an)
-    say("\nConcurrency (but-for in each window):")
+    say("\nConcurrency (but-for in each slice of each window):")
     if conc.rows:
         emit(table_text(conc))
     else:

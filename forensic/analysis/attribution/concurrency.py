@@ -78,11 +78,12 @@ __all__ = ["CONCURRENCY_RULE", "CONCURRENT", "RULE_WORDS", "Concurrency", "concu
 
 CONCURRENT = "concurrent"
 CONCURRENCY_RULE = (
-    "concurrent days = days of the window's whole slip (progress and revision) that removing "
+    "concurrent days = days of a slice's whole slip (progress and revision) that removing "
     "either party's delays alone does not recover but removing both does: max(0, R(all) - sum "
     "of R(party)), each party's delays being its lateness on unfinished work and the revisions "
-    "its events brought in (but-for test in the window; SCL Protocol 2nd ed., core principle 10; "
-    "AACE RP 29R-03 sec. 4.2)"
+    "its events brought in (but-for test in each slice of a window, a window being cut where "
+    "its events stop overlapping and where the driving path switches, so delays on different "
+    "dates are never concurrent; SCL Protocol 2nd ed., core principle 10; AACE RP 29R-03 sec. 4.2)"
 )
 
 
