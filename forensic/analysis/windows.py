@@ -48,7 +48,7 @@ Society of Construction Law, Delay and Disruption Protocol, 2nd ed. (2017).
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Iterator, Sequence
 from dataclasses import dataclass, replace
 from datetime import date
 from functools import partial
@@ -69,10 +69,12 @@ __all__ = [
     "analyse_windows",
     "auto_boundaries",
     "half_step",
+    "iter_window_runs",
     "slice_cuts",
     "slice_snapshot",
     "window_boundaries",
     "window_run",
+    "windows_analysis",
     "windows_table",
 ]
 
@@ -208,17 +210,23 @@ class WindowRun:
 
 @dataclass(frozen=True, slots=True)
 class WindowsAnalysis:
-    """Every window of a casefile, in order, and the slip over all of them."""
+    """Every window of a casefile, in order, and the slip over all of them.
+
+    ``runs`` holds each window's snapshots and schedules; an analysis that
+    did not keep them (``keep_runs=False``: the memory of a few snapshots,
+    however many updates) has ``runs == ()`` and its windows in ``figures``.
+    """
 
     unit: str
     runs: tuple[WindowRun, ...]
     baseline_completion: date
     last_completion: date
     total_slip: int
+    figures: tuple[Window, ...] = ()
 
     @property
     def windows(self) -> tuple[Window, ...]:
-        return tuple(r.window for r in self.runs)
+        return self.figures or tuple(r.window for r in self.runs)
 
 
 def window_boundaries(casefile: Casefile, ids: Sequence[str] | None = None, *,
@@ -262,7 +270,7 @@ def auto_boundaries(casefile: Casefile, *, cache: RunCache | None = None) -> tup
     hands out the monthly windows already run.
     """
     order = [s.id for s in casefile.snapshots]
-    an = analyse_windows(casefile, order, cache=cache)
+    an = analyse_windows(casefile, order, cache=cache, keep_runs=False)
     cut = [w.to_id for w in an.windows if w.path_switched]
     chosen = [order[0], *(c for c in cut if c != order[0])]
     if chosen[-1] != order[-1]:
@@ -311,7 +319,7 @@ def window_run(casefile: Casefile, earlier: Snapshot, later: Snapshot, sched=Non
 
 
 def analyse_windows(casefile: Casefile, windows: Sequence[str] | None = None, *,
-                    cache: RunCache | None = None) -> WindowsAnalysis:
+                    cache: RunCache | None = None, keep_runs: bool = True) -> WindowsAnalysis:
     """Run the windows analysis with the half-step split over a casefile.
 
     Parameters
@@ -324,6 +332,10 @@ def analyse_windows(casefile: Casefile, windows: Sequence[str] | None = None, *,
     cache : RunCache, optional
         One call's cache (:mod:`forensic.analysis.runcache`): each window
         run, and each snapshot's schedule, is computed once for the call.
+    keep_runs : bool, default True
+        ``False`` keeps each window's figures only (:attr:`WindowsAnalysis.figures`),
+        not its snapshots and schedules, so memory does not grow with the
+        number of updates.
 
     Returns
     -------
@@ -338,35 +350,60 @@ def analyse_windows(casefile: Casefile, windows: Sequence[str] | None = None, *,
     ----------
     AACE RP 29R-03, protocols 3.3 and 3.4; SCL Protocol 2nd ed., Appendix A.
     """
+    runs = []
+    figures = []
+    for run in iter_window_runs(casefile, windows, cache=cache):
+        figures.append(run.window)
+        if keep_runs:
+            runs.append(run)
+    return windows_analysis(casefile, figures, tuple(runs))
+
+
+def windows_analysis(casefile: Casefile, figures: Sequence[Window], runs: tuple[WindowRun, ...] = ()) -> WindowsAnalysis:
+    """The :class:`WindowsAnalysis` of windows in order (``runs``: their runs, when they are kept)."""
+    count = unit_counter(casefile)
+    first, last = figures[0].completion_before, figures[-1].completion_after
+    return WindowsAnalysis(
+        unit=casefile.project.delay_unit,
+        runs=runs,
+        baseline_completion=first,
+        last_completion=last,
+        total_slip=count(last) - count(first),
+        figures=() if runs else tuple(figures),
+    )
+
+
+def iter_window_runs(casefile: Casefile, windows: Sequence[str] | None = None, *,
+                     cache: RunCache | None = None) -> Iterator[WindowRun]:
+    """Each window's run in order, one at a time (the arguments are :func:`analyse_windows`'s).
+
+    Without a ``cache`` only the last snapshot and its schedule are held
+    between windows (the next window starts from them): a caller that
+    drops each run once it is used holds a few snapshots at a time.
+    """
     ids = window_boundaries(casefile, windows, cache=cache)
     if len(ids) < 2:
         msg = "a windows analysis needs a baseline and at least one update"
         raise WindowSpecError(msg)
-    count = unit_counter(casefile)
-    done: dict[str, ScheduleResult] = {}
+    last: list = []  # [snapshot, its schedule]: the boundary shared with the next window
 
     def sched(snap: Snapshot) -> ScheduleResult:
         if cache is not None:
             return cache.schedule(casefile, snap)
-        if snap.id not in done:
-            done[snap.id] = schedule(snap, casefile.calendars, casefile.project)
-        return done[snap.id]
+        if not last or last[0] is not snap:
+            last[:] = [snap, schedule(snap, casefile.calendars, casefile.project)]
+        return last[1]
 
-    runs = []
-    for a_id, b_id in zip(ids, ids[1:], strict=False):
-        a, b = casefile.snapshot(a_id), casefile.snapshot(b_id)
+    a = casefile.snapshot(ids[0])
+    for b_id in ids[1:]:
+        b = casefile.snapshot(b_id)
         if cache is None:
-            runs.append(window_run(casefile, a, b, sched))
+            run = window_run(casefile, a, b, sched)
         else:
-            runs.append(cache.get(casefile, "window run", (a, b), partial(window_run, casefile, a, b, sched)))
-    first, last = runs[0].before, runs[-1].after
-    return WindowsAnalysis(
-        unit=casefile.project.delay_unit,
-        runs=tuple(runs),
-        baseline_completion=first.completion,
-        last_completion=last.completion,
-        total_slip=count(last.completion) - count(first.completion),
-    )
+            run = cache.get(casefile, "window run", (a, b), partial(window_run, casefile, a, b, sched))
+        yield run
+        del run
+        a = b
 
 
 WINDOW_COLUMNS = (

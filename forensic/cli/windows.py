@@ -73,7 +73,7 @@ def windows_command(casefile: Path, bounds: str | None, table: str | None, as_js
     cf = load(casefile)
     ids = [s.strip() for s in bounds.split(",") if s.strip()] if bounds else None
     status(f"Analysing {len(cf.snapshots) - 1} windows of {len(cf.snapshots[-1].activities)} activities (Ctrl-C stops) ...")
-    an = analyse_delay(cf, ids)
+    an = analyse_delay(cf, ids, keep_runs=False)  # figures only: memory of a few snapshots (issue 20)
     tables = {
         "windows": lambda: windows_table(an.windows),
         "contributors": lambda: contributors_table(an),

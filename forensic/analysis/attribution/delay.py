@@ -77,7 +77,7 @@ from forensic.analysis.attribution.results import (
 from forensic.analysis.attribution.revision import revision_shares
 from forensic.analysis.runcache import RunCache, cached_schedule
 from forensic.analysis.slices import DailyProgress, daily_progress, path_switch_cuts, slice_cuts
-from forensic.analysis.windows import WindowRun, analyse_windows, window_run
+from forensic.analysis.windows import WindowRun, iter_window_runs, window_run, windows_analysis
 from forensic.core.calendars import workdays_between
 from forensic.core.engine import ScheduleResult
 from forensic.core.model import Casefile, Snapshot, frozen_mapping
@@ -338,7 +338,7 @@ def _attribute_slice(casefile: Casefile, found: _Found, label: str) -> WindowAtt
 
 
 def analyse_delay(casefile: Casefile, windows: Sequence[str] | None = None, *,
-                  cache: RunCache | None = None) -> DelayAnalysis:
+                  cache: RunCache | None = None, keep_runs: bool = True) -> DelayAnalysis:
     """The windows analysis with the half-step split, attribution, concurrency and the ledger.
 
     Parameters
@@ -349,6 +349,11 @@ def analyse_delay(casefile: Casefile, windows: Sequence[str] | None = None, *,
     cache : RunCache, optional
         One call's cache (:mod:`forensic.analysis.runcache`), for a caller
         that runs the analysis more than once (the sensitivity rows).
+    keep_runs : bool, default True
+        ``False`` keeps each window's figures and attribution only, not its
+        snapshots and schedules (``windows.runs == ()``): each window is
+        attributed as soon as it is run and its schedules dropped, so memory
+        holds a few snapshots however many updates there are (``forensic windows``).
 
     Returns
     -------
@@ -360,8 +365,15 @@ def analyse_delay(casefile: Casefile, windows: Sequence[str] | None = None, *,
     ----------
     AACE RP 29R-03, protocols 3.3 and 3.4; SCL Protocol 2nd ed.
     """
-    an = analyse_windows(casefile, windows, cache=cache)
-    atts = tuple(attribute_window(casefile, run, cache=cache) for run in an.runs)
+    runs, figures, atts = [], [], []
+    for run in iter_window_runs(casefile, windows, cache=cache):
+        atts.append(attribute_window(casefile, run, cache=cache))
+        figures.append(run.window)
+        if keep_runs:
+            runs.append(run)
+        del run  # the window's snapshots and schedules go before the next window is run
+    an = windows_analysis(casefile, figures, tuple(runs))
+    atts = tuple(atts)
     return DelayAnalysis(an.unit, an, atts, build_ledger(atts, an), casefile.project.concurrency)
 
 
@@ -371,8 +383,7 @@ def analyse_delay(casefile: Casefile, windows: Sequence[str] | None = None, *,
 def delay_json(analysis: DelayAnalysis) -> dict[str, Any]:
     """The ``forensic windows --json`` object (keys documented in docs/windows.md; a contract)."""
     windows = []
-    for run, att in zip(analysis.windows.runs, analysis.attributions, strict=True):
-        w = run.window
+    for w, att in zip(analysis.windows.windows, analysis.attributions, strict=True):
         windows.append(
             {
                 "from": w.from_id,

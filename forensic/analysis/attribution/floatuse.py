@@ -176,9 +176,9 @@ def window_float_use(casefile: Casefile, run: WindowRun, margin: int = FLOAT_MAR
 def float_ledger(analysis: DelayAnalysis, margin: int = FLOAT_MARGIN) -> FloatLedger:
     """Each window's float-days by party and the cumulative total (sums of the paths)."""
     rows = []
-    for run, att in zip(analysis.windows.runs, analysis.attributions, strict=True):
+    for w, att in zip(analysis.windows.windows, analysis.attributions, strict=True):
         by_party = sum_counts([u.by_party for u in att.float_used])
-        rows.append(FloatLedgerRow(run.window.label, frozen_mapping(by_party), sum(by_party.values())))
+        rows.append(FloatLedgerRow(w.label, frozen_mapping(by_party), sum(by_party.values())))
     return FloatLedger(margin, tuple(rows), frozen_mapping(sum_counts([r.by_party for r in rows])))
 
 
@@ -218,8 +218,8 @@ FLOAT_USED_COLUMNS = ("window", "path_at", "float_before", "used", "activity", "
 def float_used_table(analysis: DelayAnalysis) -> Table:
     """One row per delay that used float on a near-critical path, window by window."""
     rows = []
-    for run, att in zip(analysis.windows.runs, analysis.attributions, strict=True):
+    for w, att in zip(analysis.windows.windows, analysis.attributions, strict=True):
         for u in att.float_used:
             for d in u.delays:
-                rows.append((run.window.label, u.activity, u.float_before, u.used, d.activity, d.event, d.party, d.days))
+                rows.append((w.label, u.activity, u.float_before, u.used, d.activity, d.event, d.party, d.days))
     return Table("float-used", FLOAT_USED_COLUMNS, tuple(rows))
