@@ -63,3 +63,4 @@ def test_ceilings_reach_every_loading_command(tmp_path):
     for command in (["schedule", "--json"], ["windows", "--json"], ["impact", "--all"]):
         result = CliRunner().invoke(main, ["--max-links", "1", command[0], str(root), *command[1:]])
         assert result.exit_code == 1 and "more than 1 rows" in result.output, result.output
+        assert "raise the limit with --max-links" in result.output, result.output

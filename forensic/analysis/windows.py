@@ -238,7 +238,7 @@ def window_boundaries(casefile: Casefile, ids: Sequence[str] | None = None, *,
     last update added at the ends so the windows cover the whole record.
     ``["auto"]`` asks for :func:`auto_boundaries` (``cache``: one call's window runs).
     """
-    order = [s.id for s in casefile.snapshots]
+    order = list(casefile.snapshot_ids)
     if ids is not None and list(ids) == ["auto"]:
         return auto_boundaries(casefile, cache=cache)
     chosen = list(ids) if ids else list(casefile.windows)
@@ -269,7 +269,7 @@ def auto_boundaries(casefile: Casefile, *, cache: RunCache | None = None) -> tup
     ``cache`` (one call's :class:`~forensic.analysis.runcache.RunCache`)
     hands out the monthly windows already run.
     """
-    order = [s.id for s in casefile.snapshots]
+    order = list(casefile.snapshot_ids)
     an = analyse_windows(casefile, order, cache=cache, keep_runs=False)
     cut = [w.to_id for w in an.windows if w.path_switched]
     chosen = [order[0], *(c for c in cut if c != order[0])]

@@ -24,10 +24,24 @@ Decisions the format leaves open, made here:
   with the snapshot a fragnet is inserted into is refused when it is
   inserted (:func:`forensic.analysis.impact.insert_fragnet`), not on loading.
 - The baseline must be the first (oldest) snapshot.
+
+Read lazily (``lazy=True``), the loader reads the manifest, the events and
+the fragnets whole, and of each snapshot only its files' bytes (their
+SHA-256 and encoding) and the ids of its activities, which the events and
+the project's completion are checked against; each snapshot's tables are
+read and checked in full when it is first asked for
+(:class:`~forensic.core.model.SnapshotSequence`), with the same problems
+(file, line, value) raised then for that snapshot alone, and a file
+changed since the casefile was loaded refused. The loops a fragnet closes
+with a snapshot are checked as that snapshot is read. A command that reads
+every snapshot (``forensic windows``) holds a few at a time; one that
+needs one snapshot (``forensic schedule``) reads that one only.
 """
 
 from __future__ import annotations
 
+import csv
+import io
 import os
 import tomllib
 from pathlib import Path
@@ -36,7 +50,7 @@ from typing import NoReturn
 from forensic.casefile.csvread import Problems, read_table, read_text, resolve_inside
 from forensic.casefile.fragnets import read_fragnets
 from forensic.casefile.limits import Limits
-from forensic.casefile.loops import check_loops
+from forensic.casefile.loops import check_fragnet_loops, check_loops
 from forensic.casefile.manifest import (
     CALENDAR_KEYS,
     FORMAT,
@@ -55,7 +69,15 @@ from forensic.casefile.records import (
 )
 from forensic.casefile.span import check_span
 from forensic.core.errors import CasefileError, LimitExceeded
-from forensic.core.model import Casefile, Event, Snapshot, frozen_mapping
+from forensic.core.model import (
+    Casefile,
+    Event,
+    Fragnet,
+    Snapshot,
+    SnapshotHead,
+    SnapshotSequence,
+    frozen_mapping,
+)
 
 # FORMAT, MANIFEST, the manifest's key lists and Limits are defined in
 # forensic.casefile.manifest and forensic.casefile.limits; they are named
@@ -63,7 +85,8 @@ from forensic.core.model import Casefile, Event, Snapshot, frozen_mapping
 __all__ = ["CALENDAR_KEYS", "FORMAT", "MANIFEST", "PARTY_KEYS", "PROJECT_KEYS", "Limits", "load_casefile"]
 
 
-def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None, vectorised: bool | None = None) -> Casefile:
+def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None, vectorised: bool | None = None,
+                  lazy: bool = False) -> Casefile:
     """Load a casefile folder (or its ``casefile.toml``) into a :class:`~forensic.core.model.Casefile`.
 
     Parameters
@@ -75,6 +98,11 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None,
     vectorised : bool, optional
         Internal: ``True`` reads every snapshot table by :mod:`forensic.casefile.fastread`,
         ``False`` row by row; by default tables of 256 KiB or more (the same casefile either way).
+    lazy : bool, default False
+        ``True`` reads each snapshot's tables when it is first asked for
+        (``snapshots`` is then a :class:`~forensic.core.model.SnapshotSequence`;
+        module notes): the same casefile, its ``warnings`` those of the
+        manifest, events and fragnets only.
 
     Returns
     -------
@@ -106,6 +134,52 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None,
     problems = Problems()
     hashes: dict[str, str] = {}
     warnings: list[str] = []
+    root, doc = _manifest_doc(path, limits, problems, hashes)
+    m = Manifest(doc, root, problems)
+    ctx = {"calendars": tuple(m.calendars), "parties": tuple(m.parties),
+           "problems": problems, "warnings": warnings, "memo": {}, "vectorised": vectorised,
+           "calendar_objs": m.calendars, "default_calendar": m.project.default_calendar if m.project else None}
+
+    snapshots: list[Snapshot] = []
+    snapshot_ids: set[str] = set()
+    heads = []
+    for spec in m.snapshot_specs:
+        snap, ids = _scan_snapshot(spec, root, limits, hashes, problems) if lazy else \
+            _read_snapshot(spec, root, limits, hashes, ctx)
+        snapshot_ids.update(ids)
+        if snap is not None:
+            (heads if lazy else snapshots).append(snap)
+    fragnets, unreadable = read_fragnets(root, limits, hashes, snapshot_ids, snapshots, ctx)
+    events: tuple[Event, ...] = ()
+    if m.events_path is not None:
+        rel, full = m.events_path
+        text = read_text(full, rel, limits.max_file_bytes, problems, hashes)
+        rows = None if text is None else read_table(text, rel, *EVENT_COLUMNS, limits.max_activities, problems)
+        if rows is not None:
+            events = tuple(read_events(
+                rows, rel, parties=m.parties, snapshot_ids=snapshot_ids, problems=problems,
+                fragnets={k: tuple(f.activities) for k, f in fragnets.items()}, unreadable=unreadable))
+    if m.project is not None and m.project.completion and snapshot_ids \
+            and m.project.completion not in snapshot_ids:
+        problems.add(MANIFEST, None, "project.completion", m.project.completion,
+                     "no activity with this id in any snapshot")
+    if problems or m.project is None:  # a missing [project] is one of the problems
+        _raise(problems)
+    if lazy:
+        reader = _SnapshotReader(m.snapshot_specs, root, limits, vectorised, dict(hashes), fragnets,
+                                {k: ctx[k] for k in _READER_CTX})
+        snapshots = SnapshotSequence(heads, reader)
+    else:
+        snapshots = tuple(snapshots)
+    return Casefile(
+        project=m.project, calendars=frozen_mapping(m.calendars), parties=frozen_mapping(m.parties),
+        snapshots=snapshots, events=events, fragnets=frozen_mapping(fragnets), root=root,
+        inputs=frozen_mapping(dict(sorted(hashes.items()))), warnings=tuple(warnings), windows=m.windows,
+    )
+
+
+def _manifest_doc(path, limits: Limits, problems: Problems, hashes) -> tuple[Path, dict]:
+    """The casefile folder and its manifest's TOML document; the problem raised if either cannot be read."""
     root = Path(path)
     if root.name == MANIFEST and root.is_file():
         root = root.parent
@@ -130,39 +204,7 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None,
     except ValueError as exc:  # an integer of over 4,300 digits (Python's int-string limit)
         problems.add(MANIFEST, None, None, None, f"not valid TOML: a value cannot be read ({exc})")
         _raise(problems)
-    m = Manifest(doc, root, problems)
-    ctx = {"calendars": tuple(m.calendars), "parties": tuple(m.parties),
-           "problems": problems, "warnings": warnings, "memo": {}, "vectorised": vectorised,
-           "calendar_objs": m.calendars, "default_calendar": m.project.default_calendar if m.project else None}
-
-    snapshots: list[Snapshot] = []
-    snapshot_ids: set[str] = set()
-    for spec in m.snapshot_specs:
-        snap, ids = _read_snapshot(spec, root, limits, hashes, ctx)
-        snapshot_ids.update(ids)
-        if snap is not None:
-            snapshots.append(snap)
-    fragnets, unreadable = read_fragnets(root, limits, hashes, snapshot_ids, snapshots, ctx)
-    events: tuple[Event, ...] = ()
-    if m.events_path is not None:
-        rel, full = m.events_path
-        text = read_text(full, rel, limits.max_file_bytes, problems, hashes)
-        rows = None if text is None else read_table(text, rel, *EVENT_COLUMNS, limits.max_activities, problems)
-        if rows is not None:
-            events = tuple(read_events(
-                rows, rel, parties=m.parties, snapshot_ids=snapshot_ids, problems=problems,
-                fragnets={k: tuple(f.activities) for k, f in fragnets.items()}, unreadable=unreadable))
-    if m.project is not None and m.project.completion and snapshot_ids \
-            and m.project.completion not in snapshot_ids:
-        problems.add(MANIFEST, None, "project.completion", m.project.completion,
-                     "no activity with this id in any snapshot")
-    if problems or m.project is None:  # a missing [project] is one of the problems
-        _raise(problems)
-    return Casefile(
-        project=m.project, calendars=frozen_mapping(m.calendars), parties=frozen_mapping(m.parties),
-        snapshots=tuple(snapshots), events=events, fragnets=frozen_mapping(fragnets), root=root,
-        inputs=frozen_mapping(dict(sorted(hashes.items()))), warnings=tuple(warnings), windows=m.windows,
-    )
+    return root, doc
 
 
 def _raise(problems: Problems) -> NoReturn:
@@ -221,6 +263,70 @@ def _read_snapshot(spec, root: Path, limits: Limits, hashes, ctx) -> tuple[Snaps
     snap = Snapshot(sid, data_date, frozen_mapping(table.activities), tuple(links),
                     role, frozen_mapping(sources))
     return snap, ids
+
+
+def _scan_snapshot(spec, root: Path, limits: Limits, hashes, problems: Problems) -> tuple[SnapshotHead | None, set[str]]:
+    """A snapshot read lazily: its files' bytes checked and hashed, and its activity ids (not checked here)."""
+    sid, role, data_date, paths = spec
+    ids: set[str] = set()
+    for what in ("activities", "links"):
+        if paths.get(what) is None:
+            continue
+        rel, full = paths[what]
+        text = read_text(full, rel, limits.max_file_bytes, problems, hashes)
+        if text is not None and what == "activities":
+            ids = _ids_of(text)
+    if sid is None or data_date is None or any(paths.get(w) is None for w in ("activities", "links")):
+        return None, ids  # the manifest's problem is reported
+    return SnapshotHead(sid, data_date, role), ids
+
+
+def _ids_of(text: str) -> set[str]:
+    """The ``id`` cells of an activities table, read leniently: the table is checked when it is read."""
+    rows = csv.reader(io.StringIO(text, newline=""))
+    try:
+        header = next((r for r in rows if any(c.strip() for c in r)), None)
+        col = [c.strip() for c in header].index("id") if header else -1
+        if col < 0:
+            return set()
+        return {r[col].strip() for r in rows if len(r) > col and r[col].strip()}
+    except (csv.Error, ValueError):
+        return set()
+
+
+# What a lazily read snapshot needs of the loader's context.
+_READER_CTX = ("calendars", "parties", "calendar_objs", "default_calendar")
+
+
+class _SnapshotReader:
+    """Reads one snapshot of a casefile loaded lazily, with the checks of :func:`load_casefile`.
+
+    A problem in the snapshot's tables raises the loader's
+    :class:`~forensic.core.errors.CasefileError` naming file, line and value;
+    a file whose SHA-256 differs from the one taken when the casefile was
+    loaded is refused (its record of inputs would not be what was analysed).
+    """
+
+    def __init__(self, specs, root: Path, limits: Limits, vectorised: bool | None, hashes: dict[str, str],
+                 fragnets: dict[str, Fragnet], ctx: dict) -> None:
+        self.specs = {spec[0]: spec for spec in specs}
+        self.root, self.limits, self.vectorised = root, limits, vectorised
+        self.hashes, self.fragnets, self.ctx = hashes, fragnets, ctx
+
+    def __call__(self, snapshot_id: str) -> Snapshot:
+        problems = Problems()
+        hashes: dict[str, str] = {}
+        ctx = {**self.ctx, "problems": problems, "warnings": [], "memo": {}, "vectorised": self.vectorised}
+        snap, _ = _read_snapshot(self.specs[snapshot_id], self.root, self.limits, hashes, ctx)
+        for rel, digest in hashes.items():
+            if self.hashes.get(rel) != digest:
+                problems.add(rel, None, None, None, "the file changed after the casefile was loaded; load it again")
+        if snap is not None and not problems:
+            for f in self.fragnets.values():
+                check_fragnet_loops(list(f.activities), list(f.links), [snap], f.sources.get("links", ""), problems)
+        if problems or snap is None:
+            _raise(problems)
+        return snap
 
 
 # A table this long or longer takes the fast path unless ``vectorised`` says otherwise: below

@@ -2,12 +2,13 @@
 
 from __future__ import annotations
 
+import contextlib
 import functools
 import os
 import shutil
 import sys
 import textwrap
-from collections.abc import Callable, Iterable
+from collections.abc import Callable, Iterable, Iterator
 from pathlib import Path
 
 import click
@@ -19,8 +20,8 @@ from forensic.exchange.writers import dumps_json
 
 from ._progress import progress_wanted
 
-__all__ = ["casefile_argument", "emit", "emit_json", "emit_xlsx", "format_options", "limit_hint", "load",
-           "fit", "pick_format", "provenance", "say", "status", "table_text", "terminal_width", "xlsx_option"]
+__all__ = ["casefile_argument", "emit", "emit_json", "emit_xlsx", "format_options", "limit_hint", "limit_hinted", "load",
+           "fit", "pick_format", "provenance", "say", "status", "status_shown", "table_text", "terminal_width", "xlsx_option"]
 
 
 def casefile_argument(func: Callable) -> Callable:
@@ -184,22 +185,33 @@ def limit_hint(exc) -> str:
     return f"(raise the limit with {' / '.join(hints)} if the file is genuine)"
 
 
-def load(path: Path) -> Casefile:
+@contextlib.contextmanager
+def limit_hinted() -> Iterator[None]:
+    """A ceiling hit inside (loading, or a snapshot read lazily) is reported with the option that raises it."""
+    from forensic.core.errors import LimitExceeded
+
+    try:
+        yield
+    except LimitExceeded as exc:
+        raise click.ClickException(f"{exc}\n{limit_hint(exc)}") from None
+
+
+def load(path: Path, *, lazy: bool = False) -> Casefile:
     """Load and validate a casefile within the group's ``--max-*`` limits.
 
     Its errors reach the user as ``Error: ...``; an over-limit error says
     which option raises the ceiling. The casefile is remembered so that
-    :func:`emit` never writes over one of its files.
+    :func:`emit` never writes over one of its files. ``lazy`` reads each
+    snapshot's tables when the command first uses it
+    (:func:`forensic.casefile.reading.load_casefile`): a problem in them is
+    raised then, before any output is written.
     """
     from forensic.casefile.reading import Limits, load_casefile
-    from forensic.core.errors import LimitExceeded
 
     ctx = click.get_current_context(silent=True)
     limits = ctx.find_object(Limits) if ctx is not None else None
-    try:
-        cf = load_casefile(path, limits=limits)
-    except LimitExceeded as exc:
-        raise click.ClickException(f"{exc}\n{limit_hint(exc)}") from None
+    with limit_hinted():
+        cf = load_casefile(path, limits=limits, lazy=lazy)
     if ctx is not None:
         ctx.meta[_CASEFILE] = cf
     return cf
@@ -258,7 +270,12 @@ def emit_json(obj: object, out: Path | None = None, casefile: Casefile | None = 
     emit(dumps_json(obj), out=out, casefile=casefile, protected=protected)
 
 
+def status_shown() -> bool:
+    """Whether :func:`status` lines are shown (a terminal, or ``forensic --progress``)."""
+    return sys.stderr.isatty() or progress_wanted()
+
+
 def status(message: str) -> None:
     """A status line on stderr for long work, shown only at a terminal or under ``forensic --progress``."""
-    if sys.stderr.isatty() or progress_wanted():
+    if status_shown():
         click.echo(message, err=True)

@@ -20,6 +20,7 @@ from ._common import (
     emit_json,
     emit_xlsx,
     format_options,
+    limit_hinted,
     load,
     pick_format,
     say,
@@ -69,8 +70,9 @@ def _no_cycle_collection() -> Iterator[None]:
 
 
 def _schedule_one(casefile: Path, snapshot_id: str | None, as_json: bool, as_csv: bool) -> None:
-    cf = load(casefile)
-    snap = cf.snapshot(snapshot_id) if snapshot_id else cf.snapshots[-1]
+    cf = load(casefile, lazy=True)  # the snapshot scheduled is the only one whose tables are read
+    with limit_hinted():  # its tables are read here, within the ceilings
+        snap = cf.snapshot(snapshot_id) if snapshot_id else cf.snapshots[-1]
     result = schedule_snapshot(cf, snap.id)
     fmt = pick_format(as_json, as_csv)
     if fmt == "json":

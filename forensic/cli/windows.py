@@ -27,10 +27,12 @@ from ._common import (
     emit_json,
     emit_xlsx,
     format_options,
+    limit_hinted,
     load,
     pick_format,
     say,
     status,
+    status_shown,
     table_text,
 )
 
@@ -70,10 +72,13 @@ def windows_command(casefile: Path, bounds: str | None, table: str | None, as_js
         raise click.UsageError("--table chooses the table printed by --csv: add --csv")
     table = table or "windows"
     status(f"Loading {casefile} ...")
-    cf = load(casefile)
+    cf = load(casefile, lazy=True)  # each snapshot read as its window comes: a few held at a time (issue 20)
     ids = [s.strip() for s in bounds.split(",") if s.strip()] if bounds else None
-    status(f"Analysing {len(cf.snapshots) - 1} windows of {len(cf.snapshots[-1].activities)} activities (Ctrl-C stops) ...")
-    an = analyse_delay(cf, ids, keep_runs=False)  # figures only: memory of a few snapshots (issue 20)
+    if status_shown():  # reading the last update for its size only when it is shown
+        status(f"Analysing {len(cf.snapshots) - 1} windows of {len(cf.snapshots[-1].activities)} activities "
+               "(Ctrl-C stops) ...")
+    with limit_hinted():  # a snapshot read as its window comes may be over a ceiling
+        an = analyse_delay(cf, ids, keep_runs=False)  # figures only: memory of a few snapshots (issue 20)
     tables = {
         "windows": lambda: windows_table(an.windows),
         "contributors": lambda: contributors_table(an),
@@ -82,7 +87,8 @@ def windows_command(casefile: Path, bounds: str | None, table: str | None, as_js
         "float-used": lambda: float_used_table(an),
         "as-built": lambda: asbuilt_table(as_planned_vs_as_built(cf)),
     }
-    emit_xlsx((make() for make in tables.values()), cf)
+    with limit_hinted():
+        emit_xlsx((make() for make in tables.values()), cf)
     fmt = pick_format(as_json, as_csv)
     if fmt == "json":
         emit_json(delay_json(an))

@@ -13,7 +13,9 @@ relationship types FS, SS, FF, SF and a lag (negative = lead).
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+import weakref
+from collections import deque
+from collections.abc import Callable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from datetime import date
 from pathlib import Path
@@ -38,6 +40,8 @@ __all__ = [
     "Party",
     "Project",
     "Snapshot",
+    "SnapshotHead",
+    "SnapshotSequence",
     "frozen_mapping",
 ]
 
@@ -210,12 +214,14 @@ class Link:
         return (self.pred, self.succ, self.type)
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, weakref_slot=True)
 class Snapshot:
     """A schedule at a data date: the baseline or one update.
 
     ``activities`` is keyed by id in file order. ``sources`` maps ``"activities"``
     and ``"links"`` to the paths (relative to the casefile folder) they came from.
+    (It can be weakly referenced, so a :class:`SnapshotSequence` hands out the
+    object still in use rather than a second copy.)
     """
 
     id: str
@@ -228,6 +234,89 @@ class Snapshot:
     @property
     def is_baseline(self) -> bool:
         return self.role == "baseline"
+
+
+@dataclass(frozen=True, slots=True)
+class SnapshotHead:
+    """What the manifest says of a snapshot, known before its tables are read."""
+
+    id: str
+    data_date: date
+    role: str = "update"
+
+
+class SnapshotSequence(Sequence):
+    """The snapshots of a casefile, each read from its files when it is asked for.
+
+    ``heads`` are the snapshots oldest first; ``read(snapshot_id)`` reads
+    and checks one snapshot (it raises the casefile's errors for that
+    snapshot's files). The ``keep`` snapshots used last are held, and any
+    snapshot still in use elsewhere is handed out again, not read twice;
+    the rest are let go, so going through the snapshots in order holds a
+    few at a time however many there are. It compares equal to any sequence
+    of the same snapshots (a tuple of the snapshots read eagerly), copies and
+    serialises as its heads and reader (what was read is not carried).
+    """
+
+    __slots__ = ("_alive", "_heads", "_keep", "_read", "_recent")
+    __hash__ = None  # type: ignore[assignment]
+
+    def __init__(self, heads: Sequence[SnapshotHead], read: Callable[[str], Snapshot], keep: int = 2,
+                 _alive: weakref.WeakValueDictionary | None = None) -> None:
+        self._heads = tuple(heads)
+        self._read = read
+        self._keep = keep
+        self._recent: deque[Snapshot] = deque(maxlen=max(keep, 1))
+        self._alive = weakref.WeakValueDictionary() if _alive is None else _alive
+
+    @property
+    def heads(self) -> tuple[SnapshotHead, ...]:
+        return self._heads
+
+    @property
+    def ids(self) -> tuple[str, ...]:
+        return tuple(h.id for h in self._heads)
+
+    @property
+    def read(self) -> Callable[[str], Snapshot]:
+        """The reader: a snapshot id -> the snapshot read afresh from its files."""
+        return self._read
+
+    def _get(self, head: SnapshotHead) -> Snapshot:
+        snap = self._alive.get(head.id)
+        if snap is None:
+            snap = self._read(head.id)
+            self._alive[head.id] = snap
+        if not any(s is snap for s in self._recent):
+            self._recent.append(snap)
+        return snap
+
+    def __len__(self) -> int:
+        return len(self._heads)
+
+    def __getitem__(self, index):
+        if isinstance(index, slice):
+            return SnapshotSequence(self._heads[index], self._read, self._keep, self._alive)
+        return self._get(self._heads[index])
+
+    def __iter__(self) -> Iterator[Snapshot]:
+        for head in self._heads:
+            yield self._get(head)
+
+    def __eq__(self, other: object) -> bool:
+        if not isinstance(other, Sequence) or isinstance(other, str | bytes):
+            return NotImplemented
+        if len(other) != len(self):
+            return False
+        if isinstance(other, SnapshotSequence) and other._read is self._read and other._heads == self._heads:
+            return True
+        return all(a == b for a, b in zip(self, other, strict=True))
+
+    def __reduce__(self):
+        return (SnapshotSequence, (self._heads, self._read, self._keep))
+
+    def __repr__(self) -> str:
+        return f"SnapshotSequence({', '.join(self.ids)})"
 
 
 @dataclass(frozen=True, slots=True)
@@ -287,7 +376,9 @@ class Casefile:
     """A whole casefile: project settings, parties, calendars, snapshots, events, fragnets.
 
     ``snapshots`` are oldest first with strictly increasing data dates; the
-    first of role ``baseline`` is the baseline. ``root`` is the folder it was
+    first of role ``baseline`` is the baseline. They are a tuple, or a
+    :class:`SnapshotSequence` that reads each when asked for
+    (``load_casefile(..., lazy=True)``). ``root`` is the folder it was
     loaded from (``None`` for a casefile built in memory). ``inputs`` maps
     each input file's relative path to its SHA-256, for the record of inputs.
     """
@@ -295,7 +386,7 @@ class Casefile:
     project: Project
     calendars: Mapping[str, Calendar]
     parties: Mapping[str, Party]
-    snapshots: tuple[Snapshot, ...]
+    snapshots: Sequence[Snapshot]
     events: tuple[Event, ...] = ()
     fragnets: Mapping[str, Fragnet] = field(default_factory=frozen_mapping)
     root: Path | None = None
@@ -305,6 +396,9 @@ class Casefile:
 
     @property
     def baseline(self) -> Snapshot:
+        if isinstance(self.snapshots, SnapshotSequence):  # found by the manifest's roles, nothing else read
+            roles = [h.role for h in self.snapshots.heads]
+            return self.snapshots[roles.index("baseline") if "baseline" in roles else 0]
         for snap in self.snapshots:
             if snap.is_baseline:
                 return snap
@@ -314,12 +408,19 @@ class Casefile:
     def updates(self) -> tuple[Snapshot, ...]:
         return tuple(s for s in self.snapshots if not s.is_baseline)
 
+    @property
+    def snapshot_ids(self) -> tuple[str, ...]:
+        """The snapshots' ids, oldest first (without reading a :class:`SnapshotSequence`)."""
+        if isinstance(self.snapshots, SnapshotSequence):
+            return self.snapshots.ids
+        return tuple(s.id for s in self.snapshots)
+
     def snapshot(self, snapshot_id: str) -> Snapshot:
         """The snapshot with this id; ``NotFoundError`` naming the known ids otherwise."""
-        for snap in self.snapshots:
-            if snap.id == snapshot_id:
-                return snap
-        known = ", ".join(s.id for s in self.snapshots)
+        ids = self.snapshot_ids
+        if snapshot_id in ids:
+            return self.snapshots[ids.index(snapshot_id)]
+        known = ", ".join(ids)
         msg = f"no snapshot {snapshot_id!r} in the casefile (known: {known})"
         raise NotFoundError(msg)
 
