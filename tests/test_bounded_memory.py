@@ -8,6 +8,7 @@ schedules; its figures and JSON are those of the analysis that keeps them.
 from __future__ import annotations
 
 import gc
+import re
 
 import pytest
 
@@ -54,32 +55,37 @@ def test_windows_analysis_without_runs_keeps_the_figures(many_updates):
         full.baseline_completion, full.last_completion, full.total_slip)
 
 
-def _live_schedules() -> int:
+def _stale_schedules(ids: list[str], current: int) -> int:
+    """Schedules alive of the snapshots (or their half-steps and slices) before window ``current - 1``."""
     gc.collect()
-    return sum(1 for o in gc.get_objects() if isinstance(o, ScheduleResult))
+    stale = 0
+    for o in gc.get_objects():
+        if isinstance(o, ScheduleResult):
+            base = re.split(r"[+@]", o.snapshot_id)[0]
+            stale += base in ids and ids.index(base) < current - 1
+    return stale
 
 
-def _most_schedules_alive(monkeypatch, casefile, keep_runs: bool) -> int:
-    """The most schedules alive whenever the windows analysis schedules a snapshot."""
+def _most_stale(monkeypatch, casefile, keep_runs: bool) -> int:
+    """The most schedules of earlier windows alive whenever the windows analysis schedules an update."""
     real = windows_module.schedule
+    ids = list(casefile.snapshot_ids)
     seen = []
 
-    def counting(*args, **kwargs):
-        seen.append(_live_schedules())
-        return real(*args, **kwargs)
+    def counting(snap, *args, **kwargs):
+        if snap.id in ids:
+            seen.append(_stale_schedules(ids, ids.index(snap.id)))
+        return real(snap, *args, **kwargs)
 
     monkeypatch.setattr(windows_module, "schedule", counting)
     an = analyse_delay(casefile, keep_runs=keep_runs)
     monkeypatch.setattr(windows_module, "schedule", real)
-    assert len(an.attributions) == len(casefile.snapshots) - 1
+    assert len(an.attributions) == len(ids) - 1 and len(seen) == len(ids)
     return max(seen)
 
 
-def test_windows_without_runs_hold_a_few_schedules_however_many_updates(monkeypatch, many_updates):
-    base = _live_schedules()
-    slim = _most_schedules_alive(monkeypatch, many_updates, keep_runs=False)
-    full = _most_schedules_alive(monkeypatch, many_updates, keep_runs=True)
-    # the boundary shared with the next window and the window's own, never every update's
-    assert slim - base <= 3
-    # the analysis that keeps its runs holds every update's schedule: the count is a real bound
-    assert full - base >= len(many_updates.snapshots)
+def test_windows_without_runs_hold_no_schedule_of_an_earlier_window(monkeypatch, many_updates):
+    # only the window being run (its boundary with the last one, its half-step and slices) is held
+    assert _most_stale(monkeypatch, many_updates, keep_runs=False) == 0
+    # the analysis that keeps its runs holds every earlier update's schedules: the count is a real one
+    assert _most_stale(monkeypatch, many_updates, keep_runs=True) >= 2 * (len(many_updates.snapshots) - 3)
