@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import copy
 import gc
-import json
 import pickle
 import shutil
 import weakref
@@ -127,17 +126,43 @@ def test_a_bad_table_in_a_later_snapshot_is_an_error_naming_file_line_and_value(
     assert not list(tmp_path.glob("*.tmp*")) and sorted(p.name for p in tmp_path.iterdir()) == ["riverside"]
 
 
-def test_schedule_reads_only_the_snapshot_it_schedules(demo_copy, demo):
+def _break_u03_links(folder):
+    path = folder / "snapshots" / "U03" / "links.csv"
+    lines = path.read_text(encoding="utf-8").splitlines(keepends=True)
+    cells = lines[1].split(",")
+    cells[3] = "x" + cells[3].strip() + "\n"  # the lag of the link on line 2
+    lines[1] = ",".join(cells)
+    path.write_text("".join(lines), encoding="utf-8")
+    return "snapshots/U03/links.csv"
+
+
+@pytest.mark.parametrize("command", [["schedule", "--snapshot", "U04", "--json"],
+                                     ["windows", "--windows", "U02,U06", "--json"]])
+def test_a_bad_snapshot_the_command_does_not_use_is_still_refused(demo_copy, tmp_path, command):
+    """Every loading command refuses a casefile with a bad snapshot, also one it does not analyse."""
     rel = _break_u05(demo_copy)
-    good = CliRunner().invoke(main, ["schedule", str(demo_copy), "--snapshot", "U04", "--json"])
-    assert good.exit_code == 0, good.output
-    doc = json.loads(good.output)
-    clean = CliRunner().invoke(main, ["schedule", str(demo_source()), "--snapshot", "U04", "--json"])
-    assert {k: v for k, v in doc.items() if k != "inputs_sha256"} == {
-        k: v for k, v in json.loads(clean.output).items() if k != "inputs_sha256"}
-    assert doc["inputs_sha256"][rel] != demo.inputs[rel]  # every file still hashed
-    bad = CliRunner().invoke(main, ["schedule", str(demo_copy), "--snapshot", "U05", "--json"])
-    assert bad.exit_code == 1 and rel in bad.output and "ten" in bad.output, bad.output
+    out = tmp_path / "out.json"
+    result = CliRunner().invoke(main, [command[0], str(demo_copy), *command[1:], "--out", str(out)])
+    assert result.exit_code == 1 and rel in result.output and "'ten'" in result.output, result.output
+    assert not out.exists()
+
+
+def test_the_snapshots_not_read_are_checked_together(demo_copy, demo):
+    bad = {_break_u05(demo_copy), _break_u03_links(demo_copy)}
+    cf = load_casefile(demo_copy, lazy=True)
+    assert cf.snapshot("U10") == demo.snapshot("U10")
+    with pytest.raises(CasefileError) as err:
+        cf.snapshots.check_rest()
+    assert {p.file for p in err.value.problems} == bad  # both, in one error
+    with pytest.raises(CasefileError):
+        cf.snapshots.check_rest()  # a bad snapshot is refused as often as it is asked for
+    good, reads, _ = _counting(load_casefile(demo_source(), lazy=True))
+    good.snapshots.check_rest()
+    good.snapshots.check_rest()
+    assert reads == list(good.snapshot_ids)  # each read once, in order
+    gc.collect()
+    good.snapshot("U03")
+    assert reads[-1] == "U03" and len(reads) == len(good.snapshots) + 1  # checked, not kept
 
 
 def test_a_file_changed_after_loading_is_refused(demo_copy):

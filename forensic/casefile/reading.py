@@ -33,9 +33,11 @@ read and checked in full when it is first asked for
 (:class:`~forensic.core.model.SnapshotSequence`), with the same problems
 (file, line, value) raised then for that snapshot alone, and a file
 changed since the casefile was loaded refused. The loops a fragnet closes
-with a snapshot are checked as that snapshot is read. A command that reads
-every snapshot (``forensic windows``) holds a few at a time; one that
-needs one snapshot (``forensic schedule``) reads that one only.
+with a snapshot are checked as that snapshot is read (worded, as here,
+with every snapshot where the loop closes). Going through the snapshots in
+order holds a few at a time (``forensic windows``, ``forensic schedule``);
+``SnapshotSequence.check_rest`` reads those a command did not use, so every
+command still refuses a casefile with a bad snapshot before writing anything.
 """
 
 from __future__ import annotations
@@ -314,6 +316,20 @@ class _SnapshotReader:
         self.hashes, self.fragnets, self.ctx = hashes, fragnets, ctx
 
     def __call__(self, snapshot_id: str) -> Snapshot:
+        snap, problems = self._raw(snapshot_id)
+        if snap is not None and not problems:
+            for f in self.fragnets.values():
+                scratch = Problems()
+                check_fragnet_loops(list(f.activities), list(f.links), [snap], f.sources.get("links", ""), scratch)
+                if scratch:  # worded as the loader words it: every snapshot where the loop closes
+                    check_fragnet_loops(list(f.activities), list(f.links), self._every(snap),
+                                        f.sources.get("links", ""), problems)
+        if problems or snap is None:
+            _raise(problems)
+        return snap
+
+    def _raw(self, snapshot_id: str) -> tuple[Snapshot | None, Problems]:
+        """One snapshot read and checked on its own, and its problems (a changed file among them)."""
         problems = Problems()
         hashes: dict[str, str] = {}
         ctx = {**self.ctx, "problems": problems, "warnings": [], "memo": {}, "vectorised": self.vectorised}
@@ -321,12 +337,17 @@ class _SnapshotReader:
         for rel, digest in hashes.items():
             if self.hashes.get(rel) != digest:
                 problems.add(rel, None, None, None, "the file changed after the casefile was loaded; load it again")
-        if snap is not None and not problems:
-            for f in self.fragnets.values():
-                check_fragnet_loops(list(f.activities), list(f.links), [snap], f.sources.get("links", ""), problems)
-        if problems or snap is None:
-            _raise(problems)
-        return snap
+        return snap, problems
+
+    def _every(self, snap: Snapshot):
+        """Every readable snapshot in order, one at a time (``snap`` as it is)."""
+        for sid in self.specs:
+            if sid == snap.id:
+                yield snap
+                continue
+            other, problems = self._raw(sid)
+            if other is not None and not problems:
+                yield other
 
 
 # A table this long or longer takes the fast path unless ``vectorised`` says otherwise: below

@@ -20,7 +20,7 @@ from forensic.exchange.writers import dumps_json
 
 from ._progress import progress_wanted
 
-__all__ = ["casefile_argument", "emit", "emit_json", "emit_xlsx", "format_options", "limit_hint", "limit_hinted", "load",
+__all__ = ["casefile_argument", "check_every_snapshot", "emit", "emit_json", "emit_xlsx", "format_options", "limit_hint", "limit_hinted", "load",
            "fit", "pick_format", "provenance", "say", "status", "status_shown", "table_text", "terminal_width", "xlsx_option"]
 
 
@@ -194,6 +194,20 @@ def limit_hinted() -> Iterator[None]:
         yield
     except LimitExceeded as exc:
         raise click.ClickException(f"{exc}\n{limit_hint(exc)}") from None
+
+
+def check_every_snapshot(casefile: Casefile) -> None:
+    """Read the snapshots of a lazily loaded casefile that the command has not read, so a bad one is refused.
+
+    Every loading command refuses a casefile with a problem in any snapshot
+    (tests/test_corpus.py); a command that loaded lazily calls this before it
+    writes anything. Nothing is read twice and none is kept.
+    """
+    from forensic.core.model import SnapshotSequence
+
+    if isinstance(casefile.snapshots, SnapshotSequence):
+        with limit_hinted():
+            casefile.snapshots.check_rest()
 
 
 def load(path: Path, *, lazy: bool = False) -> Casefile:

@@ -16,6 +16,7 @@ from forensic.exchange.writers import to_csv
 from ._base import main
 from ._common import (
     casefile_argument,
+    check_every_snapshot,
     emit,
     emit_json,
     emit_xlsx,
@@ -70,9 +71,10 @@ def _no_cycle_collection() -> Iterator[None]:
 
 
 def _schedule_one(casefile: Path, snapshot_id: str | None, as_json: bool, as_csv: bool) -> None:
-    cf = load(casefile, lazy=True)  # the snapshot scheduled is the only one whose tables are read
+    cf = load(casefile, lazy=True)  # the snapshots read one at a time: a few held however many there are
     with limit_hinted():  # its tables are read here, within the ceilings
         snap = cf.snapshot(snapshot_id) if snapshot_id else cf.snapshots[-1]
+    check_every_snapshot(cf)  # every loading command refuses a casefile with a bad snapshot
     result = schedule_snapshot(cf, snap.id)
     fmt = pick_format(as_json, as_csv)
     if fmt == "json":

@@ -23,6 +23,7 @@ from forensic.exchange.writers import to_csv
 from ._base import main
 from ._common import (
     casefile_argument,
+    check_every_snapshot,
     emit,
     emit_json,
     emit_xlsx,
@@ -79,6 +80,7 @@ def windows_command(casefile: Path, bounds: str | None, table: str | None, as_js
                "(Ctrl-C stops) ...")
     with limit_hinted():  # a snapshot read as its window comes may be over a ceiling
         an = analyse_delay(cf, ids, keep_runs=False)  # figures only: memory of a few snapshots (issue 20)
+    check_every_snapshot(cf)  # those between grouped windows too, before anything is written
     tables = {
         "windows": lambda: windows_table(an.windows),
         "contributors": lambda: contributors_table(an),

@@ -20,7 +20,7 @@ from dataclasses import dataclass, field
 from datetime import date
 from pathlib import Path
 
-from forensic.core.errors import NotFoundError
+from forensic.core.errors import CasefileError, LimitExceeded, NotFoundError
 
 __all__ = [
     "FrozenDict",
@@ -258,16 +258,17 @@ class SnapshotSequence(Sequence):
     serialises as its heads and reader (what was read is not carried).
     """
 
-    __slots__ = ("_alive", "_heads", "_keep", "_read", "_recent")
+    __slots__ = ("_alive", "_heads", "_keep", "_read", "_recent", "_seen")
     __hash__ = None  # type: ignore[assignment]
 
     def __init__(self, heads: Sequence[SnapshotHead], read: Callable[[str], Snapshot], keep: int = 2,
-                 _alive: weakref.WeakValueDictionary | None = None) -> None:
+                 _alive: weakref.WeakValueDictionary | None = None, _seen: set[str] | None = None) -> None:
         self._heads = tuple(heads)
         self._read = read
         self._keep = keep
         self._recent: deque[Snapshot] = deque(maxlen=max(keep, 1))
         self._alive = weakref.WeakValueDictionary() if _alive is None else _alive
+        self._seen: set[str] = set() if _seen is None else _seen  # the ids read (and so checked) once
 
     @property
     def heads(self) -> tuple[SnapshotHead, ...]:
@@ -287,16 +288,39 @@ class SnapshotSequence(Sequence):
         if snap is None:
             snap = self._read(head.id)
             self._alive[head.id] = snap
+            self._seen.add(head.id)
         if not any(s is snap for s in self._recent):
             self._recent.append(snap)
         return snap
+
+    def check_rest(self) -> None:
+        """Read every snapshot not read yet, keeping none, so that its problems are raised.
+
+        One :class:`~forensic.core.errors.CasefileError` lists the problems of
+        all of them (a ceiling hit is raised alone, as the loader does), so a
+        command that used some snapshots still refuses a casefile with a bad one.
+        """
+        problems: list = []
+        for head in self._heads:
+            if head.id in self._seen:
+                continue
+            try:
+                self._read(head.id)
+            except LimitExceeded:
+                raise
+            except CasefileError as exc:
+                problems.extend(exc.problems)  # not marked read: asked again, it is refused again
+                continue
+            self._seen.add(head.id)
+        if problems:
+            raise CasefileError(problems)
 
     def __len__(self) -> int:
         return len(self._heads)
 
     def __getitem__(self, index):
         if isinstance(index, slice):
-            return SnapshotSequence(self._heads[index], self._read, self._keep, self._alive)
+            return SnapshotSequence(self._heads[index], self._read, self._keep, self._alive, self._seen)
         return self._get(self._heads[index])
 
     def __iter__(self) -> Iterator[Snapshot]:
