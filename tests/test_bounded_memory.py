@@ -89,3 +89,23 @@ def test_windows_without_runs_hold_no_schedule_of_an_earlier_window(monkeypatch,
     assert _most_stale(monkeypatch, many_updates, keep_runs=False) == 0
     # the analysis that keeps its runs holds every earlier update's schedules: the count is a real one
     assert _most_stale(monkeypatch, many_updates, keep_runs=True) >= 2 * (len(many_updates.snapshots) - 3)
+
+
+def test_each_slice_boundary_is_scheduled_once(monkeypatch, demo):
+    """A window's slices share their boundaries, and a cut the path-switch search probed is not rescheduled."""
+    import forensic.analysis.runcache as runcache_module
+
+    counts: dict[str, int] = {}
+    for module in (windows_module, runcache_module):
+        real = module.schedule
+
+        def counting(snap, *args, _real=real, **kwargs):
+            counts[snap.id] = counts.get(snap.id, 0) + 1
+            return _real(snap, *args, **kwargs)
+
+        monkeypatch.setattr(module, "schedule", counting)
+    full = analyse_delay(demo, keep_runs=False)
+    boundaries = {k: n for k, n in counts.items() if "+" not in k}  # updates and slice snapshots, not half-steps
+    assert any("@" in k for k in boundaries)  # the demo has sliced windows
+    assert {k: n for k, n in boundaries.items() if n > 1} == {}
+    assert len(full.attributions) == len(demo.snapshots) - 1
