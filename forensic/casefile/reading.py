@@ -46,6 +46,7 @@ import csv
 import io
 import os
 import tomllib
+from collections.abc import Sequence
 from pathlib import Path
 from typing import NoReturn
 
@@ -142,16 +143,20 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None,
            "problems": problems, "warnings": warnings, "memo": {}, "vectorised": vectorised,
            "calendar_objs": m.calendars, "default_calendar": m.project.default_calendar if m.project else None}
 
-    snapshots: list[Snapshot] = []
+    read: list[Snapshot] = []
     snapshot_ids: set[str] = set()
-    heads = []
+    heads: list[SnapshotHead] = []
     for spec in m.snapshot_specs:
-        snap, ids = _scan_snapshot(spec, root, limits, hashes, problems) if lazy else \
-            _read_snapshot(spec, root, limits, hashes, ctx)
+        if lazy:
+            head, ids = _scan_snapshot(spec, root, limits, hashes, problems)
+            if head is not None:
+                heads.append(head)
+        else:
+            snap, ids = _read_snapshot(spec, root, limits, hashes, ctx)
+            if snap is not None:
+                read.append(snap)
         snapshot_ids.update(ids)
-        if snap is not None:
-            (heads if lazy else snapshots).append(snap)
-    fragnets, unreadable = read_fragnets(root, limits, hashes, snapshot_ids, snapshots, ctx)
+    fragnets, unreadable = read_fragnets(root, limits, hashes, snapshot_ids, read, ctx)
     events: tuple[Event, ...] = ()
     if m.events_path is not None:
         rel, full = m.events_path
@@ -167,12 +172,13 @@ def load_casefile(path: str | os.PathLike[str], *, limits: Limits | None = None,
                      "no activity with this id in any snapshot")
     if problems or m.project is None:  # a missing [project] is one of the problems
         _raise(problems)
+    snapshots: Sequence[Snapshot]
     if lazy:
         reader = _SnapshotReader(m.snapshot_specs, root, limits, vectorised, dict(hashes), fragnets,
                                 {k: ctx[k] for k in _READER_CTX})
         snapshots = SnapshotSequence(heads, reader)
     else:
-        snapshots = tuple(snapshots)
+        snapshots = tuple(read)
     return Casefile(
         project=m.project, calendars=frozen_mapping(m.calendars), parties=frozen_mapping(m.parties),
         snapshots=snapshots, events=events, fragnets=frozen_mapping(fragnets), root=root,

@@ -365,15 +365,15 @@ def analyse_delay(casefile: Casefile, windows: Sequence[str] | None = None, *,
     ----------
     AACE RP 29R-03, protocols 3.3 and 3.4; SCL Protocol 2nd ed.
     """
-    runs, figures, atts = [], [], []
+    runs, figures, found = [], [], []
     for run in iter_window_runs(casefile, windows, cache=cache):
-        atts.append(attribute_window(casefile, run, cache=cache))
+        found.append(attribute_window(casefile, run, cache=cache))
         figures.append(run.window)
         if keep_runs:
             runs.append(run)
         del run  # the window's snapshots and schedules go before the next window is run
     an = windows_analysis(casefile, figures, tuple(runs))
-    atts = tuple(atts)
+    atts = tuple(found)
     return DelayAnalysis(an.unit, an, atts, build_ledger(atts, an), casefile.project.concurrency)
 
 
