@@ -41,9 +41,27 @@ def run() -> None:
             signal.signal(signal.SIGINT, _interrupted_early)
     except ValueError:  # not the main thread: leave the handler alone
         pass
+    _fewer_collections()
     from .cli import main
 
     main(prog_name="forensic")
+
+
+def _fewer_collections() -> None:
+    """Run the cycle collector's youngest generation every 100,000 allocations, not every 700.
+
+    A command builds hundreds of thousands of records that live until it
+    ends and hold no reference cycles; at Python's default threshold the
+    collector scans them again and again (synth 20,000 activities x 24
+    updates, ``forensic windows``: 20.4 s at the default, 18.0 s here, the
+    same 300 MB peak; switching it off saved no more and let memory grow to
+    1.2 GB). Only the program does this: a caller that runs the commands in
+    its own process keeps its own setting.
+    """
+    import gc
+
+    _, older, oldest = gc.get_threshold()
+    gc.set_threshold(100_000, older, oldest)
 
 
 if __name__ == "__main__":
