@@ -101,7 +101,7 @@ _LINK_CACHE_SIZE = 8
 # snapshot (the but-for schedules of the concurrency test change the
 # remaining durations of a few activities) shares most activity records with
 # it, so only the rows of records that differ are read again.
-_ACT_CACHE: dict[tuple[int, str], tuple] = {}
+_ACT_CACHE: dict[tuple[int, str, int], tuple] = {}
 
 
 _ACT_CACHE_SIZE = 8
@@ -134,21 +134,48 @@ def _read_rows(acts: list, numbers: dict[str, int], default: str) -> dict[str, n
     }
 
 
+def _mostly_shared(acts: list, old_acts: list) -> bool:
+    """Whether a sample of 64 rows says most records are the same objects (worth the full comparison)."""
+    step = max(1, len(acts) // 64)
+    sample = range(0, len(acts), step)
+    return sum(acts[i] is old_acts[i] for i in sample) * 4 >= 3 * len(sample)
+
+
+def _cached_columns(acts: list, ids: list[str], calendars: Mapping[str, Calendar], default: str) -> dict | None:
+    """The input columns from a cached network whose records mostly are these very objects, or ``None``.
+
+    The cache holds the last few networks (a window's two updates, its
+    slices and the concurrency test's variants are families that share most
+    records); the most recent one that shares three quarters of its rows is
+    used, re-reading only the rows that differ.
+    """
+    for key in reversed(list(_ACT_CACHE)):
+        cals, old_acts, old_ids, cached_numbers, cached_cols, cached_cals = _ACT_CACHE[key]
+        if cals is not calendars or key[1] != default or len(old_acts) != len(acts) or old_ids != ids:
+            continue
+        if not _mostly_shared(acts, old_acts):
+            continue
+        changed = [i for i, (a, b) in enumerate(zip(acts, old_acts, strict=True)) if a is not b]
+        if len(changed) * 4 >= len(acts) or not all((acts[i].calendar or default) in cached_numbers for i in changed):
+            continue
+        out = {k: v.copy() for k, v in cached_cols.items()}
+        if changed:
+            fresh = _read_rows([acts[i] for i in changed], cached_numbers, default)
+            for k in _COLUMN_NAMES:
+                out[k][changed] = fresh[k]
+        out["calendars"] = cached_cals
+        return out
+    return None
+
+
+_ACT_SEQ = [0]  # the cache's keys: (calendars' identity, default calendar, a running number)
+
+
 def _activity_columns(acts: list, ids: list[str], calendars: Mapping[str, Calendar], default: str, sid: str) -> dict:
     """The activities' input columns, re-reading only the records that differ from a cached network."""
-    key = (id(calendars), default)
-    hit = _ACT_CACHE.get(key)
-    if hit is not None and hit[0] is calendars and len(hit[1]) == len(acts) and hit[2] == ids:
-        _, old_acts, _, cached_numbers, cached_cols, cached_cals = hit
-        changed = [i for i, (a, b) in enumerate(zip(acts, old_acts, strict=True)) if a is not b]
-        if len(changed) * 4 < len(acts) and all((acts[i].calendar or default) in cached_numbers for i in changed):
-            out = {k: v.copy() for k, v in cached_cols.items()}
-            if changed:
-                fresh = _read_rows([acts[i] for i in changed], cached_numbers, default)
-                for k in _COLUMN_NAMES:
-                    out[k][changed] = fresh[k]
-            out["calendars"] = cached_cals
-            return out
+    out = _cached_columns(acts, ids, calendars, default)
+    if out is not None:
+        return out
     numbers: dict[str, int] = {}
     cal_list: list[Calendar] = []
     for a in acts:
@@ -162,7 +189,8 @@ def _activity_columns(acts: list, ids: list[str], calendars: Mapping[str, Calend
     cols = _read_rows(acts, numbers, default)
     if len(_ACT_CACHE) >= _ACT_CACHE_SIZE:
         _ACT_CACHE.pop(next(iter(_ACT_CACHE)))
-    _ACT_CACHE[key] = (calendars, acts, ids, numbers, cols, cal_list)
+    _ACT_SEQ[0] += 1
+    _ACT_CACHE[(id(calendars), default, _ACT_SEQ[0])] = (calendars, acts, ids, numbers, cols, cal_list)
     out = dict(cols)
     out["calendars"] = cal_list
     return out
@@ -208,6 +236,7 @@ class Network:
         hit = _LINK_CACHE.get(key)
         if hit is not None and hit[0] is links and hit[1] == ids:
             (self.lp, self.lsu, self.ltyp, self.lag, self.level) = hit[2]
+            self.nlev, self.node_order, self.node_starts = hit[3]
         else:
             try:
                 self.lp = np.array([pos[k.pred] for k in links], dtype=np.int64)
@@ -220,14 +249,15 @@ class Network:
             self.level = _levels(n, self.lp, self.lsu, ids, f"snapshot {snapshot.id}")
             if len(_LINK_CACHE) >= _LINK_CACHE_SIZE:
                 _LINK_CACHE.pop(next(iter(_LINK_CACHE)))
-            for arr in (self.lp, self.lsu, self.ltyp, self.lag, self.level):
+            self.nlev = int(self.level.max()) + 1
+            self.node_order, self.node_starts = group_by_key(self.level, self.nlev)
+            for arr in (self.lp, self.lsu, self.ltyp, self.lag, self.level, self.node_order, self.node_starts):
                 arr.flags.writeable = False
-            _LINK_CACHE[key] = (links, ids, (self.lp, self.lsu, self.ltyp, self.lag, self.level))
+            _LINK_CACHE[key] = (links, ids, (self.lp, self.lsu, self.ltyp, self.lag, self.level),
+                                (self.nlev, self.node_order, self.node_starts))
         self.m = len(links)
         self.start_type = (self.ltyp == 1) | (self.ltyp == 3)  # timed from the predecessor's start
         self.on_finish = (self.ltyp == 2) | (self.ltyp == 3)  # holds the successor's finish
-        self.nlev = int(self.level.max()) + 1
-        self.node_order, self.node_starts = group_by_key(self.level, self.nlev)
         self.extent = int(durations.sum() + remaining.sum() + np.abs(self.lag).sum()) + 10
 
 
