@@ -18,6 +18,7 @@ from forensic.analysis.attribution.delay import (
 )
 from forensic.analysis.attribution.floatuse import float_ledger, float_used_table
 from forensic.analysis.windows import windows_table
+from forensic.cli.windows_jobs import attribute_in_processes, jobs_for
 from forensic.exchange.writers import to_csv
 
 from ._base import main
@@ -56,8 +57,12 @@ _TABLES = ("windows", "contributors", "ledger", "cumulative", "float-used", "as-
 )
 @click.option("--table", type=click.Choice(_TABLES), default=None,
               help="Table printed by --csv (default: windows); refused without --csv.")
+@click.option("--jobs", default="auto", metavar="N|auto", callback=lambda c, p, v: _jobs_value(v),
+              help="Processes that attribute the windows, each a run of consecutive windows (the result is "
+              "the same); auto: every core from 5,000 activities and 4 windows, else 1.")
 @format_options
-def windows_command(casefile: Path, bounds: str | None, table: str | None, as_json: bool, as_csv: bool) -> None:
+def windows_command(casefile: Path, bounds: str | None, table: str | None, jobs: str, as_json: bool,
+                    as_csv: bool) -> None:
     """Windows analysis of CASEFILE with the half-step split and the delay ledger.
 
     For each window between updates: completion before and after, the slip
@@ -79,7 +84,7 @@ def windows_command(casefile: Path, bounds: str | None, table: str | None, as_js
         status(f"Analysing {len(cf.snapshots) - 1} windows of {len(cf.snapshots[-1].activities)} activities "
                "(Ctrl-C stops) ...")
     with limit_hinted():  # a snapshot read as its window comes may be over a ceiling
-        an = analyse_delay(cf, ids, keep_runs=False)  # figures only: memory of a few snapshots (issue 20)
+        an = _analysed(cf, ids, jobs)
     check_every_snapshot(cf)  # those between grouped windows too, before anything is written
     tables = {
         "windows": lambda: windows_table(an.windows),
@@ -130,3 +135,21 @@ def windows_command(casefile: Path, bounds: str | None, table: str | None, as_js
     else:
         say("no float used on near-critical paths")
     say("Results support, and do not replace, a qualified scheduling professional's judgement.")
+
+
+def _jobs_value(value: str) -> str:
+    """``--jobs``: ``auto`` or a whole number of processes, at least 1."""
+    if value == "auto" or (value.isdigit() and int(value) >= 1):
+        return value
+    raise click.BadParameter(f"{value!r} is neither 'auto' nor a whole number of processes (1 or more)")
+
+
+def _analysed(cf, ids: list[str] | None, jobs: str):
+    """The windows attributed in one process, or in several (forensic.cli.windows_jobs; the same result)."""
+    if jobs == "1" or ids == ["auto"]:  # auto windows: found by scheduling every update in turn, here
+        n = 1
+    else:
+        n = jobs_for(cf, len(cf.snapshots) - 1 if ids is None else len(ids) + 1, jobs)
+    if n == 1:
+        return analyse_delay(cf, ids, keep_runs=False)  # figures only: memory of a few snapshots (issue 20)
+    return attribute_in_processes(cf, ids, n)

@@ -144,6 +144,10 @@ class CasefileError(ForensicError, ValueError):
             msg = f"{len(self.problems)} problems in the casefile:\n" + _listing(self.problems)
         super().__init__(msg)
 
+    def __reduce__(self):
+        """Rebuilt from its problems (an error raised in a worker process reaches the caller whole)."""
+        return (type(self), (self.problems,))
+
 
 class ImportMappingError(CasefileError):
     """Raised when an import mapping, or the source tables it describes, cannot be read.

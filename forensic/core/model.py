@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import weakref
 from collections import deque
-from collections.abc import Callable, Iterator, Mapping, Sequence
+from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from datetime import date
 from pathlib import Path
@@ -292,6 +292,16 @@ class SnapshotSequence(Sequence):
         if not any(s is snap for s in self._recent):
             self._recent.append(snap)
         return snap
+
+    def note_checked(self, ids: Iterable[str]) -> None:
+        """Count these snapshots as read and checked: a worker process read them with this sequence's reader.
+
+        A copy of this sequence (pickled to another process) reads with the
+        same reader and the same file hashes, so a problem it met was raised
+        there; :meth:`check_rest` then does not read them again here.
+        """
+        known = {h.id for h in self._heads}
+        self._seen.update(i for i in ids if i in known)
 
     def check_rest(self) -> None:
         """Read every snapshot not read yet, keeping none, so that its problems are raised.
