@@ -128,6 +128,32 @@ def case_report(runs: int) -> dict:
     return {"case": "report", "report_s": statistics.median(times), "runs_s": times, "bytes": len(pdf), "peak_mb": _peak_mb()}
 
 
+def _tree_rss_kb(pid: int) -> int:
+    """Resident set of a process and all its descendants, in KiB (Linux /proc)."""
+    total = 0
+    try:
+        with open(f"/proc/{pid}/statm") as f:
+            total = int(f.read().split()[1]) * os.sysconf("SC_PAGE_SIZE") // 1024
+        with open(f"/proc/{pid}/task/{pid}/children") as f:
+            kids = [int(k) for k in f.read().split()]
+    except (OSError, ValueError):
+        return total
+    return total + sum(_tree_rss_kb(k) for k in kids)
+
+
+def command_figures(cmd: list[str]) -> dict:
+    """One run of a whole command: wall seconds and the peak resident set of it and its workers (sampled every 0.2 s)."""
+    t = time.perf_counter()
+    proc = subprocess.Popen(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, cwd=ROOT)
+    peak = 0
+    while proc.poll() is None:
+        peak = max(peak, _tree_rss_kb(proc.pid))
+        time.sleep(0.2)
+    if proc.returncode != 0:
+        raise SystemExit(f"{cmd} failed with status {proc.returncode}")
+    return {"wall_s": time.perf_counter() - t, "peak_tree_mb": peak / 1024}
+
+
 def _median_wall(cmd: list[str], runs: int) -> float:
     times = []
     for _ in range(runs):
@@ -310,12 +336,17 @@ def main() -> None:
             write_casefile(cf, tmp)
             del cf
             r = _sub(["--case", "windows", "--arg", tmp])
+            r["command"] = {jobs: command_figures([sys.executable, "-m", "forensic", "windows", tmp, "--json",
+                                                   "--jobs", jobs]) for jobs in ("1", "auto")}
         r["generate_s"] = gen_s
         results["windows"] = r
         print(f"\nwindows, {r['activities']} activities x {r['snapshots'] - 1} updates: generate {gen_s:.1f} s; "
               f"load {r['load_s']:.1f} s ({r['load_per_snapshot_s']:.2f} s/snapshot) + half-step windows "
               f"{r['windows_s']:.1f} s = {r['load_plus_windows_s']:.1f} s; attribution and ledger "
-              f"{r['attribution_s']:.1f} s more; peak {r['peak_mb']:.0f} MB")
+              f"{r['attribution_s']:.1f} s more; peak {r['peak_mb']:.0f} MB (in process, eager, runs kept)")
+        for jobs, c in r["command"].items():
+            print(f"  forensic windows --json --jobs {jobs}: {c['wall_s']:.1f} s, peak {c['peak_tree_mb']:.0f} MB "
+                  "for the command and its workers (issue 20 target: <= 15 s, <= 2 GB at 20,000 x 24)")
     if not a.skip_report:
         try:
             import forensic.report  # noqa: F401
