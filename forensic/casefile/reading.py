@@ -42,6 +42,7 @@ command still refuses a casefile with a bad snapshot before writing anything.
 
 from __future__ import annotations
 
+import contextlib
 import csv
 import io
 import os
@@ -291,6 +292,37 @@ def _scan_snapshot(spec, root: Path, limits: Limits, hashes, problems: Problems)
 
 def _ids_of(text: str) -> set[str]:
     """The ``id`` cells of an activities table, read leniently: the table is checked when it is read."""
+    if '"' not in text and text.count("\r") == text.count("\r\n"):
+        return _unquoted_ids_of(text)
+    return _csv_ids_of(text)
+
+
+def _unquoted_ids_of(text: str) -> set[str] | set:
+    """:func:`_csv_ids_of` for a table with no quote and no lone carriage return, by splitting lines.
+
+    With no quote character and every carriage return ending a line, the
+    ``csv`` module's rows are the lines split at commas (an empty line is an
+    empty row); a line at or over its field limit makes it refuse the table.
+    """
+    lines = text.replace("\r\n", "\n").split("\n")
+    at = next((k for k, line in enumerate(lines) if any(c.strip() for c in line.split(","))), None)
+    if at is None or max(map(len, lines)) > csv.field_size_limit():
+        return _csv_ids_of(text)
+    header = [c.strip() for c in lines[at].split(",")]
+    if "id" not in header:
+        return set()
+    col = header.index("id")
+    rest = lines[at + 1:]
+    if col == 0:
+        ids = {line.partition(",")[0].strip() for line in rest}
+    else:
+        ids = {cells[col].strip() for cells in (line.split(",", col + 1) for line in rest) if len(cells) > col}
+    ids.discard("")
+    return ids
+
+
+def _csv_ids_of(text: str) -> set[str]:
+    """The ``id`` cells as the ``csv`` module reads them (any table)."""
     rows = csv.reader(io.StringIO(text, newline=""))
     try:
         header = next((r for r in rows if any(c.strip() for c in r)), None)
@@ -333,6 +365,15 @@ class _SnapshotReader:
         if problems or snap is None:
             _raise(problems)
         return snap
+
+    def size(self, snapshot_id: str) -> int:
+        """The bytes of one snapshot's table files on disk now (0 for a file that cannot be found)."""
+        total = 0
+        for hit in self.specs[snapshot_id][3].values():
+            if hit is not None:
+                with contextlib.suppress(OSError):
+                    total += os.stat(hit[1]).st_size
+        return total
 
     def _raw(self, snapshot_id: str) -> tuple[Snapshot | None, Problems]:
         """One snapshot read and checked on its own, and its problems (a changed file among them)."""

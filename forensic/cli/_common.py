@@ -21,7 +21,7 @@ from forensic.exchange.writers import dumps_json
 from ._progress import progress_wanted
 
 __all__ = ["casefile_argument", "check_every_snapshot", "emit", "emit_json", "emit_xlsx", "format_options", "limit_hint", "limit_hinted", "load",
-           "fit", "pick_format", "provenance", "say", "status", "status_shown", "table_text", "terminal_width", "xlsx_option"]
+           "fit", "pick_format", "provenance", "say", "stamped_json", "status", "status_shown", "table_text", "terminal_width", "xlsx_option"]
 
 
 def casefile_argument(func: Callable) -> Callable:
@@ -273,6 +273,14 @@ def emit_json(obj: object, out: Path | None = None, casefile: Casefile | None = 
     ctx = click.get_current_context(silent=True)
     if casefile is None and ctx is not None:
         casefile = ctx.meta.get(_CASEFILE)
+    emit(stamped_json(obj, casefile), out=out, casefile=casefile, protected=protected)
+
+
+def stamped_json(obj: object, casefile: Casefile | None = None) -> str:
+    """The text :func:`emit_json` writes: ``obj`` stamped with :func:`provenance`, encoded by ``dumps_json``."""
+    if casefile is None:
+        ctx = click.get_current_context(silent=True)
+        casefile = ctx.meta.get(_CASEFILE) if ctx is not None else None
     stamp = provenance(casefile)
 
     def stamped(doc: object) -> object:
@@ -281,7 +289,7 @@ def emit_json(obj: object, out: Path | None = None, casefile: Casefile | None = 
         return {**doc, **{k: v for k, v in stamp.items() if k not in doc}}
 
     obj = [stamped(d) for d in obj] if isinstance(obj, list) else stamped(obj)
-    emit(dumps_json(obj), out=out, casefile=casefile, protected=protected)
+    return dumps_json(obj)
 
 
 def status_shown() -> bool:

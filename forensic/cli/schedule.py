@@ -16,17 +16,17 @@ from forensic.exchange.writers import to_csv
 from ._base import main
 from ._common import (
     casefile_argument,
-    check_every_snapshot,
     emit,
-    emit_json,
     emit_xlsx,
     format_options,
     limit_hinted,
     load,
     pick_format,
     say,
+    stamped_json,
     table_text,
 )
+from .snapshot_check import start_check
 
 
 @main.command("schedule")
@@ -72,17 +72,22 @@ def _no_cycle_collection() -> Iterator[None]:
 
 def _schedule_one(casefile: Path, snapshot_id: str | None, as_json: bool, as_csv: bool) -> None:
     cf = load(casefile, lazy=True)  # the snapshots read one at a time: a few held however many there are
-    with limit_hinted():  # its tables are read here, within the ceilings
+    # Every loading command refuses a casefile with a bad snapshot: the others are checked while this one
+    # is scheduled (in a second process when the casefile is large), and nothing is written before.
+    check = start_check(cf, snapshot_id)
+    with check.cancelled_on_error(), limit_hinted():  # its tables are read here, within the ceilings
         snap = cf.snapshot(snapshot_id) if snapshot_id else cf.snapshots[-1]
-    check_every_snapshot(cf)  # every loading command refuses a casefile with a bad snapshot
-    result = schedule_snapshot(cf, snap.id)
-    fmt = pick_format(as_json, as_csv)
-    if fmt == "json":
+    with limit_hinted(), check.finished_on_leaving():
+        fmt = pick_format(as_json, as_csv)
+        result = schedule_snapshot(cf, snap.id)
+        text = stamped_json(schedule_json(result)) if fmt == "json" else None
+        table = schedule_table(result, snap) if text is None else None
+    if text is not None:
         # A generator: the table is built only when --xlsx asked for a workbook.
         emit_xlsx((schedule_table(result, snap) for _ in range(1)), cf)
-        emit_json(schedule_json(result))
+        emit(text)
         return
-    table = schedule_table(result, snap)
+    assert table is not None  # not JSON: built above
     emit_xlsx([table], cf)
     if fmt == "csv":
         emit(to_csv(table))
