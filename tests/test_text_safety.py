@@ -16,6 +16,8 @@ from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from forensic.cli import main
 from forensic.core.tables import Table
@@ -139,3 +141,17 @@ def test_a_bare_comparison_operator_is_kept_as_written():
     assert neutralise("<=") == "<="
     assert neutralise("==1") == "'==1"  # an operand follows: a spreadsheet would evaluate it
     assert neutralise("=SUM(A1)") == "'=SUM(A1)"
+
+
+# The quick ASCII screen of read_text must never pass a text the full search refuses, and must pass
+# plain ASCII (the common casefile), so that the full search runs only where it can find something.
+@settings(max_examples=400, deadline=None)
+@given(st.text(alphabet=st.characters(max_codepoint=0x9F), max_size=40))
+def test_the_ascii_screen_agrees_with_the_full_search(text):
+    from forensic.casefile.csvread import find_unsafe_char, plain_ascii
+
+    data = text.encode("utf-8")
+    if plain_ascii(data, text):
+        assert find_unsafe_char(text) is None
+    elif text.isascii():
+        assert find_unsafe_char(text) is not None  # an ASCII text the screen stops has a refused character

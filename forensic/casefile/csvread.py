@@ -94,6 +94,19 @@ _NOT_ASCII_DIGIT = re.compile(r"[^\x00-\x7f]")
 _MAX_DIGITS = 15
 
 
+# The ASCII characters _UNSAFE lets through: tab, line feed, carriage return and the printable ones.
+_SAFE_ASCII = bytes([9, 10, 13, *range(32, 127)])
+
+
+def plain_ascii(data: bytes, text: str) -> bool:
+    """Whether ``text`` (decoded from ``data``) is ASCII with no character :func:`find_unsafe_char` refuses.
+
+    A quick screen for the common case (a few milliseconds for megabytes):
+    ``False`` only means the full search must look.
+    """
+    return text.isascii() and not data.translate(None, _SAFE_ASCII)
+
+
 def find_unsafe_char(text: str) -> tuple[int, str] | None:
     """The index and ``U+XXXX`` name of the first refused character of ``text``, or ``None``."""
     hit = _UNSAFE.search(text)
@@ -244,7 +257,7 @@ def read_text(path: Path, rel: str, max_bytes: int, problems: Problems, hashes: 
         bad = data[exc.start : exc.start + 1].hex()
         problems.add(rel, line, None, f"0x{bad} at byte {exc.start}", "file is not UTF-8; save it as UTF-8")
         return None
-    unsafe = find_unsafe_char(text)
+    unsafe = None if plain_ascii(data, text) else find_unsafe_char(text)
     if unsafe is not None:
         at, name = unsafe
         line = text.count("\n", 0, at) + 1
