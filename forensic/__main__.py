@@ -44,7 +44,10 @@ def run() -> None:
     _fewer_collections()
     from .cli import main
 
-    main(prog_name="forensic")
+    try:
+        main(prog_name="forensic")
+    finally:
+        _no_collections_at_exit()
 
 
 def _fewer_collections() -> None:
@@ -62,6 +65,23 @@ def _fewer_collections() -> None:
 
     _, older, oldest = gc.get_threshold()
     gc.set_threshold(100_000, older, oldest)
+
+
+def _no_collections_at_exit() -> None:
+    """Keep the objects still alive out of the collector's passes while the interpreter shuts down.
+
+    The program ends when the command returns: the interpreter then frees
+    the loaded modules and runs the cycle collector over every object still
+    alive (hundreds of thousands with numpy and pandas loaded), about 0.1 s
+    of a 1 s command on 50,000 activities. :func:`gc.freeze` moves them out
+    of its reach; they are freed by reference counting as usual, exit
+    handlers still run, and nothing outlives the process. Only the program
+    does this, when it ends (a caller running the commands in its own process
+    is not affected).
+    """
+    import gc
+
+    gc.freeze()
 
 
 if __name__ == "__main__":

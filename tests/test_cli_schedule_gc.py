@@ -60,3 +60,32 @@ def test_a_failing_command_still_gives_the_collector_back(tmp_path, monkeypatch)
     assert result.exit_code != 0 and "TOML" in result.output
     assert seen == [False]  # it failed inside the command, with the collector paused
     assert gc.isenabled()
+
+
+def test_only_the_program_keeps_its_last_objects_from_the_collector_as_it_ends(monkeypatch):
+    """``run()`` (the ``forensic`` program) freezes what is alive when the command ends, even on error.
+
+    The freeze saves the shutdown's collector passes over every object still
+    alive; a caller running the command in its own process (``main``, as
+    above) keeps every object collectable.
+    """
+    import forensic.__main__ as program
+    import forensic.cli as cli
+
+    def failing(**_kw):
+        raise SystemExit(1)
+
+    monkeypatch.setattr(cli, "main", failing)
+    monkeypatch.setattr(program.signal, "signal", lambda *_a: None)  # the test's own Ctrl-C handler stays
+    threshold = gc.get_threshold()
+    before = gc.get_freeze_count()
+    try:
+        try:
+            program.run()
+        except SystemExit as exc:
+            assert exc.code == 1
+        assert gc.get_freeze_count() > before
+    finally:
+        gc.unfreeze()
+        gc.set_threshold(*threshold)
+        program.PROGRAM = False
