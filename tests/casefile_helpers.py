@@ -153,3 +153,25 @@ def find_problem(
             return p
     listing = "\n".join(repr(p) for p in err.problems)
     raise AssertionError(f"no problem {file}, {line}, {key}, {value!r}, {says!r} in:\n{listing}")
+
+
+def break_u05_duration(folder: Path) -> str:
+    """Spoil the demo copy's U05: the duration on line 4 of its activities becomes ``ten``; its path."""
+    path = folder / "snapshots" / "U05" / "activities.csv"
+    lines = path.read_text(encoding="utf-8").splitlines(keepends=True)
+    cells = lines[3].split(",")
+    cells[3] = "ten"  # the duration of the activity on line 4
+    lines[3] = ",".join(cells)
+    path.write_text("".join(lines), encoding="utf-8")
+    return "snapshots/U05/activities.csv"
+
+
+def break_u03_lag(folder: Path) -> str:
+    """Spoil the demo copy's U03: the lag on line 2 of its links gets an ``x``; its path."""
+    path = folder / "snapshots" / "U03" / "links.csv"
+    lines = path.read_text(encoding="utf-8").splitlines(keepends=True)
+    cells = lines[1].split(",")
+    cells[3] = "x" + cells[3].strip() + "\n"  # the lag of the link on line 2
+    lines[1] = ",".join(cells)
+    path.write_text("".join(lines), encoding="utf-8")
+    return "snapshots/U03/links.csv"

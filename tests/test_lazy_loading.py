@@ -27,6 +27,7 @@ from forensic.cli import main
 from forensic.core.errors import CasefileError
 from forensic.core.model import SnapshotSequence
 from forensic.exchange.writers import dumps_json
+from tests.casefile_helpers import break_u03_lag, break_u05_duration
 
 
 @pytest.fixture(scope="module")
@@ -98,18 +99,8 @@ def test_the_windows_hold_a_few_snapshots_and_read_each_once(synthetic):
     assert max(alive) >= len(cf.snapshots) - 1
 
 
-def _break_u05(folder):
-    path = folder / "snapshots" / "U05" / "activities.csv"
-    lines = path.read_text(encoding="utf-8").splitlines(keepends=True)
-    cells = lines[3].split(",")
-    cells[3] = "ten"  # the duration of the activity on line 4
-    lines[3] = ",".join(cells)
-    path.write_text("".join(lines), encoding="utf-8")
-    return "snapshots/U05/activities.csv"
-
-
 def test_a_bad_table_in_a_later_snapshot_is_an_error_naming_file_line_and_value(demo_copy, tmp_path):
-    rel = _break_u05(demo_copy)
+    rel = break_u05_duration(demo_copy)
     with pytest.raises(CasefileError):
         load_casefile(demo_copy)  # read eagerly, the casefile is refused whole
     cf = load_casefile(demo_copy, lazy=True)
@@ -126,21 +117,11 @@ def test_a_bad_table_in_a_later_snapshot_is_an_error_naming_file_line_and_value(
     assert not list(tmp_path.glob("*.tmp*")) and sorted(p.name for p in tmp_path.iterdir()) == ["riverside"]
 
 
-def _break_u03_links(folder):
-    path = folder / "snapshots" / "U03" / "links.csv"
-    lines = path.read_text(encoding="utf-8").splitlines(keepends=True)
-    cells = lines[1].split(",")
-    cells[3] = "x" + cells[3].strip() + "\n"  # the lag of the link on line 2
-    lines[1] = ",".join(cells)
-    path.write_text("".join(lines), encoding="utf-8")
-    return "snapshots/U03/links.csv"
-
-
 @pytest.mark.parametrize("command", [["schedule", "--snapshot", "U04", "--json"],
                                      ["windows", "--windows", "U02,U06", "--json"]])
 def test_a_bad_snapshot_the_command_does_not_use_is_still_refused(demo_copy, tmp_path, command):
     """Every loading command refuses a casefile with a bad snapshot, also one it does not analyse."""
-    rel = _break_u05(demo_copy)
+    rel = break_u05_duration(demo_copy)
     out = tmp_path / "out.json"
     result = CliRunner().invoke(main, [command[0], str(demo_copy), *command[1:], "--out", str(out)])
     assert result.exit_code == 1 and rel in result.output and "'ten'" in result.output, result.output
@@ -148,7 +129,7 @@ def test_a_bad_snapshot_the_command_does_not_use_is_still_refused(demo_copy, tmp
 
 
 def test_the_snapshots_not_read_are_checked_together(demo_copy, demo):
-    bad = {_break_u05(demo_copy), _break_u03_links(demo_copy)}
+    bad = {break_u05_duration(demo_copy), break_u03_lag(demo_copy)}
     cf = load_casefile(demo_copy, lazy=True)
     assert cf.snapshot("U10") == demo.snapshot("U10")
     with pytest.raises(CasefileError) as err:

@@ -297,7 +297,7 @@ def _ids_of(text: str) -> set[str]:
     return _csv_ids_of(text)
 
 
-def _unquoted_ids_of(text: str) -> set[str] | set:
+def _unquoted_ids_of(text: str) -> set[str]:
     """:func:`_csv_ids_of` for a table with no quote and no lone carriage return, by splitting lines.
 
     With no quote character and every carriage return ending a line, the

@@ -51,7 +51,8 @@ def _check_besides(conn, snapshots: SnapshotSequence, besides: str) -> None:
     try:
         conn.send(answer)
     except Exception:  # an answer that cannot be sent is no answer: the parent checks itself
-        conn.send(("failed", "the answer could not be sent"))
+        with suppress(Exception):
+            conn.send(("failed", "the answer could not be sent"))
     finally:
         conn.close()
 
@@ -64,12 +65,12 @@ class SnapshotCheck:
         self._proc = None
         self._conn = None
         snaps = casefile.snapshots
-        if besides is None and isinstance(snaps, SnapshotSequence) and len(snaps):
+        if not isinstance(snaps, SnapshotSequence) or not len(snaps):
+            return  # read eagerly (checked whole at load), or nothing to check
+        if besides is None:
             besides = snaps.heads[-1].id  # the latest, the one a command uses by default
-        if isinstance(snaps, SnapshotSequence) and besides not in snaps.ids:
-            besides = None  # an unknown id: the command refuses it, nothing to check aside
-        if besides is None or not isinstance(snaps, SnapshotSequence) or not self._worth_it(snaps, besides):
-            return
+        if besides not in snaps.ids or not self._worth_it(snaps, besides):
+            return  # an unknown id is the command's to refuse; a small casefile is checked at finish
         try:
             ctx = multiprocessing.get_context("fork")
             parent, child = ctx.Pipe(duplex=False)
