@@ -155,15 +155,20 @@ def find_problem(
     raise AssertionError(f"no problem {file}, {line}, {key}, {value!r}, {says!r} in:\n{listing}")
 
 
-def break_u05_duration(folder: Path) -> str:
-    """Spoil the demo copy's U05: the duration on line 4 of its activities becomes ``ten``; its path."""
-    path = folder / "snapshots" / "U05" / "activities.csv"
+def break_duration(folder: Path, snapshot: str = "U05") -> str:
+    """Spoil a demo copy's snapshot: the duration on line 4 of its activities becomes ``ten``; its path."""
+    path = folder / "snapshots" / snapshot / "activities.csv"
     lines = path.read_text(encoding="utf-8").splitlines(keepends=True)
     cells = lines[3].split(",")
     cells[3] = "ten"  # the duration of the activity on line 4
     lines[3] = ",".join(cells)
     path.write_text("".join(lines), encoding="utf-8")
-    return "snapshots/U05/activities.csv"
+    return f"snapshots/{snapshot}/activities.csv"
+
+
+def break_u05_duration(folder: Path) -> str:
+    """:func:`break_duration` on U05."""
+    return break_duration(folder, "U05")
 
 
 def break_u03_lag(folder: Path) -> str:

@@ -26,6 +26,7 @@ from forensic.cli.windows_jobs import (
     jobs_for,
 )
 from forensic.core.errors import CasefileError
+from tests.casefile_helpers import break_duration
 
 
 def _windows(args):
@@ -62,18 +63,13 @@ def test_the_analysis_equals_analyse_delay():
 
 def test_a_bad_snapshot_read_by_a_worker_is_refused_as_in_one_process(tmp_path):
     folder = shutil.copytree(demo_source(), tmp_path / "riverside")
-    path = folder / "snapshots" / "U07" / "activities.csv"
-    lines = path.read_text(encoding="utf-8").splitlines(keepends=True)
-    cells = lines[3].split(",")
-    cells[3] = "ten"  # the duration of the activity on line 4
-    lines[3] = ",".join(cells)
-    path.write_text("".join(lines), encoding="utf-8")
+    broken = break_duration(folder, "U07")
     out = tmp_path / "w.json"
     outputs = []
     for jobs in ("1", "2"):
         result = CliRunner().invoke(main, ["windows", str(folder), "--json", "--jobs", jobs, "--out", str(out)])
         assert result.exit_code == 1
-        assert "snapshots/U07/activities.csv" in result.output and "line 4" in result.output and "ten" in result.output
+        assert broken in result.output and "line 4" in result.output and "ten" in result.output
         assert not out.exists()
         outputs.append(result.output)
     assert outputs[0] == outputs[1]
