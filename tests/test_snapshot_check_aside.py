@@ -27,7 +27,7 @@ from forensic.cli import main, snapshot_check
 from forensic.cli import schedule as schedule_cli
 from forensic.cli.snapshot_check import SnapshotCheck
 from forensic.core.model import SnapshotSequence
-from tests.casefile_helpers import break_u03_lag, break_u05_duration
+from tests.casefile_helpers import break_duration, break_u03_lag, break_u05_duration
 
 pytestmark = pytest.mark.skipif(not sys.platform.startswith("linux"), reason="the check runs aside on Linux only")
 
@@ -150,7 +150,7 @@ def test_a_worker_that_dies_leaves_the_check_to_the_command(demo_copy, aside, mo
     def dies(conn, *_args):
         os._exit(3)
 
-    monkeypatch.setattr(snapshot_check, "_check_besides", dies)
+    monkeypatch.setattr(snapshot_check, "_check_these", dies)
     rel = break_u05_duration(demo_copy)
     cf = load_casefile(demo_copy, lazy=True)
     check = SnapshotCheck(cf, "U04")
@@ -165,7 +165,7 @@ def test_a_worker_with_an_unexpected_error_leaves_the_check_to_the_command(demo_
         conn.send(("failed", "MemoryError()"))
         conn.close()
 
-    monkeypatch.setattr(snapshot_check, "_check_besides", boom)
+    monkeypatch.setattr(snapshot_check, "_check_these", boom)
     cf, reader = _counted(demo_copy)
     check = SnapshotCheck(cf, None)
     assert check.aside
@@ -191,3 +191,113 @@ def test_ids_read_by_splitting_lines_are_the_csv_modules(lines, end):
 def test_ids_by_splitting_on_hand_cases(text):
     # Worked by hand: the header is the first line with a non-blank cell; "C" has no id cell; blanks stripped.
     assert reading._unquoted_ids_of(text) == reading._csv_ids_of(text)
+
+
+# --- The check cut into runs, one a process -------------------------------------------------------
+
+@settings(max_examples=300, deadline=None)
+@given(st.lists(st.integers(min_value=0, max_value=1000), min_size=1, max_size=30), st.data())
+def test_runs_are_consecutive_none_empty_and_about_equal(sizes, data):
+    k = data.draw(st.integers(min_value=1, max_value=len(sizes)))
+    ids = [f"S{i}" for i in range(len(sizes))]
+    runs = snapshot_check.consecutive_runs(ids, sizes, k)
+    assert len(runs) == k and all(runs) and [i for run in runs for i in run] == ids
+    # Each run holds at most its share of the whole and one snapshot more (a cut falls at the first
+    # snapshot whose running total reaches the next share).
+    at = dict(zip(ids, sizes, strict=True))
+    assert all(sum(map(at.get, run)) <= sum(sizes) / k + max(sizes) for run in runs)
+
+
+def test_runs_on_hand_worked_cases():
+    # Worked by hand. Sizes 5,1,1,1,1,1 in 2 runs: half of 10 is reached at the first: [a] [b-f], 5 and 5.
+    assert snapshot_check.consecutive_runs("abcdef", [5, 1, 1, 1, 1, 1], 2) == [["a"], ["b", "c", "d", "e", "f"]]
+    # Four equal in 2: half reached at the second. In 3: shares 1.33 and 2.67 reached at b and c.
+    assert snapshot_check.consecutive_runs("abcd", [1, 1, 1, 1], 2) == [["a", "b"], ["c", "d"]]
+    assert snapshot_check.consecutive_runs("abcd", [1, 1, 1, 1], 3) == [["a", "b"], ["c"], ["d"]]
+    # One large last snapshot: every run but the last keeps one snapshot for each run after it.
+    assert snapshot_check.consecutive_runs("abc", [1, 1, 100], 3) == [["a"], ["b"], ["c"]]
+    assert snapshot_check.consecutive_runs("abc", [0, 0, 0], 3) == [["a"], ["b"], ["c"]]
+    with pytest.raises(ValueError, match="cannot cut 2 ids into 3 runs"):
+        snapshot_check.consecutive_runs("ab", [1, 1], 3)
+
+
+def test_the_check_takes_a_process_a_core(demo_copy, aside, monkeypatch):
+    cf = load_casefile(demo_copy, lazy=True)
+    check = SnapshotCheck(cf, None)
+    assert check.processes == 2  # the aside fixture says two cores
+    check.finish()
+    monkeypatch.setattr(snapshot_check, "_cores", lambda: 3)
+    check = SnapshotCheck(cf, "U04")
+    assert check.processes == 3
+    check.finish()
+    # A run is never smaller than ASIDE_FROM_BYTES: the demo's other snapshots hold one run of that size.
+    total = sum(cf.snapshots.read.size(i) for i in cf.snapshot_ids if i != "U04")
+    monkeypatch.setattr(snapshot_check, "ASIDE_FROM_BYTES", total // 2 + 1)
+    check = SnapshotCheck(cf, "U04")
+    assert check.processes == 1
+    check.finish()
+
+
+def _runs_of(folder, besides="U10"):
+    cf = load_casefile(folder, lazy=True)
+    return SnapshotCheck._runs(cf.snapshots, besides)
+
+
+def test_problems_of_two_runs_come_in_snapshot_order(demo_copy, monkeypatch):
+    bad = [break_u03_lag(demo_copy), break_duration(demo_copy, "U08")]
+    monkeypatch.setattr(snapshot_check, "ASIDE_FROM_BYTES", 1 << 60)
+    here = _refusal(demo_copy, ["--json"])
+    monkeypatch.setattr(snapshot_check, "ASIDE_FROM_BYTES", 0)
+    monkeypatch.setattr(snapshot_check, "_cores", lambda: 2)
+    runs = _runs_of(demo_copy)
+    assert len(runs) == 2 and "U03" in runs[0] and "U08" in runs[1]  # the two bad ones in different processes
+    text = _refusal(demo_copy, ["--json"])
+    assert text == here and text.index(bad[0]) < text.index(bad[1]), text
+
+
+def test_a_ceiling_hit_in_a_later_run_is_raised_alone(demo_copy, monkeypatch):
+    # As in one process: the problems of U03 are dropped when U09 (163 activities) is over the ceiling
+    # of 162, a ceiling met when its table is read (U04, scheduled, has 155; U10 is over it too).
+    break_u03_lag(demo_copy)
+    args = ["--max-activities", "162", "schedule", str(demo_copy), "--snapshot", "U04", "--json"]
+    monkeypatch.setattr(snapshot_check, "ASIDE_FROM_BYTES", 1 << 60)
+    here = _run(args)
+    monkeypatch.setattr(snapshot_check, "ASIDE_FROM_BYTES", 0)
+    monkeypatch.setattr(snapshot_check, "_cores", lambda: 2)
+    runs = _runs_of(demo_copy, "U04")
+    assert len(runs) == 2 and "U03" in runs[0] and "U09" in runs[1]
+    aside_ = _run(args)
+    assert here.exit_code == aside_.exit_code == 1
+    assert aside_.output == here.output and "U09" in here.output and "U03" not in here.output, here.output
+
+
+def test_a_run_that_dies_beside_a_refusing_one_leaves_the_whole_check_here(demo_copy, aside, monkeypatch):
+    real = snapshot_check._check_these
+
+    def dies_on_u08(conn, snaps, run):
+        if "U08" in run:
+            os._exit(3)
+        real(conn, snaps, run)
+
+    bad = {break_u03_lag(demo_copy), break_duration(demo_copy, "U08")}
+    monkeypatch.setattr(snapshot_check, "_check_these", dies_on_u08)
+    cf = load_casefile(demo_copy, lazy=True)
+    check = SnapshotCheck(cf, None)
+    assert check.processes == 2
+    with pytest.raises(reading.CasefileError) as err:
+        check.finish()  # one run refused, one gave no answer: the refused and the silent run checked here
+    assert {p.file for p in err.value.problems} == bad
+
+
+def test_merged_answers_on_hand_built_errors():
+    from forensic.core.errors import CasefileError, InputProblem, LimitExceeded
+
+    p1 = InputProblem("snapshots/U03/links.csv", 2, "lag", "x1", "not a whole number")
+    p2 = InputProblem("snapshots/U08/activities.csv", 4, "duration", "ten", "not a whole number")
+    ceiling = LimitExceeded([InputProblem("snapshots/U09/activities.csv", None, None, "2 MiB", "over 1 MiB")])
+    merged = snapshot_check._merged([("refused", CasefileError([p1])), ("checked", ["U05"]),
+                                     ("refused", CasefileError([p2]))])
+    assert type(merged) is CasefileError and merged.problems == (p1, p2)
+    assert str(merged) == str(CasefileError([p1, p2]))
+    assert snapshot_check._merged([("refused", CasefileError([p1])), ("refused", ceiling)]) is ceiling
+    assert snapshot_check._merged([("checked", ["BL"]), ("checked", ["U01"])]) is None

@@ -73,7 +73,7 @@ def _no_cycle_collection() -> Iterator[None]:
 def _schedule_one(casefile: Path, snapshot_id: str | None, as_json: bool, as_csv: bool) -> None:
     cf = load(casefile, lazy=True)  # the snapshots read one at a time: a few held however many there are
     # Every loading command refuses a casefile with a bad snapshot: the others are checked while this one
-    # is scheduled (in a second process when the casefile is large), and nothing is written before.
+    # is scheduled (in other processes when the casefile is large), and nothing is written before.
     check = start_check(cf, snapshot_id)
     with check.cancelled_on_error(), limit_hinted():  # its tables are read here, within the ceilings
         snap = cf.snapshot(snapshot_id) if snapshot_id else cf.snapshots[-1]
