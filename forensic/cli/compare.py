@@ -17,11 +17,13 @@ from ._common import (
     emit_json,
     emit_xlsx,
     format_options,
+    limit_hinted,
     load,
     pick_format,
     say,
     table_text,
 )
+from .snapshot_check import start_check
 
 _HEADINGS = {
     "activity-added": "Activities added",
@@ -66,8 +68,14 @@ def compare_command(casefile: Path, old: str, new: str, as_json: bool, as_csv: b
     Example: forensic compare forensic-demo/riverside U01 U02 --json
 
     """
-    cf = load(casefile)
-    result = compare_snapshots(cf, old, new)
+    cf = load(casefile, lazy=True)  # the two snapshots read here, the others checked meanwhile
+    check = start_check(cf, [i for i in (old, new) if i in cf.snapshot_ids])
+    with limit_hinted():
+        with check.whole_error_on_error(lambda: load(casefile)):
+            for sid in (old, new):
+                cf.snapshot(sid)  # a bad one refuses the casefile as the whole read does; unknown ids here
+        with check.finished_on_leaving():
+            result = compare_snapshots(cf, old, new)
     if result.old_data_date > result.new_data_date:
         # Allowed (a reviewer may want it), but almost always a slip: say so on stderr.
         click.echo(f"warning: the order is reversed: OLD {result.old_id} (data date {result.old_data_date.isoformat()}) "

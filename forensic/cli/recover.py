@@ -23,11 +23,13 @@ from ._common import (
     emit_json,
     emit_xlsx,
     format_options,
+    limit_hinted,
     load,
     say,
     status,
     table_text,
 )
+from .snapshot_check import start_check
 
 
 @main.command("recover")
@@ -64,7 +66,12 @@ def recover_command(
     """
     if (target is None) == (days is None):
         raise click.UsageError("give one of --target DATE and --days N")
-    cf = load(casefile)
+    cf = load(casefile, lazy=True)  # the snapshot read here, the others checked meanwhile
+    check = start_check(cf, [snapshot_id] if snapshot_id in cf.snapshot_ids else [])
+    with limit_hinted(), check.whole_error_on_error(lambda: load(casefile)):
+        cf.snapshot(snapshot_id)  # a bad one refuses the casefile as the whole read does; an unknown id here
+    with limit_hinted():
+        check.finish()  # before the solver's run, which may take minutes: a bad casefile is refused at once
     wanted: date | None = target.date() if target is not None else None
     status(f"Planning the recovery on {snapshot_id} (time limit {time_limit:g} s; Ctrl-C stops) ...")
     result = recover(cf, snapshot_id, target=wanted, days=days, objective=objective, time_limit=time_limit)

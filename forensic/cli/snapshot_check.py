@@ -24,7 +24,7 @@ import multiprocessing
 import os
 import sys
 from bisect import bisect_left
-from collections.abc import Iterator, Sequence
+from collections.abc import Callable, Iterator, Sequence
 from contextlib import contextmanager, suppress
 from itertools import accumulate
 
@@ -107,7 +107,7 @@ def _merged(answers: list[tuple]) -> CasefileError | None:
 class SnapshotCheck:
     """The check of a casefile's other snapshots, running aside or to be run at :meth:`finish`."""
 
-    def __init__(self, casefile: Casefile, besides: str | None) -> None:
+    def __init__(self, casefile: Casefile, besides: str | Sequence[str] | None) -> None:
         self.casefile = casefile
         self._procs: list = []
         self._conns: list = []
@@ -116,9 +116,10 @@ class SnapshotCheck:
             return  # read eagerly (checked whole at load), or nothing to check
         if besides is None:
             besides = snaps.heads[-1].id  # the latest, the one a command uses by default
-        if besides not in snaps.ids:
+        used = (besides,) if isinstance(besides, str) else tuple(besides)
+        if not set(used) <= set(snaps.ids):
             return  # an unknown id is the command's to refuse
-        runs = self._runs(snaps, besides)
+        runs = self._runs(snaps, used)
         if not runs:
             return  # a small casefile, one core, no fork: checked at finish
         try:
@@ -137,14 +138,15 @@ class SnapshotCheck:
             self.cancel()
 
     @staticmethod
-    def _runs(snaps: SnapshotSequence, besides: str) -> list[list[str]]:
+    def _runs(snaps: SnapshotSequence, besides: str | Sequence[str]) -> list[list[str]]:
         """The runs of other snapshots to check aside, one a process; none where it does not pay."""
         if not sys.platform.startswith("linux") or _cores() < 2:
             return []
         size = getattr(snaps.read, "size", None)
         if size is None:
             return []
-        others = [h.id for h in snaps.heads if h.id != besides]
+        used = {besides} if isinstance(besides, str) else set(besides)
+        others = [h.id for h in snaps.heads if h.id not in used]
         sizes = [size(i) for i in others]
         total = sum(sizes)
         if not others or total < ASIDE_FROM_BYTES:
@@ -202,6 +204,27 @@ class SnapshotCheck:
             raise
 
     @contextmanager
+    def whole_error_on_error(self, read_whole: Callable[[], object]) -> Iterator[None]:
+        """A block reading the snapshots asked for; on an error in it the casefile is read whole first.
+
+        The check is stopped and ``read_whole`` (the eager load) called: a
+        casefile with a bad snapshot raises its error there, listing the
+        problems of every bad snapshot in order, as the command did when it
+        read the casefile whole before anything else; a good one lets the
+        block's own error (an unknown id, say) pass. An interrupt only stops
+        the check.
+        """
+        try:
+            yield
+        except Exception:
+            self.cancel()
+            read_whole()  # raises the whole casefile's error, if it has one
+            raise
+        except BaseException:
+            self.cancel()
+            raise
+
+    @contextmanager
     def finished_on_leaving(self) -> Iterator[None]:
         """A block after which the check must have answered; its error comes before the block's own.
 
@@ -236,6 +259,10 @@ class SnapshotCheck:
         self._procs, self._conns = [], []
 
 
-def start_check(casefile: Casefile, besides: str | None) -> SnapshotCheck:
-    """Start checking every snapshot of ``casefile`` but ``besides`` (the latest if ``None``), aside where it pays."""
+def start_check(casefile: Casefile, besides: str | Sequence[str] | None) -> SnapshotCheck:
+    """Start checking every snapshot of ``casefile`` but ``besides`` (the latest if ``None``), aside where it pays.
+
+    ``besides`` is the id of the snapshot the command reads itself, or the
+    ids of those it reads (``compare`` reads two).
+    """
     return SnapshotCheck(casefile, besides)
