@@ -1,4 +1,4 @@
-"""``compare`` and ``recover`` read only the snapshots they use and check the others meanwhile (issue 20).
+"""``schedule``, ``compare`` and ``recover`` read only the snapshots they use and check the others meanwhile (issue 20).
 
 They used to read the whole casefile before anything else. Now they read
 their own snapshots first and the others are checked aside (in forked
@@ -25,6 +25,7 @@ from forensic.core.errors import CasefileError
 from tests.casefile_helpers import break_duration, break_u03_lag
 
 COMMANDS = {
+    "schedule": ["schedule", "{c}", "--snapshot", "U05", "--json"],
     "compare": ["compare", "{c}", "U04", "U05", "--json"],
     "recover": ["recover", "{c}", "--snapshot", "U05", "--days", "2", "--json"],
 }
@@ -82,7 +83,7 @@ def test_a_bad_snapshot_not_used_is_refused_as_the_whole_read_refuses(demo_copy,
 
 @pytest.mark.parametrize("command", COMMANDS)
 def test_a_bad_snapshot_used_is_refused_with_every_other_problem(demo_copy, mode, command):
-    # U05 is read by both commands; the whole read also names U03 and U08, so the command does too.
+    # U05 is read by each command; the whole read also names U03 and U08, so the command does too.
     for sid in ("U05", "U08"):
         break_duration(demo_copy, sid)
     break_u03_lag(demo_copy)
@@ -92,18 +93,22 @@ def test_a_bad_snapshot_used_is_refused_with_every_other_problem(demo_copy, mode
     assert text in result.output and all(s in text for s in ("U03", "U05", "U08")), result.output
 
 
+def _unknown_id(folder):
+    c = str(folder)
+    return (["schedule", c, "--snapshot", "U99"], ["compare", c, "U04", "U99"],
+            ["recover", c, "--snapshot", "U99", "--days", "2"])
+
+
 def test_an_unknown_id_in_a_bad_casefile_gets_the_casefile_error_first(demo_copy, mode):
     break_duration(demo_copy, "U08")
-    for args in (["compare", str(demo_copy), "U04", "U99"], ["recover", str(demo_copy), "--snapshot", "U99",
-                                                             "--days", "2"]):
+    for args in _unknown_id(demo_copy):
         result = CliRunner().invoke(main, args)
         assert result.exit_code == 1
         assert _whole_error(demo_copy) in result.output and "U99" not in result.output, result.output
 
 
 def test_an_unknown_id_in_a_good_casefile_is_named(demo_copy, mode):
-    for args in (["compare", str(demo_copy), "U04", "U99"], ["recover", str(demo_copy), "--snapshot", "U99",
-                                                             "--days", "2"]):
+    for args in _unknown_id(demo_copy):
         result = CliRunner().invoke(main, args)
         assert result.exit_code == 1 and "no snapshot 'U99'" in result.output, result.output
 

@@ -2,8 +2,9 @@
 
 The check aside must say exactly what the check in the command's own
 process says: the same output when every snapshot is good, the same error
-(file, line, value) when one it does not schedule is bad, the error of the
-snapshot asked for alone when that one is bad (as before: it is read first),
+(file, line, value) when one it does not schedule is bad, the whole
+casefile's error when the snapshot asked for is bad (it is read first, and
+then the casefile whole, as the command did before it read lazily),
 and the check's error before the command's own when both fail. A worker that
 dies is no answer: the command checks in its own process.
 """
@@ -128,11 +129,17 @@ def test_both_modes_word_the_refusal_alike(demo_copy, monkeypatch):
     assert _refusal(demo_copy, ["--json"]) == here
 
 
-def test_a_bad_snapshot_asked_for_is_refused_alone_as_before(demo_copy, aside):
+@pytest.mark.parametrize("mode", ["aside", "in_process"])
+def test_a_bad_snapshot_asked_for_is_refused_with_every_other_problem(demo_copy, request, mode):
+    # Read first and refused: the check is stopped and the casefile read whole, so the error is the
+    # eager loader's, naming U03 too, as when the command read the casefile whole before anything else.
+    request.getfixturevalue(mode)
     rel = break_u05_duration(demo_copy)
     other = break_u03_lag(demo_copy)
     text = _refusal(demo_copy, ["--snapshot", "U05", "--json"])
-    assert rel in text and other not in text, text  # read first, refused first: the check is stopped
+    with pytest.raises(reading.CasefileError) as err:
+        load_casefile(demo_copy)
+    assert str(err.value) in text and rel in text and other in text, text
 
 
 def test_the_check_comes_before_an_error_of_the_command(demo_copy, aside, monkeypatch):

@@ -75,7 +75,9 @@ def _schedule_one(casefile: Path, snapshot_id: str | None, as_json: bool, as_csv
     # Every loading command refuses a casefile with a bad snapshot: the others are checked while this one
     # is scheduled (in other processes when the casefile is large), and nothing is written before.
     check = start_check(cf, snapshot_id)
-    with check.cancelled_on_error(), limit_hinted():  # its tables are read here, within the ceilings
+    # Its tables are read here, within the ceilings; on an error the casefile is read whole, so a bad
+    # casefile is refused with every bad snapshot's problems, as when it was read whole first.
+    with limit_hinted(), check.whole_error_on_error(lambda: load(casefile)):
         snap = cf.snapshot(snapshot_id) if snapshot_id else cf.snapshots[-1]
     with limit_hinted(), check.finished_on_leaving():
         fmt = pick_format(as_json, as_csv)

@@ -195,15 +195,6 @@ class SnapshotCheck:
         snaps.check_rest()  # here: whatever was not checked aside (all of it without a second process)
 
     @contextmanager
-    def cancelled_on_error(self) -> Iterator[None]:
-        """A block whose error ends the command first (reading the snapshot asked for): the check is stopped."""
-        try:
-            yield
-        except BaseException:
-            self.cancel()
-            raise
-
-    @contextmanager
     def whole_error_on_error(self, read_whole: Callable[[], object]) -> Iterator[None]:
         """A block reading the snapshots asked for; on an error in it the casefile is read whole first.
 
