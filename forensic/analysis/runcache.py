@@ -19,6 +19,10 @@ Rules
 * The key holds the project settings except the concurrency rule: an entry
   must not depend on that rule (no schedule, window run, as-built schedule
   or attribution before the rule is applied reads it).
+* A :meth:`RunCache.scoped` cache serves its parent's entries and keeps
+  what it computes itself, which goes when the scoped cache goes: a step
+  whose results no later step reuses (a sensitivity row under other
+  settings) keeps the memory it needs only while it runs.
 """
 
 from __future__ import annotations
@@ -40,16 +44,36 @@ _FAMILY = tuple(f.name for f in fields(Casefile) if f.name != "project")
 class RunCache:
     """What one call has computed, keyed by the inputs' identity and the settings (see the module notes)."""
 
-    def __init__(self) -> None:
+    def __init__(self, parent: RunCache | None = None) -> None:
+        self._parent = parent
         self._family: Casefile | None = None
         self._store: dict[tuple, tuple[tuple[object, ...], object]] = {}
 
+    def scoped(self) -> RunCache:
+        """A cache that serves this one's entries and keeps its own (see the module notes)."""
+        return RunCache(self)
+
+    def __len__(self) -> int:
+        """How many entries this cache keeps itself (not its parent's)."""
+        return len(self._store)
+
     def serves(self, casefile: Casefile) -> bool:
         """Whether ``casefile`` differs from the first one seen in its project settings at most."""
+        if self._parent is not None:
+            return self._parent.serves(casefile)
         if self._family is None:
             self._family = casefile
             return True
         return all(getattr(casefile, n) is getattr(self._family, n) for n in _FAMILY)
+
+    def _found(self, key: tuple, objs: tuple[object, ...]) -> tuple[bool, object]:
+        """The entry for ``key`` computed from these very objects, here or in a parent."""
+        hit = self._store.get(key)
+        if hit is not None and all(a is b for a, b in zip(hit[0], objs, strict=True)):
+            return True, hit[1]
+        if self._parent is not None:
+            return self._parent._found(key, objs)
+        return False, None
 
     def get(self, casefile: Casefile, kind: str, objects: Sequence[object], compute: Callable[[], T],
             extra: Hashable = ()) -> T:
@@ -62,9 +86,9 @@ class RunCache:
             return compute()
         objs = tuple(objects)
         key = (kind, tuple(id(o) for o in objs), extra, replace(casefile.project, concurrency=""))
-        hit = self._store.get(key)
-        if hit is not None and all(a is b for a, b in zip(hit[0], objs, strict=True)):
-            return hit[1]  # type: ignore[return-value]
+        found, known = self._found(key, objs)
+        if found:
+            return known  # type: ignore[return-value]
         value = compute()
         self._store[key] = (objs, value)
         return value

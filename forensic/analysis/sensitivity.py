@@ -68,7 +68,9 @@ def sensitivity_rows(casefile: Casefile, base: DelayAnalysis, tolerance: int,
     lets the rows share what they have in common: the schedules of the
     same updates under the same settings, the windows a grouping shares
     with another, and everything but the treatment of the concurrent days
-    for a row that changes only the concurrency rule.
+    for a row that changes only the concurrency rule. What a row adds that
+    no later row reuses is kept in a scoped cache and let go when it is no
+    longer needed, so the caller's cache is left as the analysis left it.
     """
     runs = base.windows.runs
     bounds = [r.window.from_id for r in runs] + [runs[-1].window.to_id]
@@ -95,8 +97,18 @@ def sensitivity_rows(casefile: Casefile, base: DelayAnalysis, tolerance: int,
         if rule != casefile.project.concurrency:
             variants.append(("concurrency rule", rule,
                              replace(casefile, project=replace(casefile.project, concurrency=rule)), None))
+    # What a row computes that no later row reuses is kept only while it is needed (a scoped cache):
+    # the groupings (listed first) share theirs with each other; a row under other project settings
+    # keeps its own; a concurrency-rule row reuses the analysis as run, which the caller's cache holds.
+    grouping = cache.scoped() if cache is not None else None
     for setting, value, variant_casefile, variant_bounds in variants:
         progress(f"sensitivity: {setting} {value}")
-        delay = analyse_delay(variant_casefile, variant_bounds, cache=cache)
+        if setting != "window grouping":
+            grouping = None  # the groupings are done: their runs go
+        if cache is None or setting == "concurrency rule":
+            row_cache = cache
+        else:
+            row_cache = grouping if setting == "window grouping" else cache.scoped()
+        delay = analyse_delay(variant_casefile, variant_bounds, cache=row_cache)
         rows.append(_row(setting, value, delay, ref, tolerance))
     return tuple(rows)
