@@ -101,3 +101,30 @@ def test_completion_and_columns_in_any_order_agree_with_the_records(cf, snap):
     for k, aid in enumerate(backwards[:50]):
         rec = result.activities[aid]
         assert tuple(cols[name][k] for name in cols) == tuple(getattr(rec, name) for name in cols)
+
+
+def _fields_typed(record) -> list:
+    from dataclasses import astuple
+
+    return _typed(astuple(record))
+
+
+def test_the_first_records_made_without_lists_equal_those_made_from_lists(monkeypatch):
+    # A result's first records are read from its arrays one value at a time (engine._LISTS_FROM); from
+    # then on the arrays are lists. Either way each record is the same, value for value and type for type.
+    from forensic.core import engine
+
+    cf = generate_casefile(300, updates=2, seed=5)
+    snap = cf.snapshots[-1]
+    sparse = schedule(snap, cf.calendars, cf.project)
+    order, k = list(sparse.order), engine._LISTS_FROM
+    assert len(order) > k  # both ways are met
+    first = [sparse.activities[a] for a in order[:k]]
+    assert sparse.activities._lists is None  # no list made for the first records
+    rest = [sparse.activities[a] for a in order[k:]]
+    assert sparse.activities._lists is not None
+    monkeypatch.setattr(engine, "_LISTS_FROM", 0)
+    dense = schedule(snap, cf.calendars, cf.project)
+    want = [dense.activities[a] for a in order]
+    assert [_fields_typed(x) for x in first + rest] == [_fields_typed(x) for x in want]
+    assert {x.status for x in want} == {"finished", "in-progress", "not-started"}

@@ -337,9 +337,11 @@ class _ActivityTable(Mapping):
         return [tuple(named[start[i]:start[i + 1]]) for i in at]
 
     def _make(self, i: int) -> ScheduledActivity:
-        if self._lists is None:
-            self._lists = {k: v.tolist() for k, v in self._cols.items()}
         c = self._lists
+        if c is None and len(self._made) >= _LISTS_FROM:
+            c = self._lists = {k: v.tolist() for k, v in self._cols.items()}
+        elif c is None:  # one of the first few records: its values alone, the arrays not copied to lists
+            c = {k: {i: v[i].item()} for k, v in self._cols.items()}
         fdn = from_day_number
         drivers = tuple(self._ids[p] for p in self._driving_of(i))
         if c["status"][i] == 2:
@@ -362,6 +364,11 @@ class _ActivityTable(Mapping):
 
 
 _FIELDS = tuple(f.name for f in fields(ScheduledActivity))
+_LISTS_FROM = 256
+"""A result's arrays become lists (quicker to read a record from) once this many of its records are made.
+
+Many results are asked for a few records only (the completion, a path); copying every column to
+Python lists for them held about 7 MB a result of 20,000 activities until the result went."""
 _STATUS_NAMES = np.array(["not-started", "in-progress", "finished"], dtype=object)
 
 
