@@ -123,3 +123,26 @@ def test_the_sensitivity_rows_leave_the_callers_cache_as_the_analysis_left_it(de
     assert len(cache) == kept
     assert {r.setting for r in rows} >= {"window grouping", "progress logic", "critical float", "concurrency rule"}
     assert rows == sensitivity_rows(demo, analyse_delay(demo), 2, lambda _s: None)
+
+
+def test_a_time_impact_is_computed_once_a_call_and_equals_it_afresh(demo):
+    ids = [e.id for e in demo.events]
+    cache = RunCache()
+    first = time_impacts(demo, ids, cache=cache)
+    again = time_impacts(demo, ids, cache=cache)
+    assert all(a is b for a, b in zip(first.individual, again.individual, strict=True))  # served, not recomputed
+    assert first == time_impacts(demo, ids)
+    override = replace(demo, project=replace(demo.project, progress_logic="override"))
+    assert time_impacts(override, ids, cache=cache) == time_impacts(override, ids)  # other settings: afresh
+
+
+def test_a_summary_sharing_the_callers_cache_equals_one_on_its_own(demo):
+    # As the report does: its windows analysis, time impacts and but-for in one cache, then the summary.
+    from forensic.analysis.eot import delay_summary, eot_json
+
+    cache = RunCache()
+    delay = analyse_delay(demo, cache=cache)
+    time_impacts(demo, cache=cache)
+    but_for(demo, cache=cache)
+    shared = delay_summary(demo, delay=delay, cache=cache)
+    assert dumps_json(eot_json(shared)) == dumps_json(eot_json(delay_summary(demo)))

@@ -284,6 +284,7 @@ def delay_summary(
     delay: DelayAnalysis | None = None,
     sensitivity: bool = True,
     progress: Callable[[str], None] | None = None,
+    cache: RunCache | None = None,
 ) -> DelaySummary:
     """The delay summary per event of ``casefile`` (see the module notes).
 
@@ -297,6 +298,10 @@ def delay_summary(
         Re-run the windows analysis under the alternative settings.
     progress : callable, optional
         Called with each step's name.
+    cache : RunCache, optional
+        The caller's cache for this casefile (a report shares its schedules,
+        window runs, time impacts and as-built schedule with the summary);
+        by default one made for this call.
 
     References
     ----------
@@ -310,7 +315,8 @@ def delay_summary(
     if not casefile.events:
         msg = "the casefile records no event; there is nothing to summarise per event"
         raise NotFoundError(msg)
-    cache = RunCache()  # this call's: the methods and sensitivity rows share their schedules
+    if cache is None:
+        cache = RunCache()  # this call's: the methods and sensitivity rows share their schedules
     step("windows analysis")
     delay = delay or analyse_delay(casefile, casefile.windows or None, cache=cache)
     own, shared, rest = windows_by_event(delay)

@@ -279,6 +279,16 @@ def time_impact(
     AACE RP 52R-06; AACE RP 29R-03, MIP 3.6; SCL Protocol 2nd ed.
     """
     ids = [event_id] if isinstance(event_id, str) else list(event_id)
+    if cache is None:
+        return _time_impact(casefile, ids, into, progress_to_event, record, None)
+    # A result is plain data (no schedule), computed once a call: a report and its delay summary share it.
+    return cache.get(casefile, "time impact", (), extra=(tuple(ids), into, progress_to_event),
+                     compute=lambda: _time_impact(casefile, ids, into, progress_to_event, record, cache))
+
+
+def _time_impact(casefile: Casefile, ids: list[str], into: str | None, progress_to_event: bool,
+                 record: ScheduleResult | None, cache: RunCache | None) -> ImpactResult:
+    """:func:`time_impact` computed (``record`` only saves scheduling the last update again)."""
     events = sorted((casefile.event(e) for e in ids), key=lambda e: (e.start, e.id))
     snap = casefile.snapshot(into) if into else unimpacted_snapshot(casefile, events[0])
     cals, project = casefile.calendars, casefile.project

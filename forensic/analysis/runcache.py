@@ -17,8 +17,8 @@ Rules
   very object of the first casefile the cache saw (a sensitivity row changes
   the project settings only); any other casefile is computed afresh.
 * The key holds the project settings except the concurrency rule: an entry
-  must not depend on that rule (no schedule, window run, as-built schedule
-  or attribution before the rule is applied reads it).
+  must not depend on that rule (no schedule, window run, as-built schedule,
+  time impact or attribution before the rule is applied reads it).
 * A :meth:`RunCache.scoped` cache serves its parent's entries and keeps
   what it computes itself, which goes when the scoped cache goes: a step
   whose results no later step reuses (a sensitivity row under other

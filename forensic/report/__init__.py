@@ -23,6 +23,7 @@ from forensic.analysis.compare import compare_snapshots
 from forensic.analysis.impact import time_impacts
 from forensic.analysis.quality.assessment import assess_casefile
 from forensic.analysis.recovery.acceleration import recover
+from forensic.analysis.runcache import RunCache
 from forensic.analysis.trend import completion_trend
 from forensic.core.model import Casefile
 from forensic.core.version import __version__
@@ -110,12 +111,13 @@ def _gather(casefile: Casefile, tpl: Template, command: str, recover_days: int |
     kinds = set(tpl.kinds())
     many = len(casefile.snapshots) > 1
     delay = impacts = recovery = None
+    cache = RunCache()  # the report's analyses and its delay summary share their schedules and runs
     if kinds & {"windows", "slip-by-party", "ledger", "float-ledger", "summary", "window-charts"} and many:
         step("windows analysis")
-        delay = analyse_delay(casefile, casefile.windows or None)
+        delay = analyse_delay(casefile, casefile.windows or None, cache=cache)
     if "time-impact" in kinds and any(e.fragnet or e.activities for e in casefile.events):
         step("time impact analyses")
-        impacts = time_impacts(casefile)
+        impacts = time_impacts(casefile, cache=cache)
     if "quality" in kinds:
         step("schedule quality")
     quality = assess_casefile(casefile) if "quality" in kinds else None
@@ -125,7 +127,7 @@ def _gather(casefile: Casefile, tpl: Template, command: str, recover_days: int |
         comparisons = tuple(compare_snapshots(casefile, a.id, b.id) for a, b in zip(snaps, snaps[1:], strict=False))
     if "but-for" in kinds and many:
         step("but-for analysis")
-    butfor = but_for(casefile) if "but-for" in kinds and many else None
+    butfor = but_for(casefile, cache=cache) if "but-for" in kinds and many else None
     asbuilt = as_planned_vs_as_built(casefile) if "as-built" in kinds and many else None
     eot = None
     if kinds & {"delay-summary", "reconciliation"} and many and casefile.events:
@@ -133,8 +135,9 @@ def _gather(casefile: Casefile, tpl: Template, command: str, recover_days: int |
 
         if delay is None:
             step("windows analysis")
-            delay = analyse_delay(casefile, casefile.windows or None)
-        eot = delay_summary(casefile, delay=delay, sensitivity="reconciliation" in kinds, progress=step)
+            delay = analyse_delay(casefile, casefile.windows or None, cache=cache)
+        eot = delay_summary(casefile, delay=delay, sensitivity="reconciliation" in kinds, progress=step,
+                            cache=cache)
     if "acceleration" in kinds and recover_days is not None:
         step("acceleration analysis")
         recovery = recover(casefile, casefile.snapshots[-1].id, days=recover_days)
