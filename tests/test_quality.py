@@ -364,3 +364,24 @@ def test_check_quality_command_text_json_and_csv(monkeypatch):
     assert csv_out.output.splitlines()[0].startswith("snapshot,number,key,title,count")
     plain = runner.invoke(main, ["check", "case", "--json"])
     assert json.loads(plain.output)["valid"] is True  # without --quality: the old check
+
+
+def test_link_successors_each_once_in_the_order_of_their_first_link():
+    from hypothesis import given, settings
+    from hypothesis import strategies as st
+
+    from forensic.analysis.quality.checks import link_successors
+    from forensic.core.model import Link
+
+    # Worked by hand: B first (link 1), then C (link 2); B again and C again add nothing.
+    links = [Link("A", "B"), Link("A", "C"), Link("C", "B"), Link("B", "C")]
+    assert link_successors(links) == ["B", "C"]
+    assert link_successors([]) == []
+
+    @settings(max_examples=200, deadline=None)
+    @given(st.lists(st.sampled_from("ABCDEF"), max_size=30))
+    def same_as_the_first_occurrences(succs):
+        got = link_successors([Link("P", s) for s in succs])
+        assert got == [s for i, s in enumerate(succs) if s not in succs[:i]]
+
+    same_as_the_first_occurrences()

@@ -196,10 +196,10 @@ def activity_calendar(casefile: Casefile, a: Activity) -> Calendar:
 
 
 def link_successors(links: Iterable[Link]) -> list[str]:
-    """The successors of the links, each once, in link order."""
-    out: list[str] = []
-    for link in links:
-        if link.succ not in out:
-            out.append(link.succ)
-    return out
+    """The successors of the links, each once, in the order of their first link.
+
+    A dict keeps the first-seen order (a list searched for each link took
+    quadratic time: about 1 s a snapshot at 20,000 activities).
+    """
+    return list(dict.fromkeys(link.succ for link in links))
 
