@@ -17,13 +17,13 @@ def test_the_collector_is_back_on_after_the_command_and_off_during_it(monkeypatc
     import forensic.cli.schedule as command
 
     seen = []
-    real = command.load
+    real = command.load_lazily
 
     def load(*args, **kwargs):
         seen.append(gc.isenabled())
         return real(*args, **kwargs)
 
-    monkeypatch.setattr(command, "load", load)
+    monkeypatch.setattr(command, "load_lazily", load)
     assert gc.isenabled()
     frozen = gc.get_freeze_count()
     result = CliRunner().invoke(main, ["schedule", str(DEMO), "--json"])
@@ -48,13 +48,13 @@ def test_a_failing_command_still_gives_the_collector_back(tmp_path, monkeypatch)
     import forensic.cli.schedule as command
 
     seen = []
-    real = command.load
+    real = command.load_lazily
 
     def load(*args, **kwargs):
         seen.append(gc.isenabled())
         return real(*args, **kwargs)
 
-    monkeypatch.setattr(command, "load", load)
+    monkeypatch.setattr(command, "load_lazily", load)
     (tmp_path / "casefile.toml").write_text("not [valid toml", encoding="utf-8")
     result = CliRunner().invoke(main, ["schedule", str(tmp_path), "--json"])
     assert result.exit_code != 0 and "TOML" in result.output

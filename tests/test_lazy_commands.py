@@ -66,7 +66,7 @@ def test_the_output_is_the_eager_reads(demo_copy, mode, command, monkeypatch):
 
     lazy = _run(command, demo_copy)
     real = _common.load
-    monkeypatch.setattr(f"forensic.cli.{command}.load", lambda path, **_kw: real(path))  # the whole read, as before
+    monkeypatch.setattr(f"forensic.cli.{command}.load_lazily", real)  # the whole read, as before
     eager = _run(command, demo_copy)
     assert lazy.exit_code == eager.exit_code == 0, lazy.output
     assert lazy.output == eager.output
@@ -131,3 +131,51 @@ def test_compare_reads_only_its_two_snapshots_in_its_process(demo_copy, monkeypa
     result = _run("compare", demo_copy)
     assert result.exit_code == 0, result.output
     assert reads == ["U04", "U05"]
+
+
+# The error of `forensic check`, which reads the casefile whole before anything else, is the oracle below.
+
+def _as_check_says(folder, *group):
+    return CliRunner().invoke(main, [*group, "check", str(folder)])
+
+
+def _spoil_event_date(folder):
+    path = folder / "events.csv"
+    lines = path.read_text(encoding="utf-8").splitlines(keepends=True)
+    header = lines[0].rstrip("\r\n").split(",")
+    cells = lines[1].split(",")
+    cells[header.index("start")] = "2026-13-40"
+    lines[1] = ",".join(cells)
+    path.write_text("".join(lines), encoding="utf-8")
+
+
+@pytest.mark.parametrize("command", COMMANDS)
+def test_a_casefile_refused_at_load_lists_the_bad_snapshots_too(demo_copy, mode, command):
+    # The lazy load stops at the events' bad date; the whole read also names U08's duration.
+    break_duration(demo_copy, "U08")
+    _spoil_event_date(demo_copy)
+    result, whole = _run(command, demo_copy), _as_check_says(demo_copy)
+    assert result.exit_code == whole.exit_code == 1
+    assert result.output == whole.output and "U08" in whole.output and "events.csv" in whole.output
+
+
+@pytest.mark.parametrize("command", COMMANDS)
+def test_every_snapshot_over_a_ceiling_is_named(demo_copy, mode, command):
+    # 158 activities at most: U05 to U10 have 160-163, so six snapshots are over it (U04, read, has 155).
+    args = [a.format(c=demo_copy) for a in COMMANDS[command]]
+    args[args.index("U05")] = "U04"
+    result = CliRunner().invoke(main, ["--max-activities", "158", *args])
+    whole = _as_check_says(demo_copy, "--max-activities", "158")
+    assert result.exit_code == whole.exit_code == 1
+    assert result.output == whole.output and all(f"U{n:02d}" in whole.output for n in range(5, 11)), whole.output
+
+
+@pytest.mark.parametrize("command", COMMANDS)
+def test_a_fragnet_loop_is_named_once(demo_copy, mode, command):
+    # A link from the end of the works back into EV03's fragnet closes a loop in every snapshot the
+    # fragnet goes into; the whole read names it once.
+    with (demo_copy / "fragnets" / "EV03" / "links.csv").open("a", encoding="utf-8") as f:
+        f.write("SYS-COM-ME,CO1-INS,FS,0\n")
+    result, whole = _run(command, demo_copy), _as_check_says(demo_copy)
+    assert whole.exit_code == 1 and "loop" in whole.output, whole.output
+    assert result.exit_code == 1 and result.output == whole.output

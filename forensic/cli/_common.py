@@ -231,6 +231,22 @@ def load(path: Path, *, lazy: bool = False) -> Casefile:
     return cf
 
 
+def load_lazily(path: Path) -> Casefile:
+    """:func:`load` with ``lazy=True``; a casefile refused there is read whole, for the whole read's error.
+
+    The lazy load stops at the first problem of the manifest, events,
+    fragnets or file sizes; the whole read also lists every bad snapshot's
+    problems with it, as a command that reads the casefile whole says.
+    """
+    from forensic.core.errors import CasefileError
+
+    try:
+        return load(path, lazy=True)
+    except (CasefileError, click.ClickException):
+        load(path)  # raises the whole casefile's error
+        raise
+
+
 def emit(text: str, out: Path | None = None, casefile: Casefile | None = None,
          protected: Iterable[Path] = ()) -> None:
     """Print ``text``, or write it atomically to ``out`` (never over a casefile input).

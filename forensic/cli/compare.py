@@ -19,6 +19,7 @@ from ._common import (
     format_options,
     limit_hinted,
     load,
+    load_lazily,
     pick_format,
     say,
     table_text,
@@ -68,10 +69,10 @@ def compare_command(casefile: Path, old: str, new: str, as_json: bool, as_csv: b
     Example: forensic compare forensic-demo/riverside U01 U02 --json
 
     """
-    cf = load(casefile, lazy=True)  # the two snapshots read here, the others checked meanwhile
-    check = start_check(cf, [i for i in (old, new) if i in cf.snapshot_ids])
+    cf = load_lazily(casefile)  # the two snapshots read here, the others checked meanwhile
+    check = start_check(cf, [i for i in (old, new) if i in cf.snapshot_ids], read_whole=lambda: load(casefile))
     with limit_hinted():
-        with check.whole_error_on_error(lambda: load(casefile)):
+        with check.whole_error_on_error():
             for sid in (old, new):
                 cf.snapshot(sid)  # a bad one refuses the casefile as the whole read does; unknown ids here
         with check.finished_on_leaving():

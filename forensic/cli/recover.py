@@ -25,6 +25,7 @@ from ._common import (
     format_options,
     limit_hinted,
     load,
+    load_lazily,
     say,
     status,
     table_text,
@@ -66,9 +67,9 @@ def recover_command(
     """
     if (target is None) == (days is None):
         raise click.UsageError("give one of --target DATE and --days N")
-    cf = load(casefile, lazy=True)  # the snapshot read here, the others checked meanwhile
-    check = start_check(cf, [snapshot_id] if snapshot_id in cf.snapshot_ids else [])
-    with limit_hinted(), check.whole_error_on_error(lambda: load(casefile)):
+    cf = load_lazily(casefile)  # the snapshot read here, the others checked meanwhile
+    check = start_check(cf, [snapshot_id] if snapshot_id in cf.snapshot_ids else [], read_whole=lambda: load(casefile))
+    with limit_hinted(), check.whole_error_on_error():
         cf.snapshot(snapshot_id)  # a bad one refuses the casefile as the whole read does; an unknown id here
     with limit_hinted():
         check.finish()  # before the solver's run, which may take minutes: a bad casefile is refused at once

@@ -21,6 +21,7 @@ from ._common import (
     format_options,
     limit_hinted,
     load,
+    load_lazily,
     pick_format,
     say,
     stamped_json,
@@ -71,13 +72,13 @@ def _no_cycle_collection() -> Iterator[None]:
 
 
 def _schedule_one(casefile: Path, snapshot_id: str | None, as_json: bool, as_csv: bool) -> None:
-    cf = load(casefile, lazy=True)  # the snapshots read one at a time: a few held however many there are
+    cf = load_lazily(casefile)  # the snapshots read one at a time: a few held however many there are
     # Every loading command refuses a casefile with a bad snapshot: the others are checked while this one
     # is scheduled (in other processes when the casefile is large), and nothing is written before.
-    check = start_check(cf, snapshot_id)
+    check = start_check(cf, snapshot_id, read_whole=lambda: load(casefile))
     # Its tables are read here, within the ceilings; on an error the casefile is read whole, so a bad
     # casefile is refused with every bad snapshot's problems, as when it was read whole first.
-    with limit_hinted(), check.whole_error_on_error(lambda: load(casefile)):
+    with limit_hinted(), check.whole_error_on_error():
         snap = cf.snapshot(snapshot_id) if snapshot_id else cf.snapshots[-1]
     with limit_hinted(), check.finished_on_leaving():
         fmt = pick_format(as_json, as_csv)

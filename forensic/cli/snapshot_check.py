@@ -107,8 +107,10 @@ def _merged(answers: list[tuple]) -> CasefileError | None:
 class SnapshotCheck:
     """The check of a casefile's other snapshots, running aside or to be run at :meth:`finish`."""
 
-    def __init__(self, casefile: Casefile, besides: str | Sequence[str] | None) -> None:
+    def __init__(self, casefile: Casefile, besides: str | Sequence[str] | None,
+                 read_whole: Callable[[], object] | None = None) -> None:
         self.casefile = casefile
+        self._read_whole = read_whole
         self._procs: list = []
         self._conns: list = []
         snaps = casefile.snapshots
@@ -173,8 +175,19 @@ class SnapshotCheck:
         one process would raise it (:func:`_merged`). If a run gave none (its
         process died or failed otherwise), only the runs found clean count as
         checked, and the rest is checked here, so the error is this
-        process's own.
+        process's own. With ``read_whole`` (the eager load), a refusal reads
+        the casefile whole and raises that error instead, word for word the
+        error of a command that reads the casefile whole first: every ceiling
+        hit, every snapshot's problems, a fragnet loop named once.
         """
+        try:
+            self._finish()
+        except CasefileError:
+            if self._read_whole is not None:
+                self._read_whole()  # raises the whole casefile's error
+            raise
+
+    def _finish(self) -> None:
         snaps = self.casefile.snapshots
         if not isinstance(snaps, SnapshotSequence):
             return
@@ -195,7 +208,7 @@ class SnapshotCheck:
         snaps.check_rest()  # here: whatever was not checked aside (all of it without a second process)
 
     @contextmanager
-    def whole_error_on_error(self, read_whole: Callable[[], object]) -> Iterator[None]:
+    def whole_error_on_error(self) -> Iterator[None]:
         """A block reading the snapshots asked for; on an error in it the casefile is read whole first.
 
         The check is stopped and ``read_whole`` (the eager load) called: a
@@ -209,7 +222,8 @@ class SnapshotCheck:
             yield
         except Exception:
             self.cancel()
-            read_whole()  # raises the whole casefile's error, if it has one
+            if self._read_whole is not None:
+                self._read_whole()  # raises the whole casefile's error, if it has one
             raise
         except BaseException:
             self.cancel()
@@ -250,10 +264,12 @@ class SnapshotCheck:
         self._procs, self._conns = [], []
 
 
-def start_check(casefile: Casefile, besides: str | Sequence[str] | None) -> SnapshotCheck:
+def start_check(casefile: Casefile, besides: str | Sequence[str] | None,
+                read_whole: Callable[[], object] | None = None) -> SnapshotCheck:
     """Start checking every snapshot of ``casefile`` but ``besides`` (the latest if ``None``), aside where it pays.
 
     ``besides`` is the id of the snapshot the command reads itself, or the
-    ids of those it reads (``compare`` reads two).
+    ids of those it reads (``compare`` reads two); ``read_whole`` loads the
+    casefile eagerly, so that any refusal is worded as that load words it.
     """
-    return SnapshotCheck(casefile, besides)
+    return SnapshotCheck(casefile, besides, read_whole)
