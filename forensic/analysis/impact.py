@@ -282,7 +282,9 @@ def time_impact(
     if cache is None:
         return _time_impact(casefile, ids, into, progress_to_event, record, None)
     # A result is plain data (no schedule), computed once a call: a report and its delay summary share it.
-    return cache.get(casefile, "time impact", (), extra=(tuple(ids), into, progress_to_event),
+    # The record it was given is part of the key (by identity): the cache's own schedule of the last update.
+    return cache.get(casefile, "time impact", () if record is None else (record,),
+                     extra=(tuple(ids), into, progress_to_event),
                      compute=lambda: _time_impact(casefile, ids, into, progress_to_event, record, cache))
 
 
