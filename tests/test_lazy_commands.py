@@ -1,4 +1,4 @@
-"""``schedule``, ``compare`` and ``recover`` read only the snapshots they use and check the others meanwhile (issue 20).
+"""``schedule``, ``compare``, ``recover`` and ``windows`` read only the snapshots they use and check the others meanwhile (issue 20).
 
 They used to read the whole casefile before anything else. Now they read
 their own snapshots first and the others are checked aside (in forked
@@ -26,6 +26,8 @@ from tests.casefile_helpers import break_duration, break_u03_lag
 
 COMMANDS = {
     "schedule": ["schedule", "{c}", "--snapshot", "U05", "--json"],
+    "windows": ["windows", "{c}", "--windows", "BL,U05,U10", "--json", "--jobs", "1"],
+    "windows-jobs": ["windows", "{c}", "--json", "--jobs", "2"],
     "compare": ["compare", "{c}", "U04", "U05", "--json"],
     "recover": ["recover", "{c}", "--snapshot", "U05", "--days", "2", "--json"],
 }
@@ -66,7 +68,8 @@ def test_the_output_is_the_eager_reads(demo_copy, mode, command, monkeypatch):
 
     lazy = _run(command, demo_copy)
     real = _common.load
-    monkeypatch.setattr(f"forensic.cli.{command}.load_lazily", real)  # the whole read, as before
+    module = command.split("-")[0]
+    monkeypatch.setattr(f"forensic.cli.{module}.load_lazily", real)  # the whole read, as before
     eager = _run(command, demo_copy)
     assert lazy.exit_code == eager.exit_code == 0, lazy.output
     assert lazy.output == eager.output
@@ -163,7 +166,7 @@ def test_a_casefile_refused_at_load_lists_the_bad_snapshots_too(demo_copy, mode,
 def test_every_snapshot_over_a_ceiling_is_named(demo_copy, mode, command):
     # 158 activities at most: U05 to U10 have 160-163, so six snapshots are over it (U04, read, has 155).
     args = [a.format(c=demo_copy) for a in COMMANDS[command]]
-    args[args.index("U05")] = "U04"
+    args = [a.replace("U05", "U04") for a in args]
     result = CliRunner().invoke(main, ["--max-activities", "158", *args])
     whole = _as_check_says(demo_copy, "--max-activities", "158")
     assert result.exit_code == whole.exit_code == 1

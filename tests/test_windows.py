@@ -200,7 +200,8 @@ def test_windows_command_prints_json_and_tables(monkeypatch):
     import forensic.cli.windows as cmd
     from forensic.cli import main
 
-    monkeypatch.setattr(cmd, "load", lambda path, **_: chain_case())
+    monkeypatch.setattr(cmd, "load_lazily", lambda path: chain_case())
+    monkeypatch.setattr("forensic.cli._common.load", lambda path, **_: chain_case())  # the whole read on an error
     runner = CliRunner()
     out = runner.invoke(main, ["windows", "x", "--json"])
     assert out.exit_code == 0, out.output

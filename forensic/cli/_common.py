@@ -247,6 +247,21 @@ def load_lazily(path: Path) -> Casefile:
         raise
 
 
+@contextlib.contextmanager
+def whole_read_on_error(path: Path) -> Iterator[None]:
+    """A block working on a lazily loaded casefile: on an error in it the casefile is read whole first.
+
+    A bad casefile then raises the whole read's error (every bad snapshot,
+    every ceiling hit), as a command that reads the casefile whole first
+    says; a good one lets the block's own error pass.
+    """
+    try:
+        yield
+    except Exception:
+        load(path)  # raises the whole casefile's error, if it has one
+        raise
+
+
 def emit(text: str, out: Path | None = None, casefile: Casefile | None = None,
          protected: Iterable[Path] = ()) -> None:
     """Print ``text``, or write it atomically to ``out`` (never over a casefile input).

@@ -30,12 +30,13 @@ from ._common import (
     emit_xlsx,
     format_options,
     limit_hinted,
-    load,
+    load_lazily,
     pick_format,
     say,
     status,
     status_shown,
     table_text,
+    whole_read_on_error,
 )
 
 # The columns kept longest when a text table must fit a narrow terminal (--wide shows all).
@@ -78,14 +79,16 @@ def windows_command(casefile: Path, bounds: str | None, table: str | None, jobs:
         raise click.UsageError("--table chooses the table printed by --csv: add --csv")
     table = table or "windows"
     status(f"Loading {casefile} ...")
-    cf = load(casefile, lazy=True)  # each snapshot read as its window comes: a few held at a time (issue 20)
+    cf = load_lazily(casefile)  # each snapshot read as its window comes: a few held at a time (issue 20)
     ids = [s.strip() for s in bounds.split(",") if s.strip()] if bounds else None
-    if status_shown():  # reading the last update for its size only when it is shown
-        status(f"Analysing {len(cf.snapshots) - 1} windows of {len(cf.snapshots[-1].activities)} activities "
-               "(Ctrl-C stops) ...")
-    with limit_hinted():  # a snapshot read as its window comes may be over a ceiling
-        an = _analysed(cf, ids, jobs)
-    check_every_snapshot(cf)  # those between grouped windows too, before anything is written
+    # A refusal on the way reads the casefile whole, for the whole read's error (every bad snapshot).
+    with whole_read_on_error(casefile):
+        if status_shown():  # reading the last update for its size only when it is shown
+            status(f"Analysing {len(cf.snapshots) - 1} windows of {len(cf.snapshots[-1].activities)} activities "
+                   "(Ctrl-C stops) ...")
+        with limit_hinted():  # a snapshot read as its window comes may be over a ceiling
+            an = _analysed(cf, ids, jobs)
+        check_every_snapshot(cf)  # those between grouped windows too, before anything is written
     tables = {
         "windows": lambda: windows_table(an.windows),
         "contributors": lambda: contributors_table(an),
