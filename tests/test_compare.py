@@ -201,7 +201,7 @@ def test_compare_command_prints_groups_and_json(monkeypatch):
 
     cf = _pair()
     monkeypatch.setattr(cli_compare, "load_lazily", lambda path: cf)  # no casefile folder needed
-    monkeypatch.setattr(cli_compare, "load", lambda path: cf)  # the whole read, after an error
+    monkeypatch.setattr("forensic.cli._common.load", lambda path, **_kw: cf)  # the whole read, after an error
     runner = CliRunner()
     text = runner.invoke(main, ["compare", "case", "U1", "U2"])
     assert text.exit_code == 0, text.output

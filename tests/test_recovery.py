@@ -421,7 +421,7 @@ def test_tables_and_json_carry_the_plan_and_the_curve():
 def test_cli_recover_prints_json(monkeypatch):
     """`forensic recover --days 4 --json` prints the plan (CliRunner, as sqlite-utils tests its CLI)."""
     monkeypatch.setattr("forensic.cli.recover.load_lazily", lambda path: house())
-    monkeypatch.setattr("forensic.cli.recover.load", lambda path: house())
+    monkeypatch.setattr("forensic.cli._common.load", lambda path, **_kw: house())
     res = CliRunner().invoke(main, ["recover", "case", "--snapshot", "S", "--days", "4", "--json"])
     assert res.exit_code == 0, res.output
     doc = json.loads(res.output)
@@ -431,7 +431,7 @@ def test_cli_recover_prints_json(monkeypatch):
 def test_cli_recover_text_and_unreachable_target(monkeypatch):
     """Readable output names the cost; an unreachable target is `Error: ...` with exit 1 (sqlite-utils pattern)."""
     monkeypatch.setattr("forensic.cli.recover.load_lazily", lambda path: house())
-    monkeypatch.setattr("forensic.cli.recover.load", lambda path: house())
+    monkeypatch.setattr("forensic.cli._common.load", lambda path, **_kw: house())
     runner = CliRunner()
     res = runner.invoke(main, ["recover", "case", "--snapshot", "S", "--days", "4"])
     assert res.exit_code == 0, res.output
@@ -614,7 +614,7 @@ def test_time_limit_reached_reports_the_best_plan_found_not_proven(monkeypatch):
     Every plan is still the engine's: it meets the target, only its cost is not proven least.
     """
     monkeypatch.setattr("forensic.cli.recover.load_lazily", lambda path: house())
-    monkeypatch.setattr("forensic.cli.recover.load", lambda path: house())
+    monkeypatch.setattr("forensic.cli._common.load", lambda path, **_kw: house())
     runner = CliRunner()
     res = runner.invoke(main, ["recover", "case", "--snapshot", "S", "--days", "4", "--time-limit", "1e-9"])
     assert res.exit_code == 0, res.output
@@ -652,7 +652,7 @@ def test_time_limit_reached_reports_the_best_plan_found_not_proven(monkeypatch):
 def test_hostile_option_values_are_named_refusals(monkeypatch, args, code, words):
     """Hostile values give `Error:` naming the option or the reason, exit 1 (or 2 for click's usage errors), no traceback."""
     monkeypatch.setattr("forensic.cli.recover.load_lazily", lambda path: house())
-    monkeypatch.setattr("forensic.cli.recover.load", lambda path: house())
+    monkeypatch.setattr("forensic.cli._common.load", lambda path, **_kw: house())
     res = CliRunner().invoke(main, ["recover", "case", "--snapshot", "S", *args])
     assert res.exit_code == code, res.output
     assert "Error: " in res.output and words in res.output

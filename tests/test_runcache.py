@@ -98,17 +98,17 @@ def test_auto_windows_asked_for_by_name_with_the_cache_equal_them_afresh(demo):
 def test_a_scoped_cache_serves_its_parents_entries_and_keeps_its_own(demo):
     cache = RunCache()
     base = analyse_delay(demo, cache=cache)
-    kept = len(cache)
+    kept = cache.kept
     scoped = cache.scoped()
     again = analyse_delay(demo, cache=scoped)
-    assert len(scoped) == 0 and _text(again) == _text(base)  # everything served by the parent
+    assert scoped.kept == 0 and _text(again) == _text(base)  # everything served by the parent
     quarterly = ("BL", "U03", "U06", "U09", "U10")
     grouped = analyse_delay(demo, quarterly, cache=scoped)
-    assert len(scoped) > 0 and len(cache) == kept  # the grouping's new runs stay in the scoped cache
+    assert scoped.kept > 0 and cache.kept == kept  # the grouping's new runs stay in the scoped cache
     assert _text(grouped) == _text(analyse_delay(demo, quarterly))
     override = replace(demo, project=replace(demo.project, progress_logic="override"))
     assert _text(analyse_delay(override, cache=cache.scoped())) == _text(analyse_delay(override))
-    assert len(cache) == kept
+    assert cache.kept == kept
 
 
 def test_the_sensitivity_rows_leave_the_callers_cache_as_the_analysis_left_it(demo):
@@ -118,9 +118,9 @@ def test_the_sensitivity_rows_leave_the_callers_cache_as_the_analysis_left_it(de
 
     cache = RunCache()
     base = analyse_delay(demo, cache=cache)
-    kept = len(cache)
+    kept = cache.kept
     rows = sensitivity_rows(demo, base, 2, lambda _s: None, cache=cache)
-    assert len(cache) == kept
+    assert cache.kept == kept
     assert {r.setting for r in rows} >= {"window grouping", "progress logic", "critical float", "concurrency rule"}
     assert rows == sensitivity_rows(demo, analyse_delay(demo), 2, lambda _s: None)
 

@@ -207,7 +207,7 @@ def test_ids_by_splitting_on_hand_cases(text):
 def test_runs_are_consecutive_none_empty_and_about_equal(sizes, data):
     k = data.draw(st.integers(min_value=1, max_value=len(sizes)))
     ids = [f"S{i}" for i in range(len(sizes))]
-    runs = snapshot_check.consecutive_runs(ids, sizes, k)
+    runs = snapshot_check.runs_by_size(ids, sizes, k)
     assert len(runs) == k and all(runs) and [i for run in runs for i in run] == ids
     # Each run holds at most its share of the whole and one snapshot more (a cut falls at the first
     # snapshot whose running total reaches the next share).
@@ -217,15 +217,15 @@ def test_runs_are_consecutive_none_empty_and_about_equal(sizes, data):
 
 def test_runs_on_hand_worked_cases():
     # Worked by hand. Sizes 5,1,1,1,1,1 in 2 runs: half of 10 is reached at the first: [a] [b-f], 5 and 5.
-    assert snapshot_check.consecutive_runs("abcdef", [5, 1, 1, 1, 1, 1], 2) == [["a"], ["b", "c", "d", "e", "f"]]
+    assert snapshot_check.runs_by_size("abcdef", [5, 1, 1, 1, 1, 1], 2) == [["a"], ["b", "c", "d", "e", "f"]]
     # Four equal in 2: half reached at the second. In 3: shares 1.33 and 2.67 reached at b and c.
-    assert snapshot_check.consecutive_runs("abcd", [1, 1, 1, 1], 2) == [["a", "b"], ["c", "d"]]
-    assert snapshot_check.consecutive_runs("abcd", [1, 1, 1, 1], 3) == [["a", "b"], ["c"], ["d"]]
+    assert snapshot_check.runs_by_size("abcd", [1, 1, 1, 1], 2) == [["a", "b"], ["c", "d"]]
+    assert snapshot_check.runs_by_size("abcd", [1, 1, 1, 1], 3) == [["a", "b"], ["c"], ["d"]]
     # One large last snapshot: every run but the last keeps one snapshot for each run after it.
-    assert snapshot_check.consecutive_runs("abc", [1, 1, 100], 3) == [["a"], ["b"], ["c"]]
-    assert snapshot_check.consecutive_runs("abc", [0, 0, 0], 3) == [["a"], ["b"], ["c"]]
+    assert snapshot_check.runs_by_size("abc", [1, 1, 100], 3) == [["a"], ["b"], ["c"]]
+    assert snapshot_check.runs_by_size("abc", [0, 0, 0], 3) == [["a"], ["b"], ["c"]]
     with pytest.raises(ValueError, match="cannot cut 2 ids into 3 runs"):
-        snapshot_check.consecutive_runs("ab", [1, 1], 3)
+        snapshot_check.runs_by_size("ab", [1, 1], 3)
 
 
 def test_the_check_takes_a_process_a_core(demo_copy, aside, monkeypatch):
@@ -247,7 +247,7 @@ def test_the_check_takes_a_process_a_core(demo_copy, aside, monkeypatch):
 
 def _runs_of(folder, besides="U10"):
     cf = load_casefile(folder, lazy=True)
-    return SnapshotCheck._runs(cf.snapshots, besides)
+    return SnapshotCheck._runs(cf.snapshots, {besides})
 
 
 def test_problems_of_two_runs_come_in_snapshot_order(demo_copy, monkeypatch):

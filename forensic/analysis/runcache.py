@@ -53,7 +53,8 @@ class RunCache:
         """A cache that serves this one's entries and keeps its own (see the module notes)."""
         return RunCache(self)
 
-    def __len__(self) -> int:
+    @property
+    def kept(self) -> int:
         """How many entries this cache keeps itself (not its parent's)."""
         return len(self._store)
 

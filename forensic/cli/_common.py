@@ -238,13 +238,8 @@ def load_lazily(path: Path) -> Casefile:
     fragnets or file sizes; the whole read also lists every bad snapshot's
     problems with it, as a command that reads the casefile whole says.
     """
-    from forensic.core.errors import CasefileError
-
-    try:
+    with whole_read_on_error(path):
         return load(path, lazy=True)
-    except (CasefileError, click.ClickException):
-        load(path)  # raises the whole casefile's error
-        raise
 
 
 @contextlib.contextmanager
@@ -252,8 +247,11 @@ def whole_read_on_error(path: Path) -> Iterator[None]:
     """A block working on a lazily loaded casefile: on an error in it the casefile is read whole first.
 
     A bad casefile then raises the whole read's error (every bad snapshot,
-    every ceiling hit), as a command that reads the casefile whole first
-    says; a good one lets the block's own error pass.
+    every ceiling hit, a fragnet loop named once), as a command that reads
+    the casefile whole first says; a good one lets the block's own error (an
+    unknown id, say) pass. The commands that load lazily read and check
+    their snapshots inside it (``schedule``, ``compare``, ``recover``,
+    ``windows``).
     """
     try:
         yield

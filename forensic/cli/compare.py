@@ -18,11 +18,11 @@ from ._common import (
     emit_xlsx,
     format_options,
     limit_hinted,
-    load,
     load_lazily,
     pick_format,
     say,
     table_text,
+    whole_read_on_error,
 )
 from .snapshot_check import start_check
 
@@ -70,11 +70,11 @@ def compare_command(casefile: Path, old: str, new: str, as_json: bool, as_csv: b
 
     """
     cf = load_lazily(casefile)  # the two snapshots read here, the others checked meanwhile
-    check = start_check(cf, [i for i in (old, new) if i in cf.snapshot_ids], read_whole=lambda: load(casefile))
-    with limit_hinted():
-        with check.whole_error_on_error():
+    check = start_check(cf, [i for i in (old, new) if i in cf.snapshot_ids])
+    with whole_read_on_error(casefile), limit_hinted():  # a refusal worded by the whole read
+        with check.cancelled_on_error():
             for sid in (old, new):
-                cf.snapshot(sid)  # a bad one refuses the casefile as the whole read does; unknown ids here
+                cf.snapshot(sid)  # read first; an unknown id is refused here
         with check.finished_on_leaving():
             result = compare_snapshots(cf, old, new)
     if result.old_data_date > result.new_data_date:

@@ -24,11 +24,11 @@ from ._common import (
     emit_xlsx,
     format_options,
     limit_hinted,
-    load,
     load_lazily,
     say,
     status,
     table_text,
+    whole_read_on_error,
 )
 from .snapshot_check import start_check
 
@@ -68,10 +68,10 @@ def recover_command(
     if (target is None) == (days is None):
         raise click.UsageError("give one of --target DATE and --days N")
     cf = load_lazily(casefile)  # the snapshot read here, the others checked meanwhile
-    check = start_check(cf, [snapshot_id] if snapshot_id in cf.snapshot_ids else [], read_whole=lambda: load(casefile))
-    with limit_hinted(), check.whole_error_on_error():
-        cf.snapshot(snapshot_id)  # a bad one refuses the casefile as the whole read does; an unknown id here
-    with limit_hinted():
+    check = start_check(cf, [snapshot_id] if snapshot_id in cf.snapshot_ids else [])
+    with whole_read_on_error(casefile), limit_hinted():  # a refusal worded by the whole read
+        with check.cancelled_on_error():
+            cf.snapshot(snapshot_id)  # read first; an unknown id is refused here
         check.finish()  # before the solver's run, which may take minutes: a bad casefile is refused at once
     wanted: date | None = target.date() if target is not None else None
     status(f"Planning the recovery on {snapshot_id} (time limit {time_limit:g} s; Ctrl-C stops) ...")

@@ -20,12 +20,12 @@ from ._common import (
     emit_xlsx,
     format_options,
     limit_hinted,
-    load,
     load_lazily,
     pick_format,
     say,
     stamped_json,
     table_text,
+    whole_read_on_error,
 )
 from .snapshot_check import start_check
 
@@ -75,16 +75,17 @@ def _schedule_one(casefile: Path, snapshot_id: str | None, as_json: bool, as_csv
     cf = load_lazily(casefile)  # the snapshots read one at a time: a few held however many there are
     # Every loading command refuses a casefile with a bad snapshot: the others are checked while this one
     # is scheduled (in other processes when the casefile is large), and nothing is written before.
-    check = start_check(cf, snapshot_id, read_whole=lambda: load(casefile))
+    check = start_check(cf, snapshot_id)
     # Its tables are read here, within the ceilings; on an error the casefile is read whole, so a bad
     # casefile is refused with every bad snapshot's problems, as when it was read whole first.
-    with limit_hinted(), check.whole_error_on_error():
-        snap = cf.snapshot(snapshot_id) if snapshot_id else cf.snapshots[-1]
-    with limit_hinted(), check.finished_on_leaving():
-        fmt = pick_format(as_json, as_csv)
-        result = schedule_snapshot(cf, snap.id)
-        text = stamped_json(schedule_json(result)) if fmt == "json" else None
-        table = schedule_table(result, snap) if text is None else None
+    with whole_read_on_error(casefile):
+        with limit_hinted(), check.cancelled_on_error():
+            snap = cf.snapshot(snapshot_id) if snapshot_id else cf.snapshots[-1]
+        with limit_hinted(), check.finished_on_leaving():
+            fmt = pick_format(as_json, as_csv)
+            result = schedule_snapshot(cf, snap.id)
+            text = stamped_json(schedule_json(result)) if fmt == "json" else None
+            table = schedule_table(result, snap) if text is None else None
     if text is not None:
         # A generator: the table is built only when --xlsx asked for a workbook.
         emit_xlsx((schedule_table(result, snap) for _ in range(1)), cf)

@@ -24,14 +24,14 @@ import multiprocessing
 import os
 import sys
 from bisect import bisect_left
-from collections.abc import Callable, Iterator, Sequence
+from collections.abc import Collection, Iterator, Sequence
 from contextlib import contextmanager, suppress
 from itertools import accumulate
 
 from forensic.core.errors import CasefileError, LimitExceeded
 from forensic.core.model import Casefile, SnapshotSequence
 
-__all__ = ["ASIDE_FROM_BYTES", "SnapshotCheck", "consecutive_runs", "start_check"]
+__all__ = ["ASIDE_FROM_BYTES", "SnapshotCheck", "runs_by_size", "start_check"]
 
 ASIDE_FROM_BYTES = 4 * 1024 * 1024
 """The other snapshots' files are checked aside from this many bytes up, and a run of them is no smaller.
@@ -46,8 +46,11 @@ def _cores() -> int:
         return os.cpu_count() or 1
 
 
-def consecutive_runs(ids: Sequence[str], sizes: Sequence[int], k: int) -> list[list[str]]:
+def runs_by_size(ids: Sequence[str], sizes: Sequence[int], k: int) -> list[list[str]]:
     """``ids`` cut into ``k`` consecutive runs, none empty, of about equal total size.
+
+    (``windows --jobs`` cuts its windows by count instead:
+    :func:`forensic.cli.windows_jobs.consecutive_runs`.)
 
     Run ``j`` ends at the first id whose running total of ``sizes`` reaches
     ``j/k`` of the whole (each run keeps at least one id, and leaves one for
@@ -107,10 +110,8 @@ def _merged(answers: list[tuple]) -> CasefileError | None:
 class SnapshotCheck:
     """The check of a casefile's other snapshots, running aside or to be run at :meth:`finish`."""
 
-    def __init__(self, casefile: Casefile, besides: str | Sequence[str] | None,
-                 read_whole: Callable[[], object] | None = None) -> None:
+    def __init__(self, casefile: Casefile, besides: str | Sequence[str] | None) -> None:
         self.casefile = casefile
-        self._read_whole = read_whole
         self._procs: list = []
         self._conns: list = []
         snaps = casefile.snapshots
@@ -121,7 +122,7 @@ class SnapshotCheck:
         used = (besides,) if isinstance(besides, str) else tuple(besides)
         if not set(used) <= set(snaps.ids):
             return  # an unknown id is the command's to refuse
-        runs = self._runs(snaps, used)
+        runs = self._runs(snaps, set(used))
         if not runs:
             return  # a small casefile, one core, no fork: checked at finish
         try:
@@ -140,14 +141,13 @@ class SnapshotCheck:
             self.cancel()
 
     @staticmethod
-    def _runs(snaps: SnapshotSequence, besides: str | Sequence[str]) -> list[list[str]]:
+    def _runs(snaps: SnapshotSequence, used: Collection[str]) -> list[list[str]]:
         """The runs of other snapshots to check aside, one a process; none where it does not pay."""
         if not sys.platform.startswith("linux") or _cores() < 2:
             return []
         size = getattr(snaps.read, "size", None)
         if size is None:
             return []
-        used = {besides} if isinstance(besides, str) else set(besides)
         others = [h.id for h in snaps.heads if h.id not in used]
         sizes = [size(i) for i in others]
         total = sum(sizes)
@@ -156,12 +156,12 @@ class SnapshotCheck:
         k = min(_cores(), len(others))
         if ASIDE_FROM_BYTES:
             k = min(k, max(1, total // ASIDE_FROM_BYTES))
-        return consecutive_runs(others, sizes, k)
+        return runs_by_size(others, sizes, k)
 
     @property
     def aside(self) -> bool:
         """Whether the check runs in other processes."""
-        return bool(self._procs)
+        return self.processes > 0
 
     @property
     def processes(self) -> int:
@@ -175,19 +175,9 @@ class SnapshotCheck:
         one process would raise it (:func:`_merged`). If a run gave none (its
         process died or failed otherwise), only the runs found clean count as
         checked, and the rest is checked here, so the error is this
-        process's own. With ``read_whole`` (the eager load), a refusal reads
-        the casefile whole and raises that error instead, word for word the
-        error of a command that reads the casefile whole first: every ceiling
-        hit, every snapshot's problems, a fragnet loop named once.
+        process's own. (The commands word a refusal by reading the casefile
+        whole: :func:`forensic.cli._common.whole_read_on_error`.)
         """
-        try:
-            self._finish()
-        except CasefileError:
-            if self._read_whole is not None:
-                self._read_whole()  # raises the whole casefile's error
-            raise
-
-    def _finish(self) -> None:
         snaps = self.casefile.snapshots
         if not isinstance(snaps, SnapshotSequence):
             return
@@ -208,23 +198,10 @@ class SnapshotCheck:
         snaps.check_rest()  # here: whatever was not checked aside (all of it without a second process)
 
     @contextmanager
-    def whole_error_on_error(self) -> Iterator[None]:
-        """A block reading the snapshots asked for; on an error in it the casefile is read whole first.
-
-        The check is stopped and ``read_whole`` (the eager load) called: a
-        casefile with a bad snapshot raises its error there, listing the
-        problems of every bad snapshot in order, as the command did when it
-        read the casefile whole before anything else; a good one lets the
-        block's own error (an unknown id, say) pass. An interrupt only stops
-        the check.
-        """
+    def cancelled_on_error(self) -> Iterator[None]:
+        """A block whose error ends the command first (reading the snapshots asked for): the check is stopped."""
         try:
             yield
-        except Exception:
-            self.cancel()
-            if self._read_whole is not None:
-                self._read_whole()  # raises the whole casefile's error, if it has one
-            raise
         except BaseException:
             self.cancel()
             raise
@@ -264,12 +241,10 @@ class SnapshotCheck:
         self._procs, self._conns = [], []
 
 
-def start_check(casefile: Casefile, besides: str | Sequence[str] | None,
-                read_whole: Callable[[], object] | None = None) -> SnapshotCheck:
+def start_check(casefile: Casefile, besides: str | Sequence[str] | None) -> SnapshotCheck:
     """Start checking every snapshot of ``casefile`` but ``besides`` (the latest if ``None``), aside where it pays.
 
     ``besides`` is the id of the snapshot the command reads itself, or the
-    ids of those it reads (``compare`` reads two); ``read_whole`` loads the
-    casefile eagerly, so that any refusal is worded as that load words it.
+    ids of those it reads (``compare`` reads two).
     """
-    return SnapshotCheck(casefile, besides, read_whole)
+    return SnapshotCheck(casefile, besides)
